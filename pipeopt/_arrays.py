@@ -1,0 +1,49 @@
+"""Input-kind handling shared by the vectorized functions.
+
+The public functions accept scalars, lists, numpy arrays and pandas Series, broadcast them like
+numpy, and give back the same kind: a plain ``float`` when every input was a scalar, a
+``pandas.Series`` (keeping the first Series' index and name) when any input was a Series, and an
+``numpy.ndarray`` otherwise (lists come back as arrays, as numpy itself does).
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+
+def as_float_arrays(*values: Any) -> tuple[tuple[np.ndarray, ...], Any]:
+    """Broadcast inputs to float64 arrays and remember how to give the result back.
+
+    Returns the broadcast arrays and a *template* for :func:`restore`: ``None`` for all-scalar
+    input, the first Series for Series input, or ``"array"``.
+    """
+    template: Any = None
+    any_array = False
+    converted = []
+    for v in values:
+        if isinstance(v, pd.Series):
+            if template is None or template == "array":
+                template = v
+            converted.append(v.to_numpy(dtype=float))
+        else:
+            a = np.asarray(v, dtype=float)
+            if a.ndim > 0:
+                any_array = True
+            converted.append(a)
+    if template is None and any_array:
+        template = "array"
+    arrays = np.broadcast_arrays(*converted)
+    return tuple(arrays), template
+
+
+def restore(result: np.ndarray, template: Any) -> Any:
+    """Give ``result`` back in the kind recorded by :func:`as_float_arrays`."""
+    if template is None:
+        return float(np.asarray(result).reshape(()))
+    if isinstance(template, pd.Series):
+        return pd.Series(np.asarray(result).reshape(len(template)), index=template.index,
+                         name=template.name)
+    return np.asarray(result)

@@ -1,0 +1,378 @@
+"""Tests of pipeopt.friction against sources outside the project.
+
+Sources, named beside each check:
+- Colebrook (1939) equation solved independently with mpmath to 40 digits (tests/conftest.py);
+- the 40-digit check values in the project's shared REFERENCES.md table ("computed");
+- each explicit formula re-implemented here in mpmath straight from its paper;
+- the accuracy bands of the explicit formulas as measured against the exact root (REFERENCES.md);
+- Hazen-Williams: the worked example of The Engineering ToolBox, "Hazen-Williams Friction Loss
+  Equation" (200 gal/min, 3.048 in inner diameter, C = 140, 9 ft per 100 ft of pipe).
+"""
+
+from __future__ import annotations
+
+import warnings
+
+import mpmath as mp
+import numpy as np
+import pandas as pd
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from pipeopt import friction as fr
+from pipeopt.errors import InputError, RangeWarning, TransitionalFlowWarning
+
+from .conftest import colebrook_mpmath
+
+# ------------------------------------------------------------------------------------------
+# Colebrook-White to machine precision
+# ------------------------------------------------------------------------------------------
+
+
+def test_colebrook_matches_40_digit_roots_on_wide_grid(colebrook_grid):
+    # Reference: Colebrook (1939) eq. solved with mpmath at 40 digits (conftest).
+    re, rr, f_ref = colebrook_grid
+    f = fr.friction_factor(re, rr)
+    worst = np.max(np.abs(f / f_ref - 1.0))
+    assert worst <= 1e-13, worst
+
+
+def test_colebrook_random_points_against_mpmath():
+    # Reference: mpmath 40-digit root (conftest); random points over Re 4e3-1e8, rr 1e-7-0.05.
+    rng = np.random.default_rng(12)
+    re = 10 ** rng.uniform(np.log10(4e3), 8, 200)
+    rr = 10 ** rng.uniform(-7, np.log10(0.05), 200)
+    f_ref = np.array([colebrook_mpmath(a, b) for a, b in zip(re, rr, strict=True)])
+    assert np.max(np.abs(fr.colebrook_white(re, rr) / f_ref - 1)) <= 1e-13
+
+
+@pytest.mark.parametrize(
+    ("re", "rr", "f_ref"),
+    [  # Source: REFERENCES.md, "Colebrook-White values (computed, 3.7 / 2.51 form)", 40 digits.
+        (4e3, 0.0, 0.0399070141),
+        (1e4, 0.0, 0.0308829504),
+        (1e4, 1e-3, 0.0323818064),
+        (1e5, 0.0, 0.0179897731),
+        (1e5, 1e-4, 0.0185138661),
+        (1e5, 1e-2, 0.0385035435),
+        (1e6, 1e-4, 0.0134414377),
+        (1e6, 1e-3, 0.0199434658),
+        (1e7, 1e-3, 0.0196670524),
+        (1e8, 0.05, 0.0715509041),
+    ],
+)
+def test_colebrook_reference_table(re, rr, f_ref):
+    # the table gives 9 or 10 significant digits: half a unit of the 9th is at most 2.6e-9
+    assert fr.friction_factor(re, rr) == pytest.approx(f_ref, rel=2.6e-9)
+
+
+def test_colebrook_accurate_down_to_laminar_limit():
+    # Reference: mpmath root (conftest) in the transition band where the turbulent value is used.
+    for re in (2000.0, 2500.0, 3500.0):
+        for rr in (0.0, 1e-3, 0.05):
+            assert fr.colebrook_white(re, rr) == pytest.approx(colebrook_mpmath(re, rr),
+                                                               rel=1e-13)
+
+
+def test_colebrook_large_arrays_span_several_blocks():
+    # Consistency across the kernel's block boundaries: same values as element-wise calls.
+    rng = np.random.default_rng(3)
+    n = fr._CHUNK * 2 + 17
+    re = 10 ** rng.uniform(3.7, 8, n)
+    rr = 10 ** rng.uniform(-7, -1.4, n)
+    f = fr.colebrook_white(re, rr)
+    idx = [0, fr._CHUNK - 1, fr._CHUNK, 2 * fr._CHUNK, n - 1]
+    for i in idx:
+        assert f[i] == fr.colebrook_white(float(re[i]), float(rr[i]))
+
+
+# ------------------------------------------------------------------------------------------
+# explicit methods: exactly the published formula, and within the measured accuracy band
+# ------------------------------------------------------------------------------------------
+
+
+def _mp_swamee_jain(re, rr):  # Swamee & Jain (1976), J. Hydraul. Div. 102(HY5), eq. (14)
+    return mp.mpf("0.25") / mp.log10(rr / mp.mpf("3.7") + mp.mpf("5.74") / re ** mp.mpf("0.9")) ** 2
+
+
+def _mp_haaland(re, rr):  # Haaland (1983), J. Fluids Eng. 105(1), eq. (9)
+    x = mp.mpf("-1.8") * mp.log10((rr / mp.mpf("3.7")) ** mp.mpf("1.11") + mp.mpf("6.9") / re)
+    return 1 / x**2
+
+
+def _mp_serghides(re, rr):  # Serghides (1984), Chem. Eng. 91(5) (from memory), Steffensen form
+    k = rr / mp.mpf("3.7")
+    a = -2 * mp.log10(k + 12 / re)
+    b = -2 * mp.log10(k + mp.mpf("2.51") * a / re)
+    c = -2 * mp.log10(k + mp.mpf("2.51") * b / re)
+    return (a - (b - a) ** 2 / (c - 2 * b + a)) ** -2
+
+
+def _mp_churchill(re, rr):  # Churchill (1977), Chem. Eng. 84(24), 91-92
+    a = (mp.mpf("2.457") * mp.log(1 / ((7 / re) ** mp.mpf("0.9") + mp.mpf("0.27") * rr))) ** 16
+    b = (mp.mpf(37530) / re) ** 16
+    return 8 * ((8 / re) ** 12 + (a + b) ** mp.mpf("-1.5")) ** (mp.mpf(1) / 12)
+
+
+FORMULAS = {
+    "swamee-jain": (fr.swamee_jain, _mp_swamee_jain),
+    "haaland": (fr.haaland, _mp_haaland),
+    "serghides": (fr.serghides, _mp_serghides),
+    "churchill": (fr.churchill, _mp_churchill),
+}
+
+
+@pytest.mark.parametrize("method", sorted(FORMULAS))
+def test_explicit_method_is_its_published_formula(method):
+    fn, ref = FORMULAS[method]
+    rng = np.random.default_rng(5)
+    re = 10 ** rng.uniform(np.log10(5e3), 8, 50)
+    rr = 10 ** rng.uniform(-6, -2, 50)
+    got = fn(re, rr)
+    with mp.workdps(30):
+        want = np.array([float(ref(mp.mpf(a), mp.mpf(b))) for a, b in zip(re, rr, strict=True)])
+    np.testing.assert_allclose(got, want, rtol=1e-11)
+    # and through the dispatcher, for turbulent points
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RangeWarning)
+        np.testing.assert_allclose(fr.friction_factor(re, rr, method=method), got, rtol=0)
+
+
+@pytest.mark.parametrize(
+    ("method", "re_range", "rr_range", "band"),
+    [  # Accuracy bands against the exact root, REFERENCES.md ("computed" worst cases):
+        # Swamee-Jain 2.8 % over its stated range (5e3-1e8, 1e-6-1e-2), Swamee & Jain 1976;
+        ("swamee-jain", (5e3, 1e8), (1e-6, 1e-2), 0.029),
+        # Haaland 1.42 % for Re 4e3-1e8, rr 0-0.05 (Haaland 1983 claims about 1.5 %);
+        ("haaland", (4e3, 1e8), (1e-7, 0.05), 0.0143),
+        # Serghides 0.0031 % (Serghides 1984, from memory; computed worst case);
+        ("serghides", (4e3, 1e8), (1e-7, 0.05), 3.2e-5),
+        # Churchill 3.1 % for Re >= 4e3 (Churchill 1977; computed worst case).
+        ("churchill", (4e3, 1e8), (1e-7, 0.05), 0.032),
+    ],
+)
+def test_explicit_method_within_its_band_of_colebrook(method, re_range, rr_range, band):
+    re = np.logspace(np.log10(re_range[0]), np.log10(re_range[1]), 60)
+    rr = np.concatenate([[0.0], np.logspace(np.log10(rr_range[0]), np.log10(rr_range[1]), 30)])
+    if method == "swamee-jain":
+        rr = rr[1:]
+    R, K = np.meshgrid(re, rr)
+    fn = FORMULAS[method][0]
+    err = np.abs(fn(R, K) / fr.colebrook_white(R, K) - 1)
+    assert err.max() <= band
+    assert err.max() >= band / 3  # the band is real, not vacuous: the worst case is near it
+
+
+# ------------------------------------------------------------------------------------------
+# regimes
+# ------------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("method", ["colebrook", "swamee-jain", "haaland", "serghides"])
+def test_laminar_is_hagen_poiseuille(method):
+    # Hagen-Poiseuille: f = 64/Re (any fluid-mechanics text; common practice).
+    re = np.array([1.0, 100.0, 1999.0])
+    np.testing.assert_allclose(fr.friction_factor(re, 1e-3, method=method), 64 / re, rtol=1e-15)
+
+
+def test_churchill_tends_to_laminar_law():
+    # Churchill (1977) reduces to 64/Re for Re << 2000 (the paper's design intent).
+    assert fr.churchill(100.0, 0.0) == pytest.approx(0.64, rel=1e-6)
+
+
+def test_transition_band_warns_and_is_conservative():
+    re = np.array([1500.0, 2500.0, 3900.0, 1e5])
+    with pytest.warns(TransitionalFlowWarning, match="2 point"):
+        f = fr.friction_factor(re, 0.0)
+    assert f[1] > 64 / re[1] and f[2] > 64 / re[2]  # above the laminar value: conservative
+    assert f[1] == pytest.approx(colebrook_mpmath(2500.0, 0.0), rel=1e-13)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        fr.friction_factor(re, 0.0, transition="ignore")
+        fr.friction_factor(re, 0.0, method="churchill")
+    with pytest.raises(InputError, match="transitional"):
+        fr.friction_factor(re, 0.0, transition="raise")
+
+
+def test_flow_regime_labels():
+    assert fr.flow_regime(1999.0) == "laminar"
+    assert fr.flow_regime(2000.0) == "transitional"
+    assert fr.flow_regime(4000.0) == "turbulent"
+    s = fr.flow_regime(pd.Series([100.0, 3000.0], index=["a", "b"]))
+    assert list(s.index) == ["a", "b"] and list(s) == ["laminar", "transitional"]
+
+
+# ------------------------------------------------------------------------------------------
+# input kinds
+# ------------------------------------------------------------------------------------------
+
+
+def test_input_kinds_agree():
+    re = [1e4, 1e5, 1e6]
+    rr = 1e-4
+    scalar = [fr.friction_factor(r, rr) for r in re]
+    assert all(type(x) is float for x in scalar)
+    as_list = fr.friction_factor(re, rr)
+    as_array = fr.friction_factor(np.array(re), rr)
+    as_series = fr.friction_factor(pd.Series(re, index=list("xyz"), name="re"), rr)
+    assert isinstance(as_list, np.ndarray) and isinstance(as_array, np.ndarray)
+    assert isinstance(as_series, pd.Series) and list(as_series.index) == list("xyz")
+    np.testing.assert_array_equal(as_list, scalar)
+    np.testing.assert_array_equal(as_array, scalar)
+    np.testing.assert_array_equal(as_series.to_numpy(), scalar)
+
+
+def test_broadcasting_like_numpy():
+    re = np.array([[1e4], [1e6]])
+    rr = np.array([0.0, 1e-4, 1e-2])
+    f = fr.friction_factor(re, rr)
+    assert f.shape == (2, 3)
+    assert f[1, 2] == fr.friction_factor(1e6, 1e-2)
+
+
+def test_empty_input():
+    assert fr.friction_factor(np.array([]), 0.0).shape == (0,)
+
+
+# ------------------------------------------------------------------------------------------
+# errors
+# ------------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("re", "rr", "match"),
+    [
+        (0.0, 1e-4, r"reynolds must be positive; got 0\.0"),
+        (-5.0, 1e-4, r"reynolds must be positive; got -5\.0"),
+        ([1e5, np.nan], 1e-4, r"reynolds must not be NaN; got nan at position 1"),
+        (np.inf, 1e-4, r"reynolds must be finite; got inf"),
+        (1e5, np.nan, r"relative_roughness must not be NaN"),
+        (1e5, -1e-4, r"relative_roughness must be >= 0; got -0\.0001"),
+        (1e5, 0.08, r"relative_roughness must not exceed 0\.05 .*got 0\.08"),
+    ],
+)
+@pytest.mark.parametrize("method", fr.METHODS)
+def test_invalid_inputs_raise_with_message(re, rr, match, method):
+    with pytest.raises(InputError, match=match):
+        fr.friction_factor(re, rr, method=method)
+    with pytest.raises(ValueError):  # an InputError is a ValueError
+        fr.friction_factor(re, rr, method=method)
+
+
+def test_unknown_method_and_transition_option():
+    with pytest.raises(InputError, match="method must be one of colebrook"):
+        fr.friction_factor(1e5, 0.0, method="moody")
+    with pytest.raises(InputError, match="transition must be"):
+        fr.friction_factor(1e5, 0.0, transition="loud")
+
+
+def test_colebrook_white_refuses_laminar():
+    with pytest.raises(InputError, match="reynolds must be >= 2000"):
+        fr.colebrook_white(500.0, 0.0)
+
+
+def test_swamee_jain_out_of_range_warns():
+    with pytest.warns(RangeWarning, match="Swamee-Jain"):
+        fr.friction_factor(1e5, 0.03, method="swamee-jain")
+
+
+# ------------------------------------------------------------------------------------------
+# head loss
+# ------------------------------------------------------------------------------------------
+
+
+def test_darcy_weisbach_by_hand():
+    # Darcy-Weisbach h = f L/D V^2/(2g), g = 9.80665 m/s^2 (CGPM 1901); worked by hand:
+    # 0.02 * 1000/0.3 * 1.5^2 / 19.6133 = 7.64787...
+    assert fr.darcy_weisbach_head_loss(0.02, 1000.0, 0.3, 1.5) == pytest.approx(
+        0.02 * 1000 / 0.3 * 2.25 / 19.6133, rel=1e-14)
+    assert fr.minor_head_loss(6.5, 1.5) == pytest.approx(6.5 * 2.25 / 19.6133, rel=1e-14)
+
+
+def test_line_head_loss_is_friction_plus_minor():
+    q, d, length, eps, rho, mu, k = 0.1, 0.3, 1000.0, 4.5e-5, 998.2, 1.0016e-3, 6.5
+    v = q / (np.pi * d * d / 4)
+    re = rho * v * d / mu
+    f = colebrook_mpmath(re, eps / d)  # Colebrook (1939), mpmath root
+    want = (f * length / d + k) * v * v / (2 * 9.80665)
+    assert fr.line_head_loss(q, d, length, eps, rho, mu, k_sum=k) == pytest.approx(want, rel=1e-12)
+
+
+def test_hazen_williams_engineering_toolbox_example():
+    # Source: The Engineering ToolBox, "Hazen-Williams Friction Loss Equation", worked example:
+    # 200 gal/min in a 3 in PE DR 15 pipe of 3.048 in inner diameter, C = 140, 30 ft of pipe:
+    # 9 ft H2O per 100 ft, so 2.7 ft over 30 ft (rounded to one figure per 100 ft there).
+    q = 200 * 3.785411784e-3 / 60
+    d = 3.048 * 0.0254
+    length = 30 * 0.3048
+    h = fr.hazen_williams_head_loss(q, d, length, 140.0)  # 2.7 m/s, inside the usual range
+    assert h / 0.3048 == pytest.approx(2.7, rel=0.04)
+
+
+def test_hazen_williams_si_matches_us_customary_form():
+    # US customary form h = 4.727 L Q^1.852 / (C^1.852 D^4.8704) with ft and ft^3/s
+    # (common practice; e.g. the form quoted in water-supply handbooks, from memory).
+    q_cfs, d_ft, l_ft, c = 3.0, 1.5, 5000.0, 120.0
+    h_us = 4.727 * l_ft * q_cfs**1.852 / (c**1.852 * d_ft**4.8704)
+    h_si = fr.hazen_williams_head_loss(q_cfs * 0.3048**3, d_ft * 0.3048, l_ft * 0.3048, c)
+    assert h_si / 0.3048 == pytest.approx(h_us, rel=2e-3)
+
+
+def test_c_factor_roughness_round_trip():
+    # Consistency of the two conversions (each is the inverse of the other at fixed D, V).
+    for c in (80.0, 110.0, 140.0):
+        eps = fr.roughness_from_hazen_williams_c(c, 0.4, 1.2, 999.1, 1.1376e-3)
+        back = fr.hazen_williams_c_from_roughness(eps, 0.4, 1.2, 999.1, 1.1376e-3)
+        assert back == pytest.approx(c, rel=1e-10)
+
+
+def test_c_factor_smoother_than_smooth_is_refused():
+    with pytest.raises(InputError, match="less friction than a smooth pipe"):
+        fr.roughness_from_hazen_williams_c(170.0, 0.6, 0.3, 999.1, 1.1376e-3)
+
+
+# ------------------------------------------------------------------------------------------
+# properties (hypothesis)
+# ------------------------------------------------------------------------------------------
+
+re_turbulent = st.floats(min_value=4e3, max_value=1e8)
+rough = st.floats(min_value=0.0, max_value=0.05)
+
+
+@settings(max_examples=300, deadline=None)
+@given(a=re_turbulent, b=re_turbulent)
+def test_smooth_f_non_increasing_in_reynolds(a, b):
+    lo, hi = min(a, b), max(a, b)
+    assert fr.friction_factor(hi, 0.0) <= fr.friction_factor(lo, 0.0)
+
+
+@settings(max_examples=300, deadline=None)
+@given(re=re_turbulent, a=rough, b=rough)
+def test_f_non_decreasing_in_roughness(re, a, b):
+    lo, hi = min(a, b), max(a, b)
+    assert fr.friction_factor(re, hi) >= fr.friction_factor(re, lo)
+
+
+@settings(max_examples=200, deadline=None)
+@given(q1=st.floats(1e-3, 5.0), q2=st.floats(1e-3, 5.0), eps=st.floats(0.0, 2e-3),
+       d=st.floats(0.05, 2.0))
+def test_head_loss_increasing_in_flow(q1, q2, eps, d):
+    lo, hi = min(q1, q2), max(q1, q2)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", TransitionalFlowWarning)
+        h_lo = fr.line_head_loss(lo, d, 1000.0, eps, 998.2, 1.0016e-3, k_sum=3.0)
+        h_hi = fr.line_head_loss(hi, d, 1000.0, eps, 998.2, 1.0016e-3, k_sum=3.0)
+    assert h_hi >= h_lo
+
+
+@settings(max_examples=100, deadline=None)
+@given(st.lists(st.tuples(re_turbulent, rough), min_size=1, max_size=20))
+def test_kinds_agree_property(points):
+    re = [p[0] for p in points]
+    rr = [p[1] for p in points]
+    arr = fr.friction_factor(np.array(re), np.array(rr))
+    ser = fr.friction_factor(pd.Series(re), rr)
+    np.testing.assert_array_equal(fr.friction_factor(re, rr), arr)
+    np.testing.assert_array_equal(ser.to_numpy(), arr)
+    assert fr.friction_factor(re[0], rr[0]) == arr[0]
