@@ -1,0 +1,621 @@
+"""Pipe catalog: standard sizes with real inner diameters, pressure classes and materials.
+
+The bundled tables (CSV files in this package, one row per size and class, each with its
+provenance) hold the standards' dimensions:
+
+========================  ==========================================  =====================
+material                  standard                                    designation example
+========================  ==========================================  =====================
+``steel``                 ASME B36.10M, NPS 1/2–48, Sch 10/STD/40/XS/80  ``"NPS 12 Sch 40"``
+``stainless-steel``       ASME B36.19M, Sch 5S/10S/40S/80S              ``"NPS 4 Sch 10S"``
+``ductile-iron``          EN 545 / ISO 2531, DN 80–1200, C25–C64        ``"DN 300 C40"``
+``pe100``, ``pe80``       ISO 4427 / EN 12201, 20–1200 mm, SDR 26–7.4    ``"315 SDR 17"``
+``pvc-u``                 ISO 1452 / EN 1452, 63–630 mm                 ``"110 PN 10"``
+========================  ==========================================  =====================
+
+and a materials table (roughness, aging rate, Hazen–Williams C, elastic modulus, Poisson's
+ratio, density, embodied carbon, each with its source). No prices: pipe cost is a study input.
+
+Everything in the tables returned here is SI (m, Pa); column names carry the unit.
+
+Examples
+--------
+>>> from pipeopt import catalog
+>>> row = catalog.lookup("pe100", "315 sdr17")
+>>> row["designation"], round(float(row["inner_diameter_m"]), 4)
+('315 SDR 17', 0.2776)
+>>> catalog.list_sizes("ductile-iron", min_diameter="0.3 m", max_diameter="0.41 m",
+...                    pressure_class="C40")["designation"].tolist()
+['DN 300 C40', 'DN 350 C40', 'DN 400 C40']
+"""
+
+from __future__ import annotations
+
+import difflib
+import functools
+import io
+import re
+from dataclasses import dataclass
+from importlib import resources
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from ..errors import InputError
+from ..pressure import STAINLESS_DEFAULTS, STEEL_DEFAULTS, barlow_pressure
+from ..units import to_si
+
+__all__ = [
+    "Catalog",
+    "Material",
+    "SIZE_COLUMNS",
+    "load_catalog",
+    "default_catalog",
+    "list_materials",
+    "list_sizes",
+    "lookup",
+    "get_material",
+    "read_sizes",
+    "read_materials",
+]
+
+#: Columns of a size table, all SI.
+SIZE_COLUMNS = ["material", "designation", "nominal", "pressure_class", "outside_diameter_m",
+                "wall_m", "lining_m", "inner_diameter_m", "pressure_rating_pa", "rating_basis",
+                "provenance"]
+
+_BUNDLED_SIZE_FILES = ("steel", "stainless-steel", "ductile-iron", "pe100", "pe80", "pvc-u")
+
+# unit suffixes a column name may carry in a size or materials file
+_LENGTH_SUFFIX = {"mm": 1e-3, "m": 1.0, "in": 0.0254, "cm": 1e-2}
+_PRESSURE_SUFFIX = {"bar": 1e5, "pa": 1.0, "kpa": 1e3, "mpa": 1e6, "psi": 6894.757293168}
+_SIZE_QUANTITIES = {"outside_diameter": ("length", _LENGTH_SUFFIX),
+                    "wall": ("length", _LENGTH_SUFFIX),
+                    "lining": ("length", _LENGTH_SUFFIX),
+                    "inner_diameter": ("length", _LENGTH_SUFFIX),
+                    "pressure_rating": ("pressure", _PRESSURE_SUFFIX)}
+
+
+@dataclass(frozen=True)
+class Material:
+    """Properties of one pipe material, SI.
+
+    Attributes
+    ----------
+    key : str
+        Name used in studies and in the catalog (``"ductile-iron"``).
+    description : str
+        Words for reports.
+    catalog : str or None
+        Key of the bundled size table, None when no sizes are bundled.
+    roughness : float
+        New-pipe absolute roughness [m].
+    aging_rate : float
+        Typical linear roughness growth [m/yr] (used only when a study asks for it).
+    hazen_williams_c : float
+        Typical Hazen–Williams C of new pipe [-].
+    elastic_modulus : float
+        Young's modulus of the wall [Pa].
+    poisson_ratio : float
+        Poisson's ratio of the wall [-].
+    density : float
+        Density of the wall material [kg/m³].
+    embodied_carbon : float or None
+        Cradle-to-gate emission factor [kg CO2e per kg of pipe], None where not known.
+    sources : dict
+        Source of each property (``{"roughness": "Moody 1944 chart, ..."}``).
+    """
+
+    key: str
+    description: str
+    catalog: str | None
+    roughness: float
+    aging_rate: float
+    hazen_williams_c: float
+    elastic_modulus: float
+    poisson_ratio: float
+    density: float
+    embodied_carbon: float | None
+    sources: dict
+
+
+# --------------------------------------------------------------------------------------------
+# reading files
+# --------------------------------------------------------------------------------------------
+def _read_csv(source: Any, what: str) -> pd.DataFrame:
+    try:
+        if isinstance(source, pd.DataFrame):
+            return source.copy()
+        if isinstance(source, (str, Path)) and not str(source).lstrip().startswith("#") \
+                and "\n" not in str(source):
+            path = Path(source)
+            if not path.is_file():
+                raise InputError(f"{what}: no such file {str(path)!r}")
+            return pd.read_csv(path, comment="#", dtype=str, keep_default_na=False,
+                               skipinitialspace=True)
+        return pd.read_csv(io.StringIO(str(source)), comment="#", dtype=str,
+                           keep_default_na=False, skipinitialspace=True)
+    except (pd.errors.ParserError, UnicodeDecodeError) as exc:
+        raise InputError(f"{what}: not a readable CSV file ({exc})") from None
+
+
+def _column_unit(columns: list[str], base: str, suffixes: dict[str, float]) -> tuple[str, float]:
+    """Find the column for quantity ``base``: ``base_<unit>`` (factor) or bare ``base`` (0)."""
+    for col in columns:
+        if col == base:
+            return col, 0.0
+        if col.startswith(base + "_"):
+            unit = col[len(base) + 1:].lower()
+            if unit in suffixes:
+                return col, suffixes[unit]
+    return "", 0.0
+
+
+def _cell_to_si(text: str, factor: float, kind: str, where: str) -> float:
+    text = str(text).strip()
+    if factor:  # the column name carries the unit: the cell is a bare number
+        try:
+            value = float(text)
+        except ValueError:
+            raise InputError(f"{where}: expected a number, got {text!r}") from None
+        if not np.isfinite(value):
+            raise InputError(f"{where}: expected a finite number, got {text!r}")
+        return value * factor
+    return float(to_si(text, kind, where))  # refuses a bare number: "missing unit"
+
+
+def read_sizes(source: Any, material: str | None = None, name: str = "sizes file") -> pd.DataFrame:
+    """Read and validate a size table (the bundled format, or a user's own file).
+
+    Parameters
+    ----------
+    source : path, CSV text or DataFrame
+        Columns ``designation``, ``outside_diameter``, ``wall`` and optionally ``material``,
+        ``nominal``, ``pressure_class``, ``lining``, ``pressure_rating``, ``provenance``. A
+        dimensional column either carries its unit in its name (``outside_diameter_mm``,
+        ``pressure_rating_bar``) or every cell carries one (``"114.3 mm"``).
+    material : str, optional
+        Material key for every row, when the file has no ``material`` column.
+    name : str
+        How error messages refer to the file.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns :data:`SIZE_COLUMNS`, SI.
+
+    Raises
+    ------
+    InputError
+        Naming the row (1-based, data rows) and column of any bad value: a missing unit, a
+        negative or zero dimension, a wall thicker than the radius, a duplicate designation.
+    """
+    raw = _read_csv(source, name)
+    raw.columns = [str(c).strip().lower() for c in raw.columns]
+    cols = list(raw.columns)
+    if "designation" not in cols:
+        raise InputError(f"{name}: missing column 'designation' (columns found: {cols})")
+    if "material" not in cols and material is None:
+        raise InputError(f"{name}: missing column 'material' (or pass material=...)")
+    found = {}
+    for base, (kind, suffixes) in _SIZE_QUANTITIES.items():
+        col, factor = _column_unit(cols, base, suffixes)
+        if not col and base in ("outside_diameter", "wall"):
+            raise InputError(f"{name}: missing column {base!r} (write e.g. {base}_mm)")
+        found[base] = (col, factor, kind)
+    rows = []
+    for i, rec in enumerate(raw.to_dict("records"), start=1):
+        def value(base: str, default: float | None = None, rec=rec, i=i) -> float | None:
+            col, factor, kind = found[base]
+            if not col or str(rec[col]).strip() == "":
+                return default
+            return _cell_to_si(rec[col], factor, kind, f"{name}: row {i}, column {col}")
+
+        od = value("outside_diameter")
+        wall = value("wall")
+        lining = value("lining", 0.0)
+        rating = value("pressure_rating")
+        where = f"{name}: row {i}"
+        if od is None or od <= 0:
+            raise InputError(f"{where}, column {found['outside_diameter'][0]}: outside diameter "
+                             f"must be positive; got {rec[found['outside_diameter'][0]]!r}")
+        if wall is None or wall <= 0:
+            raise InputError(f"{where}, column {found['wall'][0]}: wall must be positive; got "
+                             f"{rec[found['wall'][0]]!r}")
+        if lining < 0:
+            raise InputError(f"{where}, column {found['lining'][0]}: lining must be >= 0")
+        if 2 * (wall + lining) >= od:
+            raise InputError(f"{where}, column {found['wall'][0]}: wall plus lining "
+                             f"({(wall + lining) * 1e3:.4g} mm) is not less than the radius "
+                             f"({od / 2 * 1e3:.4g} mm)")
+        if rating is not None and rating <= 0:
+            raise InputError(f"{where}, column {found['pressure_rating'][0]}: pressure rating "
+                             f"must be positive")
+        inner = od - 2 * wall - 2 * lining
+        given_inner = value("inner_diameter")
+        if given_inner is not None and abs(given_inner - inner) > 0.051e-3:
+            raise InputError(f"{where}, column {found['inner_diameter'][0]}: inner diameter "
+                             f"{given_inner * 1e3:.4g} mm is not outside diameter - 2 x wall - "
+                             f"2 x lining = {inner * 1e3:.4g} mm")
+        designation = str(rec["designation"]).strip()
+        if not designation:
+            raise InputError(f"{where}, column designation: empty designation")
+        mat = str(rec.get("material", "") or material or "").strip()
+        if not mat:
+            raise InputError(f"{where}, column material: empty material")
+        rows.append({
+            "material": mat, "designation": designation,
+            "nominal": str(rec.get("nominal", "")).strip() or designation,
+            "pressure_class": str(rec.get("pressure_class", "")).strip(),
+            "outside_diameter_m": od, "wall_m": wall, "lining_m": lining,
+            "inner_diameter_m": inner,
+            "pressure_rating_pa": np.nan if rating is None else rating,
+            "rating_basis": "" if rating is None else "class or PN of the standard",
+            "provenance": str(rec.get("provenance", "")).strip() or f"user file ({name})",
+        })
+    out = pd.DataFrame(rows, columns=SIZE_COLUMNS)
+    dup = out.duplicated(["material", "designation"], keep="first")
+    if dup.any():
+        i = int(np.flatnonzero(dup.to_numpy())[0]) + 1
+        raise InputError(f"{name}: row {i}, column designation: duplicate designation "
+                         f"{out['designation'].iloc[i - 1]!r}")
+    return out
+
+
+_MATERIAL_NUMERIC = {
+    # column: (attribute, factor to SI, rule, allow empty)
+    "roughness_mm": ("roughness", 1e-3, "nonneg", False),
+    "aging_mm_per_year": ("aging_rate", 1e-3, "nonneg", False),
+    "hazen_williams_c": ("hazen_williams_c", 1.0, "pos", False),
+    "elastic_modulus_gpa": ("elastic_modulus", 1e9, "pos", False),
+    "poisson_ratio": ("poisson_ratio", 1.0, "poisson", False),
+    "density_kg_m3": ("density", 1.0, "pos", False),
+    "embodied_carbon_kg_per_kg": ("embodied_carbon", 1.0, "nonneg", True),
+}
+
+
+def read_materials(source: Any, name: str = "materials file") -> dict[str, Material]:
+    """Read and validate a materials table (the bundled ``materials.csv`` columns).
+
+    Raises
+    ------
+    InputError
+        Naming the row and column of a bad value (negative roughness, Poisson's ratio outside
+        [0, 0.5), a missing column).
+    """
+    raw = _read_csv(source, name)
+    raw.columns = [str(c).strip().lower() for c in raw.columns]
+    required = ["material", *_MATERIAL_NUMERIC]
+    missing = [c for c in required if c not in raw.columns]
+    if missing:
+        raise InputError(f"{name}: missing column(s) {missing}; the columns are those of the "
+                         f"bundled materials.csv")
+    out: dict[str, Material] = {}
+    for i, rec in enumerate(raw.to_dict("records"), start=1):
+        key = str(rec["material"]).strip()
+        if not key:
+            raise InputError(f"{name}: row {i}, column material: empty material name")
+        values: dict[str, Any] = {}
+        for col, (attr, factor, rule, optional) in _MATERIAL_NUMERIC.items():
+            text = str(rec[col]).strip()
+            where = f"{name}: row {i}, column {col}"
+            if text == "" and optional:
+                values[attr] = None
+                continue
+            try:
+                v = float(text)
+            except ValueError:
+                raise InputError(f"{where}: expected a number, got {text!r}") from None
+            bad = (not np.isfinite(v) or (rule == "pos" and v <= 0)
+                   or (rule == "nonneg" and v < 0) or (rule == "poisson" and not 0 <= v < 0.5))
+            if bad:
+                words = {"pos": "must be positive", "nonneg": "must be >= 0",
+                         "poisson": "must be in [0, 0.5)"}[rule]
+                raise InputError(f"{where}: {words}; got {text!r}")
+            values[attr] = v * factor
+        sources = {k[:-len("_source")]: str(v) for k, v in rec.items()
+                   if k.endswith("_source")}
+        out[key] = Material(key=key, description=str(rec.get("description", key)),
+                            catalog=str(rec.get("catalog", "")).strip() or None,
+                            sources=sources, **values)
+    return out
+
+
+# --------------------------------------------------------------------------------------------
+# designations
+# --------------------------------------------------------------------------------------------
+def _normalize(designation: str) -> str:
+    s = str(designation).upper().replace("SCHEDULE", "SCH")
+    return re.sub(r"[\s_]+", "", s)
+
+
+_FIRST_NUMBER = re.compile(r"(\d+(?:[./-]\d+)*)")
+
+
+def _size_number(norm: str) -> tuple[float, str]:
+    """Split a normalized designation into its size number and the rest (the class)."""
+    m = _FIRST_NUMBER.search(norm)
+    if m is None:
+        return np.nan, norm
+    text = m.group(1)
+    whole, _, frac = text.partition("-")
+    try:
+        if "/" in whole and not frac:
+            a, b = whole.split("/")
+            value = float(a) / float(b)
+        else:
+            value = float(whole) + (float(frac.split("/")[0]) / float(frac.split("/")[1])
+                                    if "/" in frac else 0.0)
+    except (ValueError, ZeroDivisionError):
+        value = np.nan
+    return value, norm[:m.start()] + "#" + norm[m.end():]
+
+
+def _nearest_designations(designation: str, names: list[str], n: int = 3) -> list[str]:
+    """Nearest valid designations: same class and closest size first, then by spelling."""
+    target, rest = _size_number(_normalize(designation))
+    scored = []
+    for name in names:
+        value, name_rest = _size_number(_normalize(name))
+        if name_rest == rest and np.isfinite(target) and np.isfinite(value):
+            scored.append((abs(value - target), name))
+    if scored:
+        return [name for _, name in sorted(scored)[:n]]
+    norm = {_normalize(x): x for x in names}
+    return [norm[k] for k in difflib.get_close_matches(_normalize(designation), list(norm), n=n,
+                                                       cutoff=0.5)]
+
+
+# --------------------------------------------------------------------------------------------
+# the catalog
+# --------------------------------------------------------------------------------------------
+class Catalog:
+    """Sizes and materials, with the query API.
+
+    Use :func:`default_catalog` for the bundled data, :func:`load_catalog` to add a user's own
+    sizes or materials.
+
+    Parameters
+    ----------
+    sizes : pandas.DataFrame
+        Columns :data:`SIZE_COLUMNS`, SI (from :func:`read_sizes`).
+    materials : dict of str to Material
+        From :func:`read_materials`.
+    steel_rating : dict, optional
+        Barlow parameters by material key for sizes without a rated class (steel):
+        ``{"steel": {"allowable_stress": ..., "joint_factor": ..., "corrosion_allowance": ...,
+        "mill_tolerance": ...}}`` in SI. Defaults: :data:`pipeopt.pressure.STEEL_DEFAULTS`
+        for ``steel``, :data:`~pipeopt.pressure.STAINLESS_DEFAULTS` for ``stainless-steel``.
+    """
+
+    def __init__(self, sizes: pd.DataFrame, materials: dict[str, Material],
+                 steel_rating: dict[str, dict[str, float]] | None = None) -> None:
+        self._materials = dict(materials)
+        self._barlow = {"steel": dict(STEEL_DEFAULTS), "stainless-steel": dict(STAINLESS_DEFAULTS)}
+        for key, params in (steel_rating or {}).items():
+            self._barlow[key] = {**self._barlow.get(key, STEEL_DEFAULTS), **params}
+        self._sizes = self._rate(sizes.reset_index(drop=True))
+        self._index = {(m, _normalize(d)): i for i, (m, d) in
+                       enumerate(zip(self._sizes["material"], self._sizes["designation"],
+                                     strict=True))}
+
+    def _rate(self, sizes: pd.DataFrame) -> pd.DataFrame:
+        sizes = sizes.copy()
+        unrated = sizes["pressure_rating_pa"].isna()
+        for key, params in self._barlow.items():
+            sel = unrated & (sizes["material"] == key)
+            if sel.any():
+                sizes.loc[sel, "pressure_rating_pa"] = barlow_pressure(
+                    sizes.loc[sel, "outside_diameter_m"].to_numpy(),
+                    sizes.loc[sel, "wall_m"].to_numpy(), **params)
+                sizes.loc[sel, "rating_basis"] = (
+                    f"Barlow: S = {params['allowable_stress'] / 1e6:g} MPa, E = "
+                    f"{params['joint_factor']:g}, corrosion allowance "
+                    f"{params['corrosion_allowance'] * 1e3:g} mm, mill tolerance "
+                    f"{params['mill_tolerance'] * 100:g} %")
+        return sizes
+
+    # ----- materials ------------------------------------------------------------------------
+    def list_materials(self) -> pd.DataFrame:
+        """Materials and their properties, SI, one row each, with the number of bundled sizes."""
+        counts = self._sizes["material"].value_counts()
+        rows = []
+        for m in self._materials.values():
+            rows.append({"material": m.key, "description": m.description,
+                         "sizes": int(counts.get(m.key, 0)), "roughness_m": m.roughness,
+                         "aging_rate_m_per_year": m.aging_rate,
+                         "hazen_williams_c": m.hazen_williams_c,
+                         "elastic_modulus_pa": m.elastic_modulus,
+                         "poisson_ratio": m.poisson_ratio, "density_kg_m3": m.density,
+                         "embodied_carbon_kg_per_kg": m.embodied_carbon,
+                         "roughness_source": m.sources.get("roughness", "")})
+        return pd.DataFrame(rows)
+
+    def material(self, key: str) -> Material:
+        """The :class:`Material` of ``key``; an unknown key names the nearest known ones."""
+        try:
+            return self._materials[key]
+        except KeyError:
+            near = difflib.get_close_matches(str(key), list(self._materials), n=3, cutoff=0.4)
+            hint = f"; did you mean {', '.join(repr(n) for n in near)}?" if near else ""
+            raise InputError(f"material: unknown material {key!r}{hint} (known: "
+                             f"{', '.join(self._materials)})") from None
+
+    @property
+    def material_keys(self) -> list[str]:
+        """Keys of every material."""
+        return list(self._materials)
+
+    # ----- sizes ----------------------------------------------------------------------------
+    def sizes(self, material: str, min_diameter: Any = None, max_diameter: Any = None,
+              pressure_class: str | list[str] | None = None,
+              designations: list[str] | None = None) -> pd.DataFrame:
+        """Sizes of one material, sorted by inner diameter, filtered.
+
+        Parameters
+        ----------
+        material : str
+            Material key.
+        min_diameter, max_diameter : str or pint.Quantity, optional
+            Inner-diameter range, e.g. ``"0.15 m"`` (inclusive).
+        pressure_class : str or list of str, optional
+            Keep only these classes (``"C40"``, ``"SDR 17"``, ``"Sch 40"``, ``"PN 10"``).
+        designations : list of str, optional
+            Keep only these designations (parsed forgivingly; an unknown one is an error).
+
+        Returns
+        -------
+        pandas.DataFrame
+            Columns :data:`SIZE_COLUMNS`, SI.
+        """
+        self.material(material)
+        df = self._sizes[self._sizes["material"] == material]
+        if df.empty:
+            raise InputError(f"material: no sizes in the catalog for {material!r}; give sizes "
+                             f"with load_catalog(sizes=...)")
+        if min_diameter is not None:
+            df = df[df["inner_diameter_m"] >= to_si(min_diameter, "diameter", "min_diameter")
+                    - 1e-12]
+        if max_diameter is not None:
+            df = df[df["inner_diameter_m"] <= to_si(max_diameter, "diameter", "max_diameter")
+                    + 1e-12]
+        if pressure_class is not None:
+            wanted = [pressure_class] if isinstance(pressure_class, str) else list(pressure_class)
+            norm = {_normalize(c) for c in wanted}
+            known = {_normalize(c) for c in self._sizes.loc[
+                self._sizes["material"] == material, "pressure_class"]}
+            unknown = norm - known
+            if unknown:
+                raise InputError(f"pressure_class: {material} has no class "
+                                 f"{sorted(unknown)[0]!r}; classes: {sorted(known)}")
+            df = df[df["pressure_class"].map(_normalize).isin(norm)]
+        if designations is not None:
+            idx = [self._locate(material, d) for d in designations]
+            df = self._sizes.loc[idx]
+        return df.sort_values(["inner_diameter_m", "designation"], kind="stable") \
+            .reset_index(drop=True)
+
+    def _locate(self, material: str, designation: str) -> int:
+        self.material(material)
+        key = (material, _normalize(designation))
+        if key in self._index:
+            return self._index[key]
+        names = self._sizes.loc[self._sizes["material"] == material, "designation"].tolist()
+        near = _nearest_designations(designation, names)
+        hint = f"; nearest: {', '.join(repr(n) for n in near)}" if near else ""
+        raise InputError(f"size: {material} has no size {designation!r}{hint}")
+
+    def lookup(self, material: str, designation: str) -> pd.Series:
+        """One size by designation, parsed forgivingly (``"dn300 c40"``, ``"NPS 12 sch40"``).
+
+        An unknown designation raises :class:`~pipeopt.errors.InputError` naming the nearest
+        valid ones.
+        """
+        return self._sizes.loc[self._locate(material, designation)].copy()
+
+    @property
+    def all_sizes(self) -> pd.DataFrame:
+        """Every size of every material (a copy)."""
+        return self._sizes.copy()
+
+    # ----- extending ------------------------------------------------------------------------
+    def with_sizes(self, source: Any, material: str | None = None,
+                   name: str = "sizes file") -> Catalog:
+        """A new catalog with a user's sizes added (rows of the same material and designation
+        replace the bundled ones)."""
+        new = read_sizes(source, material=material, name=name)
+        for m in new["material"].unique():
+            self.material(m)
+        keep = ~self._sizes.set_index(["material", "designation"]).index.isin(
+            new.set_index(["material", "designation"]).index)
+        merged = pd.concat([self._sizes[keep], new], ignore_index=True)
+        return Catalog(merged, self._materials, self._barlow)
+
+    def with_materials(self, source: Any, name: str = "materials file") -> Catalog:
+        """A new catalog with a user's materials added or replacing bundled ones by key."""
+        return Catalog(self._sizes, {**self._materials, **read_materials(source, name)},
+                       self._barlow)
+
+    def with_steel_rating(self, material: str = "steel", **params: float) -> Catalog:
+        """A new catalog with other Barlow parameters (SI) for a steel material's ratings.
+
+        Parameters are those of :func:`pipeopt.pressure.barlow_pressure`:
+        ``allowable_stress`` [Pa], ``joint_factor`` [-], ``corrosion_allowance`` [m],
+        ``mill_tolerance`` [-].
+        """
+        unknown = set(params) - set(STEEL_DEFAULTS)
+        if unknown:
+            raise InputError(f"with_steel_rating: unknown parameter(s) {sorted(unknown)}; "
+                             f"known: {sorted(STEEL_DEFAULTS)}")
+        sizes = self._sizes.copy()
+        rated_by_barlow = sizes["rating_basis"].str.startswith("Barlow")
+        sizes.loc[rated_by_barlow & (sizes["material"] == material), "pressure_rating_pa"] = np.nan
+        barlow = {**self._barlow, material: {**self._barlow.get(material, STEEL_DEFAULTS),
+                                             **params}}
+        return Catalog(sizes, self._materials, barlow)
+
+    def __repr__(self) -> str:
+        counts = self._sizes["material"].value_counts()
+        parts = [f"{k} ({int(counts.get(k, 0))} sizes)" for k in self._materials]
+        return "Catalog(" + ", ".join(parts) + ")"
+
+
+# --------------------------------------------------------------------------------------------
+# module-level API on the bundled catalog
+# --------------------------------------------------------------------------------------------
+def _bundled_text(filename: str) -> str:
+    return resources.files(__name__).joinpath(filename).read_text(encoding="utf-8")
+
+
+@functools.lru_cache(maxsize=1)
+def default_catalog() -> Catalog:
+    """The bundled catalog (read once from the installed package, then cached)."""
+    sizes = pd.concat([read_sizes(_bundled_text(f"{m}.csv"), material=m, name=f"{m}.csv")
+                       for m in _BUNDLED_SIZE_FILES], ignore_index=True)
+    materials = read_materials(_bundled_text("materials.csv"), name="materials.csv")
+    return Catalog(sizes, materials)
+
+
+def load_catalog(sizes: Any = None, materials: Any = None, material: str | None = None) -> Catalog:
+    """The bundled catalog extended with a user's materials and/or sizes file.
+
+    Parameters
+    ----------
+    sizes : path, CSV text or DataFrame, optional
+        A size table (see :func:`read_sizes`).
+    materials : path, CSV text or DataFrame, optional
+        A materials table in the columns of the bundled ``materials.csv``.
+    material : str, optional
+        Material key for every row of ``sizes`` when it has no ``material`` column.
+    """
+    cat = default_catalog()
+    if materials is not None:
+        cat = cat.with_materials(materials, name=str(materials) if isinstance(
+            materials, (str, Path)) and "\n" not in str(materials) else "materials file")
+    if sizes is not None:
+        cat = cat.with_sizes(sizes, material=material, name=str(sizes) if isinstance(
+            sizes, (str, Path)) and "\n" not in str(sizes) else "sizes file")
+    return cat
+
+
+def list_materials() -> pd.DataFrame:
+    """Materials of the bundled catalog (see :meth:`Catalog.list_materials`)."""
+    return default_catalog().list_materials()
+
+
+def list_sizes(material: str, min_diameter: Any = None, max_diameter: Any = None,
+               pressure_class: str | list[str] | None = None) -> pd.DataFrame:
+    """Sizes of a bundled material (see :meth:`Catalog.sizes`)."""
+    return default_catalog().sizes(material, min_diameter, max_diameter, pressure_class)
+
+
+def lookup(material: str, designation: str) -> pd.Series:
+    """One bundled size by designation (see :meth:`Catalog.lookup`)."""
+    return default_catalog().lookup(material, designation)
+
+
+def get_material(key: str) -> Material:
+    """One bundled material (see :meth:`Catalog.material`)."""
+    return default_catalog().material(key)

@@ -1,0 +1,45 @@
+"""Tests of pipeopt.pressure: Barlow's formula and PN from SDR.
+
+Sources: Barlow's formula p = 2 S E t / D_o (ASME B31.3 para. 304.1.2, thin-wall form, from
+memory); PN = 20 MRS / (C (SDR - 1)) (ISO 4427-1 / EN 12201-1, from memory; REFERENCES.md).
+"""
+
+import numpy as np
+import pytest
+
+from pipeopt.errors import InputError
+from pipeopt.pressure import barlow_pressure, pn_from_sdr
+
+
+def test_barlow_by_hand():
+    # NPS 4 Sch 40 (114.3 x 6.02 mm, ASME B36.10M), S = 137.9 MPa, E = 1, no allowances:
+    # p = 2 * 137.9e6 * 6.02e-3 / 0.1143 = 145.26 bar (worked by hand)
+    p = barlow_pressure(0.1143, 6.02e-3, 137.9e6, mill_tolerance=0.0)
+    assert p == pytest.approx(2 * 137.9e6 * 6.02e-3 / 0.1143, rel=1e-14)
+
+
+def test_barlow_allowances_and_vectorized():
+    p = barlow_pressure([0.1143, 0.3238], [6.02e-3, 9.53e-3], 137.9e6, joint_factor=0.85,
+                        corrosion_allowance=1.5e-3, mill_tolerance=0.125)
+    t = np.array([6.02e-3, 9.53e-3]) * 0.875 - 1.5e-3
+    np.testing.assert_allclose(p, 2 * 137.9e6 * 0.85 * t / np.array([0.1143, 0.3238]))
+    assert barlow_pressure(0.1143, 1e-3, 137.9e6, corrosion_allowance=2e-3) == 0.0
+
+
+def test_barlow_errors():
+    with pytest.raises(InputError, match="joint_factor"):
+        barlow_pressure(0.1, 0.005, 1e8, joint_factor=1.2)
+    with pytest.raises(InputError, match="less than half"):
+        barlow_pressure(0.1, 0.06, 1e8)
+
+
+@pytest.mark.parametrize(("sdr", "pn"), [(11, 16.0), (17, 10.0), (21, 8.0), (9, 20.0)])
+def test_pn_from_sdr_pe100(sdr, pn):
+    # PE 100 (MRS 10 MPa), C = 1.25: SDR 11 PN 16, SDR 17 PN 10 (REFERENCES.md); 21 and 9
+    # exact from the same formula
+    assert pn_from_sdr(sdr, 10e6) / 1e5 == pytest.approx(pn)
+
+
+def test_pn_errors():
+    with pytest.raises(InputError, match="sdr must be greater than 1"):
+        pn_from_sdr(1.0, 10e6)
