@@ -1,15 +1,19 @@
 """pipeopt: life-cycle cost sizing of pumped liquid lines.
 
-The physics layer (:mod:`pipeopt.friction`, :mod:`pipeopt.fluid`) computes friction loss and
-fluid properties exactly; :mod:`pipeopt.units` parses user input with units at the edge.
+Layers: physics (:mod:`~pipeopt.friction`, :mod:`~pipeopt.fluid`, :mod:`~pipeopt.catalog`,
+:mod:`~pipeopt.pressure`, :mod:`~pipeopt.surge`), model (:mod:`~pipeopt.economics`,
+:mod:`~pipeopt.costs`, :mod:`~pipeopt.duty`, :mod:`~pipeopt.lifecycle`), study
+(:class:`SizingStudy`), presentation (:mod:`~pipeopt.cli`). Units are parsed at the edge
+(:mod:`pipeopt.units`); everything below works in SI.
 """
 
-from . import friction, units
+from . import catalog, friction, units
 from .errors import FluidStateError, InputError, PipeoptError
 from .fluid import Fluid
+from .sizing import SizingResult, SizingStudy
 from .units import Quantity, ureg
 
 __version__ = "0.1.0"
 
-__all__ = ["Fluid", "Quantity", "ureg", "friction", "units", "InputError", "PipeoptError",
-           "FluidStateError", "__version__"]
+__all__ = ["Fluid", "SizingStudy", "SizingResult", "Quantity", "ureg", "catalog", "friction",
+           "units", "InputError", "PipeoptError", "FluidStateError", "__version__"]

@@ -1,57 +1,96 @@
 """Command line of pipeopt (presentation layer).
 
-``pipeopt demo`` runs the bundled demonstration. Exit status 0 on success, 2 on bad input (one
-readable message, never a traceback).
+Subcommands: ``run`` (a sizing study file), ``demo`` (the bundled demonstration), ``catalog``
+(list materials and sizes). Exit status: 0 success, 2 bad input (one readable message naming the
+key, never a traceback), 3 an internal error (with ``--debug`` for the traceback).
 """
 
 from __future__ import annotations
 
 import argparse
+import os
 import sys
+import tempfile
+import traceback
 from collections.abc import Sequence
+from pathlib import Path
+
+import pandas as pd
 
 from .errors import InputError
 
 DEMO_NOTE = ("Demo scenario and numbers are invented for illustration only; they describe no "
-             "real plant or line.")
+             "real place, line or price.")
 
 
-def _demo_friction() -> str:
-    """Friction and fluid-property demonstration on an invented line (illustrative numbers)."""
-    import numpy as np
+def _write_atomic(path: Path, text: str) -> None:
+    """Write ``text`` to ``path`` through a temporary file and a rename (never half-written)."""
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
+            fh.write(text)
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
 
-    from . import friction as fr
-    from .fluid import Fluid
-    from .units import to_si
 
-    water = Fluid.water("15 degC")
-    flow = to_si("380 m^3/h", "flow", "demo.flow")
-    length = to_si("3.2 km", "length", "demo.length")
-    roughness = to_si("0.1 mm", "roughness", "demo.roughness")
-    diameters = np.array([0.25, 0.30, 0.35, 0.40, 0.45])
-    velocity = flow / (np.pi * diameters**2 / 4)
-    re = fr.reynolds_number(velocity, diameters, water.density, water.viscosity)
-    rows = [f"{'D [m]':>7} {'V [m/s]':>8} {'Re':>10} " + " ".join(f"{m:>12}" for m in fr.METHODS)
-            + f" {'h_f [m]':>8}"]
-    for d, v, r in zip(diameters, velocity, re, strict=True):
-        fs = [fr.friction_factor(r, roughness / d, method=m) for m in fr.METHODS]
-        h = fr.darcy_weisbach_head_loss(fs[0], length, d, v)
-        rows.append(f"{d:7.3f} {v:8.3f} {r:10.4g} " + " ".join(f"{f:12.8f}" for f in fs)
-                    + f" {h:8.3f}")
-    return "\n".join([
-        "pipeopt demo: friction loss of the Tarn Hollow raw-water transfer line",
-        DEMO_NOTE,
-        "",
-        f"fluid: {water!r}",
-        "line: 3.2 km, 380 m^3/h, absolute roughness 0.1 mm; friction by Colebrook-White "
-        "(exact) and explicit formulas; h_f by Darcy-Weisbach with the exact factor",
-        "",
-        *rows,
-    ])
+def _write_tables(result, out: Path) -> list[Path]:
+    files = {"candidates.csv": result.candidates, "optimum.csv": result.optimum}
+    written = []
+    texts = {name: frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
+             for name, frame in files.items()}
+    for name, text in texts.items():  # every table is formatted before the first is written
+        _write_atomic(out / name, text)
+        written.append(out / name)
+    return written
+
+
+def _cmd_run(args: argparse.Namespace) -> int:
+    from .sizing import SizingStudy
+
+    study = SizingStudy.from_toml(args.study)
+    result = study.run()
+    print(result.summary())
+    if args.out:
+        for p in _write_tables(result, Path(args.out)):
+            print(f"wrote {p}")
+    return 0 if result.success else 1
 
 
 def _cmd_demo(args: argparse.Namespace) -> int:
-    print(_demo_friction())
+    from .sizing import SizingStudy
+
+    print(DEMO_NOTE)
+    print()
+    result = SizingStudy.demo().run()
+    print(result.summary())
+    if args.out:
+        for p in _write_tables(result, Path(args.out)):
+            print(f"wrote {p}")
+    return 0
+
+
+def _cmd_catalog(args: argparse.Namespace) -> int:
+    from . import catalog
+
+    if not args.material:
+        mats = catalog.list_materials()
+        view = pd.DataFrame({"material": mats["material"], "sizes": mats["sizes"],
+                             "roughness_mm": mats["roughness_m"] * 1e3,
+                             "description": mats["description"]})
+        print(view.to_string(index=False))
+        return 0
+    sizes = catalog.list_sizes(args.material, args.min_diameter, args.max_diameter,
+                               args.pressure_class)
+    view = pd.DataFrame({
+        "designation": sizes["designation"], "OD_mm": sizes["outside_diameter_m"] * 1e3,
+        "wall_mm": sizes["wall_m"] * 1e3, "lining_mm": sizes["lining_m"] * 1e3,
+        "ID_mm": sizes["inner_diameter_m"] * 1e3,
+        "rating_bar": sizes["pressure_rating_pa"] / 1e5})
+    print(view.to_string(index=False, float_format=lambda x: f"{x:.1f}"))
+    print(f"\nsource: {sizes['provenance'].iloc[0]}")
     return 0
 
 
@@ -62,11 +101,31 @@ def build_parser() -> argparse.ArgumentParser:
         epilog="Results support engineering studies; they are not a design. Pressure, surge and "
                "structural questions need a qualified engineer; local codes govern.",
     )
+    parser.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+
+    run = sub.add_parser("run", help="run a sizing study file",
+                         description="Run a sizing study (TOML) and print its summary.",
+                         epilog="example: pipeopt run study.toml --out results")
+    run.add_argument("study", help="the study file (TOML)")
+    run.add_argument("--out", help="folder for candidates.csv and optimum.csv")
+    run.set_defaults(func=_cmd_run)
+
     demo = sub.add_parser("demo", help="run the bundled demonstration study",
                           description="Run the bundled demonstration (an invented scenario).",
-                          epilog="example: pipeopt demo")
+                          epilog="example: pipeopt demo --out demo-results")
+    demo.add_argument("--out", help="folder for the result tables")
     demo.set_defaults(func=_cmd_demo)
+
+    cat = sub.add_parser("catalog", help="list catalog materials or the sizes of one",
+                         description="List the materials, or the sizes of one material.",
+                         epilog='example: pipeopt catalog pe100 --min-diameter "0.2 m" '
+                                '--class "SDR 17"')
+    cat.add_argument("material", nargs="?", help="a material key, e.g. ductile-iron")
+    cat.add_argument("--min-diameter", help='smallest inner diameter, e.g. "150 mm"')
+    cat.add_argument("--max-diameter", help='largest inner diameter, e.g. "0.6 m"')
+    cat.add_argument("--class", dest="pressure_class", help='a pressure class, e.g. "C40"')
+    cat.set_defaults(func=_cmd_catalog)
     return parser
 
 
@@ -82,6 +141,15 @@ def main(argv: Sequence[str] | None = None) -> int:
     except InputError as exc:
         print(f"pipeopt: error: {exc}", file=sys.stderr)
         return 2
+    except KeyboardInterrupt:
+        print("pipeopt: interrupted", file=sys.stderr)
+        return 130
+    except Exception as exc:  # noqa: BLE001 - the last line of defence: no traceback for users
+        if args.debug:
+            traceback.print_exc()
+        print(f"pipeopt: internal error ({type(exc).__name__}: {exc}); please report it, with "
+              f"--debug for details", file=sys.stderr)
+        return 3
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -1,0 +1,282 @@
+"""Life-cycle cost of candidate lines (model layer): hydraulics by year and duty, then money.
+
+This module is the arithmetic of a sizing study, written out once so that every number a study
+prints can be re-derived by hand (the contributor guide states the model in words). It works
+on SI floats and arrays: a :class:`Scenario` of scalars shared by every candidate, and arrays of
+candidate properties (inner diameter, roughness, aging rate, cost per metre), shape (C,).
+
+Year by year, t = 1 … N, duty point k:
+
+- Q_k,t = Q_k (1 + g)^(t−1); per line q = Q_k,t / n_p; V = q / (π D²/4)
+- ε_t = ε₀ + α (t − 1); Re = ρ V D / μ; f = friction_factor(Re, ε_t / D)
+- h = (f L / D + ΣK) V² / (2 g); pump head H = z + h
+- P_k,t = ρ g Q_k,t H / η [W] (all lines together)
+- E_t = Σ_k P_k,t h_k / 1000 [kWh]; P̂_t = max_k P_k,t / 1000 [kW]
+- C_E,t = E_t p (1 + e)^(t−1) + d P̂_t
+
+Capital at t = 0: C_pipe = c(D) L n_p; C_ps = a P_inst^b with P_inst = max_t P̂_t (1 + s),
+bought again at T_s, 2 T_s, … while t < N. Maintenance every year M = m_p C_pipe + m_s C_ps.
+Residual at N, straight line: C_pipe max(0, 1 − N/T_p) + C_ps max(0, 1 − (N − t_last)/T_s).
+PV = C_pipe + C_ps + Σ_t (C_E,t + M + carbon_t)/(1+i)^t + Σ_r C_ps/(1+i)^(t_r)
+− residual/(1+i)^N; EAC = PV · CRF(i, N).
+
+When flows do not grow and no candidate ages, every year has the same hydraulics, which are then
+evaluated once and broadcast over the years.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Literal
+
+import numpy as np
+
+from . import friction as fr
+from .costs import EnergyTariff, PumpStationCost
+from .duty import DutyProfile
+from .economics import capital_recovery_factor
+from .errors import InputError
+
+__all__ = ["Scenario", "LifeCycle", "evaluate"]
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """Everything a life-cycle evaluation needs besides the candidates, in SI.
+
+    Attributes
+    ----------
+    density : float
+        Fluid density ρ [kg/m³].
+    viscosity : float
+        Dynamic viscosity μ [Pa·s].
+    length : float
+        Line length L [m].
+    static_head : float
+        Static head z [m] (lift plus residual head at delivery).
+    minor_loss_k : float
+        Sum of minor-loss coefficients ΣK [-], referred to the line velocity.
+    parallel : int
+        Identical lines in parallel sharing the flow, n_p.
+    duty : DutyProfile
+        Duty points and growth.
+    efficiency : float
+        Wire-to-water efficiency η [-].
+    tariff : EnergyTariff
+        Energy price, escalation and demand charge.
+    pump_station : PumpStationCost or None
+        Station capital model; None means no pump capital.
+    discount_rate : float
+        Real discount rate i [1/yr].
+    horizon : int
+        Analysis horizon N [yr].
+    pipe_life : float
+        Pipe service life T_p [yr].
+    pipe_maintenance : float
+        Pipe maintenance m_p as a fraction of pipe capital per year [1/yr].
+    grid_factor : float
+        Operational emission factor [kg CO2e/kWh] (0: no carbon cost).
+    carbon_price : float
+        Carbon price [currency/kg CO2e] (0: no carbon cost).
+    friction_method : str
+        A :data:`pipeopt.friction.METHODS` entry, or ``"constant"``.
+    constant_friction_factor : float or None
+        The Darcy factor used everywhere when ``friction_method == "constant"``.
+    """
+
+    density: float
+    viscosity: float
+    length: float
+    static_head: float
+    minor_loss_k: float
+    parallel: int
+    duty: DutyProfile
+    efficiency: float
+    tariff: EnergyTariff
+    pump_station: PumpStationCost | None
+    discount_rate: float
+    horizon: int
+    pipe_life: float
+    pipe_maintenance: float = 0.0
+    grid_factor: float = 0.0
+    carbon_price: float = 0.0
+    friction_method: str = "colebrook"
+    constant_friction_factor: float | None = None
+
+    def __post_init__(self) -> None:
+        if not 0 < self.efficiency <= 1:
+            raise InputError(f"pumping.efficiency must be in (0, 1]; got {self.efficiency!r}")
+        if int(self.horizon) != self.horizon or self.horizon < 1:
+            raise InputError(f"economics.horizon must be a whole number of years >= 1; got "
+                             f"{self.horizon!r}")
+        if int(self.parallel) != self.parallel or self.parallel < 1:
+            raise InputError(f"line.parallel must be a whole number >= 1; got {self.parallel!r}")
+        if self.friction_method == "constant":
+            f = self.constant_friction_factor
+            if f is None or not 0 < f < 1:
+                raise InputError("hydraulics.friction_factor must be in (0, 1) with method "
+                                 "'constant'")
+        elif self.friction_method not in fr.METHODS:
+            raise InputError(f"hydraulics.friction_method must be one of "
+                             f"{', '.join(fr.METHODS)} or 'constant'; got "
+                             f"{self.friction_method!r}")
+
+
+@dataclass
+class LifeCycle:
+    """Results of :func:`evaluate`, arrays over candidates (C,) or candidates × years (C, N).
+
+    Hydraulic figures "at design" are those of the largest duty flow in year 1. Money is in the
+    study currency, present values at t = 0.
+    """
+
+    velocity_design: np.ndarray          # m/s, largest duty flow, year 1
+    reynolds_design: np.ndarray
+    friction_factor_design: np.ndarray
+    head_loss_design: np.ndarray         # m
+    pump_head_design: np.ndarray         # m
+    pump_power_peak_year1: np.ndarray    # kW, max over duty points, year 1
+    energy_year1: np.ndarray             # kWh
+    velocity_max: np.ndarray             # m/s, largest flow of any year
+    pump_head_max: np.ndarray            # m, any duty point, any year
+    installed_power: np.ndarray          # kW, with standby
+    capex_pipe: np.ndarray
+    capex_pump_station: np.ndarray
+    pv_energy: np.ndarray
+    pv_maintenance: np.ndarray
+    pv_replacement: np.ndarray
+    pv_residual: np.ndarray              # a credit: subtracted in pv_total
+    pv_carbon: np.ndarray
+    pv_total: np.ndarray
+    eac: np.ndarray
+    energy_kwh: np.ndarray               # (C, N)
+    peak_kw: np.ndarray                  # (C, N)
+    energy_cost: np.ndarray              # (C, N)
+    carbon_cost: np.ndarray              # (C, N) operational
+    embodied_carbon_cost: np.ndarray     # (C,) at t = 0
+    maintenance: np.ndarray              # (C,) per year
+    replacement_years: np.ndarray        # years the station is bought again
+    transitional_points: np.ndarray      # (C,) count of duty-year points with 2000 <= Re < 4000
+    roughness_capped: np.ndarray         # (C,) bool: ε/D reached the 0.05 bound and was capped
+
+
+def _friction(s: Scenario, re: np.ndarray, rr: np.ndarray) -> np.ndarray:
+    if s.friction_method == "constant":
+        return np.full(np.broadcast_shapes(re.shape, rr.shape), s.constant_friction_factor)
+    return np.asarray(fr.friction_factor(re, rr, method=s.friction_method, transition="ignore"))
+
+
+def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rate: np.ndarray,
+             pipe_cost_per_metre: np.ndarray, embodied_co2_per_metre: np.ndarray | float = 0.0,
+             years_mode: Literal["auto", "full"] = "auto") -> LifeCycle:
+    """Hydraulics and life-cycle cost of every candidate, every duty point, every year.
+
+    Parameters
+    ----------
+    s : Scenario
+        The shared inputs, SI.
+    diameter : ndarray, shape (C,)
+        Inner diameter of each candidate [m].
+    roughness : ndarray, shape (C,)
+        New-pipe absolute roughness ε₀ [m].
+    aging_rate : ndarray, shape (C,)
+        Roughness growth α [m/yr].
+    pipe_cost_per_metre : ndarray, shape (C,)
+        Pipe capital c(D) per metre of one line [currency/m].
+    embodied_co2_per_metre : ndarray or float, optional
+        Embodied emissions of one line per metre [kg CO2e/m].
+    years_mode : {"auto", "full"}
+        ``"auto"`` evaluates the hydraulics once when no flow grows and nothing ages;
+        ``"full"`` always evaluates every year (for checks).
+
+    Returns
+    -------
+    LifeCycle
+    """
+    d = np.atleast_1d(np.asarray(diameter, dtype=float))
+    eps0 = np.broadcast_to(np.asarray(roughness, dtype=float), d.shape)
+    alpha = np.broadcast_to(np.asarray(aging_rate, dtype=float), d.shape)
+    cost_m = np.broadcast_to(np.asarray(pipe_cost_per_metre, dtype=float), d.shape)
+    co2_m = np.broadcast_to(np.asarray(embodied_co2_per_metre, dtype=float), d.shape)
+    if np.any(~(d > 0)):
+        raise InputError("candidate inner diameters must be positive")
+    n_years = int(s.horizon)
+    g = fr.GRAVITY
+    rho = s.density
+    duty = s.duty
+    hours = duty.hours_array                              # (K,)
+    k_design = int(np.argmax(duty.flow_array))
+
+    # --- hydraulics on (C, T, K); T = 1 when every year is the same --------------------------
+    same_every_year = years_mode == "auto" and duty.growth == 0 and not np.any(alpha)
+    t_eval = 1 if same_every_year else n_years
+    q_total = duty.flows_by_year(t_eval)                  # (T, K) all lines together
+    q_line = q_total / s.parallel
+    area = np.pi * d * d / 4.0                            # (C,)
+    v = q_line[None, :, :] / area[:, None, None]          # (C, T, K)
+    re = rho * v * d[:, None, None] / s.viscosity
+    eps_t = eps0[:, None] + alpha[:, None] * np.arange(t_eval)[None, :]   # (C, T)
+    rr = eps_t / d[:, None]
+    capped = np.any(rr > fr.MAX_RELATIVE_ROUGHNESS, axis=1)
+    rr = np.minimum(rr, fr.MAX_RELATIVE_ROUGHNESS)
+    f = _friction(s, re, rr[:, :, None])                 # (C, T, K)
+    transitional = np.count_nonzero((re >= fr.LAMINAR_LIMIT) & (re < fr.TURBULENT_LIMIT),
+                                    axis=(1, 2))
+    h = (f * s.length / d[:, None, None] + s.minor_loss_k) * v * v / (2.0 * g)
+    head = s.static_head + h                              # (C, T, K)
+    power_w = rho * g * q_total[None, :, :] * head / s.efficiency
+    energy = (power_w * hours[None, None, :]).sum(axis=2) / 1000.0   # (C, T) kWh
+    peak = power_w.max(axis=2) / 1000.0                   # (C, T) kW
+    if same_every_year:
+        energy = np.broadcast_to(energy, (d.size, n_years))
+        peak = np.broadcast_to(peak, (d.size, n_years))
+
+    # --- money --------------------------------------------------------------------------------
+    i = s.discount_rate
+    t = np.arange(1, n_years + 1)
+    disc = np.exp(-t * np.log1p(i))                       # (N,)
+    energy_cost = s.tariff.yearly_cost(energy, peak)      # (C, N)
+    carbon_cost = energy * (s.grid_factor * s.carbon_price)
+    capex_pipe = cost_m * s.length * s.parallel
+    embodied_cost = co2_m * s.length * s.parallel * s.carbon_price
+    installed = np.zeros(d.size)
+    capex_ps = np.zeros(d.size)
+    replacement_years = np.zeros(0)
+    m_s = 0.0
+    t_last = 0.0
+    if s.pump_station is not None:
+        ps = s.pump_station
+        installed = ps.installed_power(peak.max(axis=1))
+        capex_ps = ps.capital(peak.max(axis=1))
+        n_rep = int(np.ceil(n_years / ps.life)) - 1       # purchases at k T_s < N
+        replacement_years = ps.life * np.arange(1, n_rep + 1)
+        t_last = float(replacement_years[-1]) if n_rep else 0.0
+        m_s = ps.maintenance
+    maintenance = s.pipe_maintenance * capex_pipe + m_s * capex_ps           # (C,)
+    pv_energy = energy_cost @ disc
+    pv_carbon = carbon_cost @ disc + embodied_cost
+    annuity = disc.sum()
+    pv_maintenance = maintenance * annuity
+    rep_factor = np.exp(-replacement_years * np.log1p(i)).sum() if replacement_years.size else 0.0
+    pv_replacement = capex_ps * rep_factor
+    residual = capex_pipe * max(0.0, 1.0 - n_years / s.pipe_life)
+    if s.pump_station is not None:
+        residual = residual + capex_ps * max(0.0, 1.0 - (n_years - t_last) / s.pump_station.life)
+    pv_residual = residual * disc[-1]
+    pv_total = (capex_pipe + capex_ps + pv_energy + pv_maintenance + pv_replacement + pv_carbon
+                - pv_residual)
+    eac = pv_total * capital_recovery_factor(i, n_years)
+
+    return LifeCycle(
+        velocity_design=v[:, 0, k_design], reynolds_design=re[:, 0, k_design],
+        friction_factor_design=f[:, 0, k_design], head_loss_design=h[:, 0, k_design],
+        pump_head_design=head[:, 0, k_design], pump_power_peak_year1=peak[:, 0],
+        energy_year1=energy[:, 0], velocity_max=v.max(axis=(1, 2)),
+        pump_head_max=head.max(axis=(1, 2)), installed_power=installed, capex_pipe=capex_pipe,
+        capex_pump_station=capex_ps, pv_energy=pv_energy, pv_maintenance=pv_maintenance,
+        pv_replacement=pv_replacement, pv_residual=pv_residual, pv_carbon=pv_carbon,
+        pv_total=pv_total, eac=eac, energy_kwh=np.asarray(energy), peak_kw=np.asarray(peak),
+        energy_cost=energy_cost, carbon_cost=carbon_cost, embodied_carbon_cost=embodied_cost,
+        maintenance=maintenance, replacement_years=replacement_years,
+        transitional_points=transitional, roughness_capped=capped,
+    )

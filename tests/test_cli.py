@@ -1,0 +1,75 @@
+"""Tests of the pipeopt command line, as a user meets it (a subprocess and in-process)."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+from pathlib import Path
+
+import pandas as pd
+import pytest
+
+from pipeopt.cli import main
+
+DATA = Path(__file__).parent / "data"
+
+
+def run_cli(*args: str, cwd: Path | None = None) -> subprocess.CompletedProcess:
+    return subprocess.run([sys.executable, "-m", "pipeopt.cli", *args], capture_output=True,
+                          text=True, cwd=cwd)
+
+
+def test_demo_prints_a_readable_summary():
+    out = run_cli("demo")
+    assert out.returncode == 0, out.stderr
+    assert "invented for illustration" in out.stdout
+    assert "Best:" in out.stdout and "Continuous optimum" in out.stdout
+    assert "Caution" in out.stdout
+    assert "Traceback" not in out.stderr
+
+
+def test_run_writes_candidates(tmp_path):
+    code = main(["run", str(DATA / "larkspur.toml"), "--out", str(tmp_path / "res")])
+    assert code == 0
+    df = pd.read_csv(tmp_path / "res" / "candidates.csv")
+    for col in ("material", "size", "inner_diameter_m", "velocity_m_s", "eac", "feasible",
+                "reasons"):
+        assert col in df.columns
+    assert (tmp_path / "res" / "optimum.csv").is_file()
+    assert not list((tmp_path / "res").glob("*.tmp"))
+
+
+@pytest.mark.parametrize(
+    ("text", "match"),
+    [
+        ("[line]\nlength = 3200\n", "error: "),
+        ("this is not toml", "TOML syntax error"),
+        ("[study]\nnmae = \"x\"\n", "did you mean 'study.name'"),
+    ],
+)
+def test_bad_study_file_exit_2_one_message_no_outputs(tmp_path, text, match):
+    f = tmp_path / "study.toml"
+    f.write_text(text)
+    before = f.read_bytes()
+    out = run_cli("run", str(f), "--out", str(tmp_path / "out"))
+    assert out.returncode == 2
+    assert match in out.stderr and "Traceback" not in out.stderr
+    assert len(out.stderr.strip().splitlines()) == 1
+    assert not (tmp_path / "out").exists()
+    assert f.read_bytes() == before  # the study file is never modified
+
+
+def test_missing_file_and_catalog_listing(capsys):
+    assert main(["run", "no-such-file.toml"]) == 2
+    assert "not found" in capsys.readouterr().err
+    assert main(["catalog"]) == 0
+    assert "ductile-iron" in capsys.readouterr().out
+    assert main(["catalog", "pe100", "--min-diameter", "0.2 m", "--class", "SDR 11"]) == 0
+    out = capsys.readouterr().out
+    assert "SDR 11" in out and "ISO 4427" in out
+    assert main(["catalog", "pe100", "--min-diameter", "0.2"]) == 2
+
+
+def test_no_command_prints_help(capsys):
+    assert main([]) == 2
+    assert "usage" in capsys.readouterr().out

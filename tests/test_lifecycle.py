@@ -1,0 +1,125 @@
+"""Tests of pipeopt.lifecycle: the life-cycle cost model worked by hand.
+
+Source of the model: the project's shared MODEL.md (the contract every sizing study matches).
+The hand computation below follows it line by line in plain Python, with friction factors from
+an independent 40-digit mpmath solution of Colebrook (1939) (tests/conftest.py).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from pipeopt.costs import EnergyTariff, PumpStationCost
+from pipeopt.duty import DutyProfile
+from pipeopt.errors import InputError
+from pipeopt.lifecycle import Scenario, evaluate
+
+from .conftest import colebrook_mpmath
+
+G = 9.80665
+
+
+def small_scenario(**over) -> Scenario:
+    base = dict(
+        density=999.1, viscosity=1.1376e-3, length=2000.0, static_head=15.0, minor_loss_k=4.0,
+        parallel=1, duty=DutyProfile((0.05, 0.08), (3000.0, 1500.0), growth=0.02),
+        efficiency=0.7, tariff=EnergyTariff(0.10, escalation=0.01, demand_charge=40.0),
+        pump_station=PumpStationCost(5000.0, 0.7, standby_fraction=0.5, life=2.0,
+                                     maintenance=0.02),
+        discount_rate=0.06, horizon=3, pipe_life=50.0, pipe_maintenance=0.01)
+    base.update(over)
+    return Scenario(**base)
+
+
+def test_present_value_and_eac_by_hand():
+    s = small_scenario()
+    d, eps0, alpha, c_m = 0.25, 0.1e-3, 0.05e-3, 300.0
+    lc = evaluate(s, np.array([d]), eps0, alpha, np.array([c_m]))
+
+    # --- by hand, MODEL.md "Year by year" ---------------------------------------------------
+    area = math.pi * d * d / 4
+    energy, peak = [], []
+    for t in (1, 2, 3):
+        eps_t = eps0 + alpha * (t - 1)
+        e_t, p_max = 0.0, 0.0
+        for q0, hrs in ((0.05, 3000.0), (0.08, 1500.0)):
+            q = q0 * 1.02 ** (t - 1)
+            v = q / area
+            re = 999.1 * v * d / 1.1376e-3
+            f = colebrook_mpmath(re, eps_t / d)
+            h = (f * 2000.0 / d + 4.0) * v * v / (2 * G)
+            p_w = 999.1 * G * q * (15.0 + h) / 0.7
+            e_t += p_w * hrs / 1000.0
+            p_max = max(p_max, p_w / 1000.0)
+        energy.append(e_t)
+        peak.append(p_max)
+    energy_cost = [energy[t] * 0.10 * 1.01**t + 40.0 * peak[t] for t in range(3)]
+    # --- capital, maintenance, replacement, residual ----------------------------------------
+    c_pipe = 300.0 * 2000.0
+    c_ps = 5000.0 * (max(peak) * 1.5) ** 0.7
+    maint = 0.01 * c_pipe + 0.02 * c_ps
+    # station bought at t = 0 and again at t = 2 (< N = 3); t_last = 2
+    residual = c_pipe * (1 - 3 / 50) + c_ps * (1 - (3 - 2) / 2)
+    pv = (c_pipe + c_ps + sum((energy_cost[t - 1] + maint) / 1.06**t for t in (1, 2, 3))
+          + c_ps / 1.06**2 - residual / 1.06**3)
+    crf = 0.06 * 1.06**3 / (1.06**3 - 1)
+
+    assert lc.energy_kwh[0] == pytest.approx(energy, rel=1e-12)
+    assert lc.capex_pipe[0] == pytest.approx(c_pipe)
+    assert lc.capex_pump_station[0] == pytest.approx(c_ps, rel=1e-12)
+    assert list(lc.replacement_years) == [2.0]
+    assert lc.pv_total[0] == pytest.approx(pv, rel=1e-11)
+    assert lc.eac[0] == pytest.approx(pv * crf, rel=1e-11)
+
+
+def test_years_collapse_equals_full_evaluation():
+    s = small_scenario(duty=DutyProfile((0.05, 0.08), (3000.0, 1500.0)), horizon=25)
+    d = np.linspace(0.15, 0.5, 12)
+    fast = evaluate(s, d, 1e-4, 0.0, 400.0 * d**1.3)
+    full = evaluate(s, d, 1e-4, 0.0, 400.0 * d**1.3, years_mode="full")
+    np.testing.assert_allclose(fast.pv_total, full.pv_total, rtol=1e-13)
+    np.testing.assert_allclose(fast.energy_kwh, full.energy_kwh, rtol=1e-13)
+
+
+def test_no_pump_station_no_carbon():
+    s = small_scenario(pump_station=None)
+    lc = evaluate(s, np.array([0.3]), 1e-4, 0.0, np.array([350.0]))
+    assert lc.capex_pump_station[0] == 0 and lc.pv_replacement[0] == 0
+    assert lc.pv_carbon[0] == 0
+
+
+def test_carbon_terms():
+    s = small_scenario(grid_factor=0.3, carbon_price=0.08)  # 80 per tonne
+    lc = evaluate(s, np.array([0.3]), 1e-4, 0.0, np.array([350.0]), embodied_co2_per_metre=50.0)
+    disc = 1.06 ** -np.arange(1, 4)
+    want = np.sum(lc.energy_kwh[0] * 0.3 * 0.08 * disc) + 50.0 * 2000.0 * 0.08
+    assert lc.pv_carbon[0] == pytest.approx(want, rel=1e-12)
+
+
+def test_constant_friction_and_errors():
+    s = small_scenario(friction_method="constant", constant_friction_factor=0.02)
+    lc = evaluate(s, np.array([0.3]), 1e-4, 0.0, np.array([350.0]))
+    assert lc.friction_factor_design[0] == 0.02
+    with pytest.raises(InputError, match="friction_factor must be in"):
+        small_scenario(friction_method="constant")
+    with pytest.raises(InputError, match="pumping.efficiency"):
+        small_scenario(efficiency=1.2)
+
+
+@settings(max_examples=60, deadline=None)
+@given(d1=st.floats(0.1, 1.0), d2=st.floats(0.1, 1.0), eps=st.floats(0.0, 1e-3),
+       growth=st.floats(-0.02, 0.04))
+def test_monotone_in_diameter(d1, d2, eps, growth):
+    # Laws of the model: pipe capital rises with D, pumping energy falls with D; EAC finite > 0.
+    lo, hi = sorted((d1, d2))
+    s = small_scenario(duty=DutyProfile((0.05, 0.08), (3000.0, 1500.0), growth=growth),
+                       horizon=20)
+    lc = evaluate(s, np.array([lo, hi]), eps, 1e-5, 900.0 * np.array([lo, hi]) ** 1.3)
+    assert lc.capex_pipe[0] <= lc.capex_pipe[1]
+    assert np.all(lc.energy_kwh[0] >= lc.energy_kwh[1] - 1e-9)
+    assert np.all(np.isfinite(lc.eac)) and np.all(lc.eac > 0)

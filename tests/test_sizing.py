@@ -1,0 +1,240 @@
+"""Tests of pipeopt.sizing: the sizing study against sources outside the project.
+
+Sources, named beside each check:
+- the closed-form economic diameter D* = (5B/(mA))^(1/(m+5)) and the m/5 split of costs at D*
+  (derivation in the project's REFERENCES.md; Genereaux, Ind. Eng. Chem. 29(4), 1937, from
+  memory, and the textbook treatment);
+- Peters & Timmerhaus, Plant Design and Economics for Chemical Engineers: turbulent
+  D_opt = 3.9 q^0.45 rho^0.13 (in, ft^3/s, lb/ft^3) and 0.363 q^0.45 rho^0.13 (m, m^3/s, kg/m^3),
+  each in its own units, an order-of-magnitude check only;
+- optimum velocity of pumped water about 1-2 m/s (common practice, REFERENCES.md);
+- MODEL.md for the feasibility rules.
+"""
+
+from __future__ import annotations
+
+import copy
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from pipeopt import SizingStudy
+from pipeopt.economics import capital_recovery_factor
+from pipeopt.errors import InputError
+from pipeopt.studyfile import StudyFileError
+
+DATA = Path(__file__).parent / "data"
+
+BASE = {
+    "study": {"name": "check", "currency": "EUR"},
+    "fluid": {"kind": "water", "temperature": "15 degC"},
+    "line": {"length": "2 km", "static_head": "0 m"},
+    "duty": [{"flow": "0.2 m^3/s", "hours": 8000}],
+    "pumping": {"efficiency": 0.75},
+    "energy": {"price": 0.1},
+    "economics": {"discount_rate": 0.06, "horizon": 30, "pipe_life": 30},
+    "material": [{"name": "pe100", "classes": ["SDR 17"],
+                  "cost": {"coefficient": 1500.0, "exponent": 1.4}}],
+}
+
+
+def study_from(**changes) -> SizingStudy:
+    m = copy.deepcopy(BASE)
+    for key, value in changes.items():
+        section, _, name = key.partition("__")
+        if name:
+            m.setdefault(section, {})[name] = value
+        else:
+            m[section] = value
+    return SizingStudy.from_dict(m)
+
+
+# ------------------------------------------------------------------------------------------
+# closed-form optimum (Genereaux 1937; REFERENCES.md derivation)
+# ------------------------------------------------------------------------------------------
+def test_closed_form_optimum_with_constant_friction():
+    f, a, m = 0.015, 1500.0, 1.4
+    st_ = study_from(hydraulics={"friction_method": "constant", "friction_factor": f})
+    rho = st_.fluid.density
+    q, tau, p, eta, i, n = 0.2, 8000.0, 0.1, 0.75, 0.06, 30
+    crf = capital_recovery_factor(i, n)
+    big_a = a * crf                                            # capital charge per m per D^m
+    big_b = 8 * f * rho * q**3 * tau * p / (math.pi**2 * eta * 1000.0)  # energy per m per D^-5
+    d_star = (5 * big_b / (m * big_a)) ** (1 / (m + 5))
+    res = st_.run()
+    opt = res.optimum.iloc[0]
+    assert opt["inner_diameter_m"] == pytest.approx(d_star, abs=1e-6)
+    # at D*, the energy cost is m/5 of the capital charge
+    lc = st_.evaluate()
+    from pipeopt.lifecycle import evaluate
+    at = evaluate(st_.scenario, np.array([opt["inner_diameter_m"]]), 0.0, 0.0,
+                  np.array([a * opt["inner_diameter_m"] ** m]))
+    energy_per_year = at.pv_energy[0] * crf
+    capital_charge = at.capex_pipe[0] * crf
+    assert energy_per_year / capital_charge == pytest.approx(m / 5, rel=1e-6)
+    assert lc.eac.min() >= opt["eac"] - 1e-6  # no catalog size beats the continuous optimum
+
+
+def test_peters_timmerhaus_order_of_magnitude_and_velocity():
+    # A typical turbulent water line (illustrative inputs): steel, 0.1 m^3/s, 8000 h/yr.
+    st_ = study_from(duty=[{"flow": "0.1 m^3/s", "hours": 8000}], pumping={"efficiency": 0.7},
+                     energy={"price": 0.12},
+                     material=[{"name": "steel", "classes": ["STD"],
+                                "cost": {"coefficient": 2400.0, "exponent": 1.2}}])
+    opt = st_.run().optimum.iloc[0]
+    q_si, rho_si = 0.1, st_.fluid.density
+    d_pt_si = 0.363 * q_si**0.45 * rho_si**0.13                  # m (P&T SI form)
+    d_pt_in = 3.9 * (q_si / 0.3048**3) ** 0.45 * (rho_si * 0.0624280) ** 0.13  # inches
+    assert 0.5 < opt["inner_diameter_m"] / d_pt_si < 2.0         # order of magnitude only
+    assert 0.5 < opt["inner_diameter_m"] / (d_pt_in * 0.0254) < 2.0
+    assert 1.0 <= opt["velocity_m_s"] <= 2.0                      # common practice, 1-2 m/s
+
+
+@settings(max_examples=12, deadline=None)
+@given(p1=st.floats(0.03, 0.5), p2=st.floats(0.03, 0.5))
+def test_higher_energy_price_never_gives_smaller_optimum(p1, p2):
+    lo, hi = sorted((p1, p2))
+    d_lo = study_from(energy={"price": lo}).run().optimum["inner_diameter_m"].iloc[0]
+    d_hi = study_from(energy={"price": hi}).run().optimum["inner_diameter_m"].iloc[0]
+    assert d_hi >= d_lo - 2e-6
+
+
+# ------------------------------------------------------------------------------------------
+# the result
+# ------------------------------------------------------------------------------------------
+REQUIRED = ["material", "size", "inner_diameter_m", "roughness_m", "velocity_m_s", "reynolds",
+            "friction_factor", "head_loss_m", "pump_power_kw", "energy_kwh_year1", "capex_pipe",
+            "capex_pump_station", "pv_energy", "pv_maintenance", "pv_total", "eac", "feasible",
+            "reasons"]
+
+
+def test_demo_result_structure():
+    res = SizingStudy.demo().run()
+    assert set(REQUIRED) <= set(res.candidates.columns)
+    assert res.success and res.best is not None
+    feas = res.candidates[res.candidates["feasible"]]
+    assert res.best["eac"] == feas["eac"].min()
+    assert set(res.optimum["material"]) == {"ductile-iron", "pe100", "steel"}
+    for _, o in res.optimum.iterrows():  # bracketing sizes really bracket the optimum
+        assert o["lower_inner_diameter_m"] <= o["inner_diameter_m"] <= o["upper_inner_diameter_m"]
+    text = repr(res)
+    assert "ILLUSTRATIVE" in text and "Caution" in text and "Best:" in text
+    assert "<table" in res._repr_html_()
+    assert len(res.yearly()) == 40
+    assert (res.breakdown()["eac"].diff().dropna() >= 0).all()
+
+
+def test_infeasible_candidates_stay_with_reasons():
+    res = SizingStudy.demo().run()
+    bad = res.candidates[~res.candidates["feasible"]]
+    assert not bad.empty and (bad["reasons"] != "").all()
+    fast = bad[bad["reasons"].str.contains("exceeds velocity_max")]
+    assert (fast["velocity_max_m_s"] > 2.5).all()
+    slow = bad[bad["reasons"].str.contains("below velocity_min")]
+    assert (slow["velocity_m_s"] < 0.5).all()
+
+
+def test_pressure_check_uses_joukowsky_or_allowance():
+    res = study_from(line={"length": "2 km", "static_head": "60 m"},
+                     constraints={"surge_allowance": "30 m"}).run()
+    c = res.candidates
+    np.testing.assert_allclose(c["surge_head_m"], 30.0)
+    over = c["design_pressure_bar"] > c["pressure_rating_bar"]
+    assert (c.loc[over, "reasons"].str.contains("bar rating")).all()
+    assert not c.loc[~over, "reasons"].str.contains("bar rating").any()
+    # without an allowance: Joukowsky a V_max / g with the candidate's wave speed
+    res2 = study_from().run()
+    c2 = res2.candidates
+    wave = res2.study.candidates["wave_speed_m_s"]
+    np.testing.assert_allclose(c2["surge_head_m"], wave * c2["velocity_max_m_s"] / 9.80665)
+
+
+def test_no_feasible_candidate_is_reported_not_raised():
+    res = study_from(constraints={"velocity_max": "0.05 m/s"}).run()
+    assert not res.success and res.best is None
+    assert "no candidate meets every constraint" in res.message
+    assert "No feasible candidate" in res.summary()
+
+
+def test_toml_study_with_cost_table():
+    st_ = SizingStudy.from_toml(DATA / "larkspur.toml")
+    res = st_.run()
+    pvc = res.candidates[res.candidates["material"] == "pvc-u"]
+    row = pvc[pvc["size"] == "315 PN 10"].iloc[0]
+    assert row["capex_pipe"] == pytest.approx(190.0 * 1800.0)  # table cost, exactly
+    assert res.success
+
+
+def test_aging_and_growth_raise_energy_over_the_years():
+    res = SizingStudy.demo().run()
+    y = res.yearly()
+    assert (np.diff(y["energy_kwh"]) > 0).all()  # 1.2 %/yr growth and steel aging
+
+
+# ------------------------------------------------------------------------------------------
+# study-file errors name the key, the rule and the value
+# ------------------------------------------------------------------------------------------
+@pytest.mark.parametrize(
+    ("changes", "match"),
+    [
+        ({"line": {"length": 3200, "static_head": "0 m"}},
+         r"line\.length: expected a length such as '3\.2 km', got 3200 with no unit"),
+        ({"line": {"length": "3 kg", "static_head": "0 m"}}, r"line\.length: expected a length"),
+        ({"line": {"lenght": "3 km", "static_head": "0 m"}},
+         r"line\.lenght: unknown key; did you mean 'line\.length'\?"),
+        ({"pumping": {"efficiency": 1.5}}, r"pumping\.efficiency: must be <= 1"),
+        ({"pumping": {"efficiency": "70 %"}}, r"pumping\.efficiency: expected a number"),
+        ({"duty": [{"flow": "0.2 m^3/s", "hours": 9000}]}, r"duty\[0\]\.hours: must be <= 8760"),
+        ({"duty": [{"flow": "0.2 m^3/s"}]}, r"duty\[0\]\.hours: required key is missing"),
+        ({"economics": {"discount_rate": 0.06, "horizon": 30.5, "pipe_life": 30}},
+         r"economics\.horizon: expected a whole number"),
+        ({"material": [{"name": "unobtanium", "cost": {"coefficient": 1.0, "exponent": 1.0}}]},
+         r"material\[0\]\.name: .*unknown material 'unobtanium'"),
+        ({"material": [{"name": "pe100", "cost": {"coefficient": 1.0}}]},
+         r"material\[0\]\.cost\.exponent: required key is missing"),
+        ({"fluid": {"kind": "water", "temperature": "150 degC"}}, r"not liquid"),
+        ({"fluid": {"kind": "wine", "temperature": "15 degC"}},
+         r"fluid\.kind: must be one of water, coolprop, custom"),
+        ({"constraints": {"velocity_min": "3 m/s", "velocity_max": "2 m/s"}},
+         r"velocity_min \(3 m/s\) must be below velocity_max"),
+        ({"extra": {}}, r"extra: unknown key"),
+    ],
+)
+def test_study_errors(changes, match):
+    with pytest.raises(StudyFileError, match=match):
+        study_from(**changes)
+
+
+def test_study_error_is_input_error_and_value_error():
+    with pytest.raises(InputError):
+        study_from(pumping={"efficiency": 0})
+    with pytest.raises(ValueError):
+        study_from(pumping={"efficiency": 0})
+
+
+def test_toml_syntax_error_names_line_and_column(tmp_path):
+    bad = tmp_path / "bad.toml"
+    bad.write_text("[line]\nlength = \"3 km\nstatic_head = 3\n")
+    with pytest.raises(StudyFileError, match=r"bad\.toml: TOML syntax error: .*line 2, column"):
+        SizingStudy.from_toml(bad)
+
+
+def test_python_constructor_matches_study_file():
+    from pipeopt import Fluid
+    from pipeopt.costs import EnergyTariff
+    from pipeopt.duty import DutyProfile
+    from pipeopt.sizing import Economics, Line, MaterialChoice
+
+    st_ = SizingStudy(
+        Fluid.water("15 degC"), Line("2 km", "0 m"), DutyProfile((0.2,), (8000,)), 0.75,
+        EnergyTariff(0.1), Economics(0.06, 30, 30),
+        [MaterialChoice("pe100", {"coefficient": 1500.0, "exponent": 1.4}, classes=["SDR 17"])])
+    a = st_.run().candidates["eac"].to_numpy()
+    b = study_from().run().candidates["eac"].to_numpy()
+    np.testing.assert_allclose(a, b, rtol=1e-13)
+    with pytest.raises(InputError, match=r"line\.length: expected a length"):
+        Line(2000.0, "0 m")
