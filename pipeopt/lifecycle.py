@@ -26,6 +26,7 @@ evaluated once and broadcast over the years.
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 from typing import Literal
 
@@ -160,6 +161,28 @@ class LifeCycle:
     roughness_capped: np.ndarray         # (C,) bool: ε/D reached the 0.05 bound and was capped
 
 
+@functools.lru_cache(maxsize=64)
+def _year_constants(s: Scenario, t_eval: int) -> dict:
+    """Arrays that depend on the scenario only (cached: studies re-evaluate one scenario often)."""
+    n_years = int(s.horizon)
+    t = np.arange(1, n_years + 1)
+    disc = np.exp(-t * np.log1p(s.discount_rate))
+    out = {"q_total": s.duty.flows_by_year(t_eval), "hours": s.duty.hours_array,
+           "disc": disc, "annuity": disc.sum(),
+           "crf": float(capital_recovery_factor(s.discount_rate, n_years)),
+           "replacement_years": np.zeros(0), "rep_factor": 0.0, "t_last": 0.0}
+    if s.pump_station is not None:
+        n_rep = int(np.ceil(n_years / s.pump_station.life)) - 1   # purchases at k T_s < N
+        years = s.pump_station.life * np.arange(1, n_rep + 1)
+        out["replacement_years"] = years
+        out["rep_factor"] = float(np.exp(-years * np.log1p(s.discount_rate)).sum())
+        out["t_last"] = float(years[-1]) if n_rep else 0.0
+    for v in out.values():
+        if isinstance(v, np.ndarray):
+            v.setflags(write=False)
+    return out
+
+
 def _friction(s: Scenario, re: np.ndarray, rr: np.ndarray) -> np.ndarray:
     if s.friction_method == "constant":
         return np.full(np.broadcast_shapes(re.shape, rr.shape), s.constant_friction_factor)
@@ -204,13 +227,14 @@ def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rat
     g = fr.GRAVITY
     rho = s.density
     duty = s.duty
-    hours = duty.hours_array                              # (K,)
     k_design = int(np.argmax(duty.flow_array))
 
     # --- hydraulics on (C, T, K); T = 1 when every year is the same --------------------------
     same_every_year = years_mode == "auto" and duty.growth == 0 and not np.any(alpha)
     t_eval = 1 if same_every_year else n_years
-    q_total = duty.flows_by_year(t_eval)                  # (T, K) all lines together
+    const = _year_constants(s, t_eval)
+    hours = const["hours"]                                # (K,)
+    q_total = const["q_total"]                            # (T, K) all lines together
     q_line = q_total / s.parallel
     area = np.pi * d * d / 4.0                            # (C,)
     v = q_line[None, :, :] / area[:, None, None]          # (C, T, K)
@@ -232,40 +256,32 @@ def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rat
         peak = np.broadcast_to(peak, (d.size, n_years))
 
     # --- money --------------------------------------------------------------------------------
-    i = s.discount_rate
-    t = np.arange(1, n_years + 1)
-    disc = np.exp(-t * np.log1p(i))                       # (N,)
+    disc = const["disc"]                                  # (N,) discount factors
     energy_cost = s.tariff.yearly_cost(energy, peak)      # (C, N)
     carbon_cost = energy * (s.grid_factor * s.carbon_price)
     capex_pipe = cost_m * s.length * s.parallel
     embodied_cost = co2_m * s.length * s.parallel * s.carbon_price
     installed = np.zeros(d.size)
     capex_ps = np.zeros(d.size)
-    replacement_years = np.zeros(0)
     m_s = 0.0
-    t_last = 0.0
+    t_last = const["t_last"]
     if s.pump_station is not None:
         ps = s.pump_station
         installed = ps.installed_power(peak.max(axis=1))
         capex_ps = ps.capital(peak.max(axis=1))
-        n_rep = int(np.ceil(n_years / ps.life)) - 1       # purchases at k T_s < N
-        replacement_years = ps.life * np.arange(1, n_rep + 1)
-        t_last = float(replacement_years[-1]) if n_rep else 0.0
         m_s = ps.maintenance
     maintenance = s.pipe_maintenance * capex_pipe + m_s * capex_ps           # (C,)
     pv_energy = energy_cost @ disc
     pv_carbon = carbon_cost @ disc + embodied_cost
-    annuity = disc.sum()
-    pv_maintenance = maintenance * annuity
-    rep_factor = np.exp(-replacement_years * np.log1p(i)).sum() if replacement_years.size else 0.0
-    pv_replacement = capex_ps * rep_factor
+    pv_maintenance = maintenance * const["annuity"]
+    pv_replacement = capex_ps * const["rep_factor"]
     residual = capex_pipe * max(0.0, 1.0 - n_years / s.pipe_life)
     if s.pump_station is not None:
         residual = residual + capex_ps * max(0.0, 1.0 - (n_years - t_last) / s.pump_station.life)
     pv_residual = residual * disc[-1]
     pv_total = (capex_pipe + capex_ps + pv_energy + pv_maintenance + pv_replacement + pv_carbon
                 - pv_residual)
-    eac = pv_total * capital_recovery_factor(i, n_years)
+    eac = pv_total * const["crf"]
 
     return LifeCycle(
         velocity_design=v[:, 0, k_design], reynolds_design=re[:, 0, k_design],
@@ -277,6 +293,6 @@ def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rat
         pv_replacement=pv_replacement, pv_residual=pv_residual, pv_carbon=pv_carbon,
         pv_total=pv_total, eac=eac, energy_kwh=np.asarray(energy), peak_kw=np.asarray(peak),
         energy_cost=energy_cost, carbon_cost=carbon_cost, embodied_carbon_cost=embodied_cost,
-        maintenance=maintenance, replacement_years=replacement_years,
+        maintenance=maintenance, replacement_years=const["replacement_years"],
         transitional_points=transitional, roughness_capped=capped,
     )

@@ -614,37 +614,31 @@ class SizingStudy:
             "pv_carbon": lc.pv_carbon, "pv_residual": lc.pv_residual, "pv_total": lc.pv_total,
             "eac": lc.eac,
         })
-        reasons = pd.Series("", index=df.index)
         con = self.constraints
-
-        def add(mask: np.ndarray, words: pd.Series) -> None:
-            nonlocal reasons
-            words = words.where(mask, "")
-            sep = np.where((reasons != "") & (words != ""), "; ", "")
-            reasons = reasons + sep + words
-
-        if con.velocity_min is not None:
-            add(lc.velocity_design < con.velocity_min,
-                "velocity " + df["velocity_m_s"].map("{:.2f}".format) + " m/s at the largest "
-                f"year-1 duty is below velocity_min {con.velocity_min:g} m/s")
-        if con.velocity_max is not None:
-            add(lc.velocity_max > con.velocity_max,
-                "velocity " + df["velocity_max_m_s"].map("{:.2f}".format) + " m/s at the largest "
-                f"flow of any year exceeds velocity_max {con.velocity_max:g} m/s")
         rated = np.isfinite(rating)
-        add(rated & (design_pressure > rating),
-            "pump head " + df["pump_head_max_m"].map("{:.1f}".format) + " m + surge "
-            + df["surge_head_m"].map("{:.1f}".format) + " m = "
-            + df["design_pressure_bar"].map("{:.1f}".format) + " bar exceeds the "
-            + df["pressure_rating_bar"].map("{:.1f}".format) + " bar rating of "
-            + df["pressure_class"].astype(str))
-        notes = pd.Series("", index=df.index)
-        notes = notes.where(rated, "no pressure rating: pressure not checked")
-        trans = np.asarray(lc.transitional_points) > 0
-        notes = notes.where(~trans, notes + np.where(notes != "", "; ", "")
-                            + "transitional flow (2000 <= Re < 4000) at some duty points")
-        notes = notes.where(~lc.roughness_capped, notes + np.where(notes != "", "; ", "")
-                            + "aged roughness capped at 0.05 D (Moody chart limit)")
+        pclass = c["pressure_class"].to_numpy(dtype=str)
+        clauses = []  # (mask, function of the flagged indices giving their words)
+        if con.velocity_min is not None:
+            clauses.append((lc.velocity_design < con.velocity_min, lambda ix: np.char.add(
+                np.char.mod("velocity %.2f m/s", lc.velocity_design[ix]),
+                f" at the largest year-1 duty is below velocity_min {con.velocity_min:g} m/s")))
+        if con.velocity_max is not None:
+            clauses.append((lc.velocity_max > con.velocity_max, lambda ix: np.char.add(
+                np.char.mod("velocity %.2f m/s", lc.velocity_max[ix]),
+                f" at the largest flow of any year exceeds velocity_max "
+                f"{con.velocity_max:g} m/s")))
+        clauses.append((rated & (design_pressure > rating), lambda ix: [
+            f"pump head {h:.1f} m + surge {a:.1f} m = {p / 1e5:.1f} bar exceeds the "
+            f"{r / 1e5:.1f} bar rating of {k}" for h, a, p, r, k in zip(
+                lc.pump_head_max[ix], surge[ix], design_pressure[ix], rating[ix], pclass[ix],
+                strict=True)]))
+        reasons = _join_clauses(len(c), clauses)
+        notes = _join_clauses(len(c), [
+            (~rated, lambda ix: np.full(ix.size, "no pressure rating: pressure not checked")),
+            (np.asarray(lc.transitional_points) > 0, lambda ix: np.full(
+                ix.size, "transitional flow (2000 <= Re < 4000) at some duty points")),
+            (lc.roughness_capped, lambda ix: np.full(
+                ix.size, "aged roughness capped at 0.05 D (Moody chart limit)"))])
         df["feasible"] = reasons == ""
         df["reasons"] = reasons
         df["notes"] = notes
@@ -663,51 +657,65 @@ class SizingStudy:
         s = scenario or self.scenario
         if table is None:
             table = self._table(self.evaluate(s), s)
-        rows = []
+        mat_col = self.candidates["material"].to_numpy()
+        d_all = self.candidates["inner_diameter_m"].to_numpy()
+        specs = []
         for choice in self.materials:
-            cand = self.candidates[self.candidates["material"] == choice.name]
-            d_lo, d_hi = cand["inner_diameter_m"].min(), cand["inner_diameter_m"].max()
-            eps0 = float(cand["roughness_m"].iloc[0])
-            alpha = float(cand["aging_m_per_year"].iloc[0])
+            sel = mat_col == choice.name
+            first = int(np.flatnonzero(sel)[0])
+            specs.append((choice, sel, float(d_all[sel].min()), float(d_all[sel].max()),
+                          float(self.candidates["roughness_m"].iloc[first]),
+                          float(self.candidates["aging_m_per_year"].iloc[first])))
+        # one vectorized scan of every material's range brackets each minimum
+        n_grid = 97
+        grids = np.array([np.geomspace(lo, hi, n_grid) for _, _, lo, hi, _, _ in specs])
+        scan = evaluate(s, grids.ravel(),
+                        np.repeat([sp[4] for sp in specs], n_grid),
+                        np.repeat([sp[5] for sp in specs], n_grid),
+                        np.concatenate([np.asarray(sp[0].cost.per_metre(g))
+                                        for sp, g in zip(specs, grids, strict=True)]))
+        scan_eac = scan.eac.reshape(len(specs), n_grid)
+        q_design = max(s.duty.flows) / s.parallel
+        t_d = table["inner_diameter_m"].to_numpy()
+        t_eac = table["eac"].to_numpy()
+        t_size = table["size"].to_numpy()
+        t_feas = table["feasible"].to_numpy()
+        rows = []
+        for (choice, sel, d_lo, d_hi, eps0, alpha), grid, values in zip(
+                specs, grids, scan_eac, strict=True):
             cost = choice.cost
 
-            def eac(d: np.ndarray, cost=cost, eps0=eps0, alpha=alpha) -> np.ndarray:
-                d = np.atleast_1d(d)
-                return evaluate(s, d, eps0, alpha, np.asarray(cost.per_metre(d))).eac
+            def eac(x: float, cost=cost, eps0=eps0, alpha=alpha) -> float:
+                d = np.array([x])
+                return float(evaluate(s, d, eps0, alpha, np.asarray(cost.per_metre(d))).eac[0])
 
-            if d_hi <= d_lo:
-                d_star = float(d_lo)
-            else:
-                grid = np.geomspace(d_lo, d_hi, 97)
-                values = eac(grid)
-                k = int(np.argmin(values))
-                lo, hi = grid[max(k - 1, 0)], grid[min(k + 1, grid.size - 1)]
-                res = optimize.minimize_scalar(lambda x: float(eac(np.array([x]))[0]),
-                                               bounds=(lo, hi), method="bounded",
+            k = int(np.argmin(values))
+            d_star, e_star = float(grid[k]), float(values[k])
+            if d_hi > d_lo:
+                lo, hi = grid[max(k - 1, 0)], grid[min(k + 1, n_grid - 1)]
+                res = optimize.minimize_scalar(eac, bounds=(lo, hi), method="bounded",
                                                options={"xatol": 1e-7})
-                d_star = float(res.x) if res.fun <= values[k] else float(grid[k])
-            e_star = float(eac(np.array([d_star]))[0])
-            mat_rows = table[table["material"] == choice.name]
-            below = mat_rows[mat_rows["inner_diameter_m"] <= d_star]
-            above = mat_rows[mat_rows["inner_diameter_m"] >= d_star]
-            lower = below.loc[below["inner_diameter_m"].idxmax()] if not below.empty else None
-            upper = above.loc[above["inner_diameter_m"].idxmin()] if not above.empty else None
-            q_design = max(s.duty.flows) / s.parallel
-            feas = mat_rows[mat_rows["feasible"]]
+                if res.fun <= e_star:
+                    d_star, e_star = float(res.x), float(res.fun)
+            below = sel & (t_d <= d_star)
+            above = sel & (t_d >= d_star)
+            i_lo = np.flatnonzero(below)[np.argmax(t_d[below])] if below.any() else None
+            i_hi = np.flatnonzero(above)[np.argmin(t_d[above])] if above.any() else None
+            feas = sel & t_feas
+            i_best = np.flatnonzero(feas)[np.argmin(t_eac[feas])] if feas.any() else None
             rows.append({
                 "material": choice.name, "inner_diameter_m": d_star, "eac": e_star,
                 "velocity_m_s": q_design / (np.pi * d_star**2 / 4.0),
                 "at_bound": bool(np.isclose(d_star, d_lo, rtol=1e-6)
                                  or np.isclose(d_star, d_hi, rtol=1e-6)),
-                "lower_size": None if lower is None else lower["size"],
-                "lower_inner_diameter_m": np.nan if lower is None else lower["inner_diameter_m"],
-                "lower_eac": np.nan if lower is None else lower["eac"],
-                "upper_size": None if upper is None else upper["size"],
-                "upper_inner_diameter_m": np.nan if upper is None else upper["inner_diameter_m"],
-                "upper_eac": np.nan if upper is None else upper["eac"],
-                "best_feasible_size": None if feas.empty else
-                feas.loc[feas["eac"].idxmin(), "size"],
-                "best_feasible_eac": np.nan if feas.empty else feas["eac"].min(),
+                "lower_size": None if i_lo is None else t_size[i_lo],
+                "lower_inner_diameter_m": np.nan if i_lo is None else t_d[i_lo],
+                "lower_eac": np.nan if i_lo is None else t_eac[i_lo],
+                "upper_size": None if i_hi is None else t_size[i_hi],
+                "upper_inner_diameter_m": np.nan if i_hi is None else t_d[i_hi],
+                "upper_eac": np.nan if i_hi is None else t_eac[i_hi],
+                "best_feasible_size": None if i_best is None else t_size[i_best],
+                "best_feasible_eac": np.nan if i_best is None else t_eac[i_best],
             })
         return pd.DataFrame(rows)
 
@@ -718,6 +726,22 @@ class SizingStudy:
 
     def _repr_html_(self) -> str:
         return f"<p><b>{html.escape(repr(self))}</b></p>"
+
+
+def _join_clauses(n: int, clauses: list) -> np.ndarray:
+    """Words for each of n rows: the clauses whose mask holds there, joined by '; '.
+
+    Only the flagged rows are formatted; the rest stay empty strings.
+    """
+    out = np.full(n, "", dtype=object)
+    for mask, words in clauses:
+        ix = np.flatnonzero(mask)
+        if ix.size == 0:
+            continue
+        text = np.asarray(words(ix), dtype=object)
+        prev = out[ix]
+        out[ix] = np.where(prev == "", text, prev + "; " + text)
+    return out
 
 
 def _read_fluid(sec: Section) -> Fluid:
