@@ -38,7 +38,7 @@ from .duty import DutyProfile
 from .economics import capital_recovery_factor
 from .errors import InputError
 
-__all__ = ["Scenario", "LifeCycle", "evaluate"]
+__all__ = ["Scenario", "LifeCycle", "evaluate", "pipe_hydraulics", "pumping"]
 
 
 @dataclass(frozen=True)
@@ -167,7 +167,7 @@ def _year_constants(s: Scenario, t_eval: int) -> dict:
     n_years = int(s.horizon)
     t = np.arange(1, n_years + 1)
     disc = np.exp(-t * np.log1p(s.discount_rate))
-    out = {"q_total": s.duty.flows_by_year(t_eval), "hours": s.duty.hours_array,
+    out = {"q_total": s.duty.flows_by_year(t_eval),
            "disc": disc, "annuity": disc.sum(),
            "crf": float(capital_recovery_factor(s.discount_rate, n_years)),
            "replacement_years": np.zeros(0), "rep_factor": 0.0, "t_last": 0.0}
@@ -187,6 +187,64 @@ def _friction(s: Scenario, re: np.ndarray, rr: np.ndarray) -> np.ndarray:
     if s.friction_method == "constant":
         return np.full(np.broadcast_shapes(re.shape, rr.shape), s.constant_friction_factor)
     return np.asarray(fr.friction_factor(re, rr, method=s.friction_method, transition="ignore"))
+
+
+def pipe_hydraulics(s: Scenario, diameter: np.ndarray, roughness: np.ndarray,
+                    flow: np.ndarray, length: float | None = None,
+                    minor_loss_k: float | None = None) -> dict[str, np.ndarray]:
+    """Velocity, Reynolds number, friction factor and head loss of one line, broadcasting.
+
+    Parameters
+    ----------
+    s : Scenario
+        Fluid properties, friction method and (by default) length and minor losses.
+    diameter, roughness : ndarray
+        Inner diameter [m] and absolute roughness [m], broadcasting against ``flow``.
+    flow : ndarray
+        Flow in this line [m³/s], positive.
+    length, minor_loss_k : float, optional
+        Override the scenario's line length [m] and ΣK [-] (a duplicate line, a test section).
+
+    Returns
+    -------
+    dict of ndarray
+        ``velocity`` [m/s], ``reynolds``, ``friction_factor``, ``head_loss`` [m], and flags
+        ``capped`` (ε/D above 0.05, computed at 0.05) and ``transitional`` (2000 <= Re < 4000).
+    """
+    length = s.length if length is None else length
+    k = s.minor_loss_k if minor_loss_k is None else minor_loss_k
+    d = np.asarray(diameter, dtype=float)
+    v = np.asarray(flow, dtype=float) / (np.pi * d * d / 4.0)
+    re = s.density * v * d / s.viscosity
+    rr = np.asarray(roughness, dtype=float) / d
+    capped = rr > fr.MAX_RELATIVE_ROUGHNESS
+    f = _friction(s, re, np.minimum(rr, fr.MAX_RELATIVE_ROUGHNESS))
+    h = (f * length / d + k) * v * v / (2.0 * fr.GRAVITY)
+    return {"velocity": v, "reynolds": re, "friction_factor": f, "head_loss": h,
+            "capped": np.broadcast_to(capped, h.shape),
+            "transitional": (re >= fr.LAMINAR_LIMIT) & (re < fr.TURBULENT_LIMIT)}
+
+
+def pumping(s: Scenario, head_loss: np.ndarray,
+            flow_total: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Pump head, yearly energy and peak demand from head losses over (..., years, duty points).
+
+    H = z + h; P = ρ g Q H / η for the whole flow; E = Σ_k P h_k / 1000 [kWh];
+    P̂ = max_k P / 1000 [kW].
+
+    Returns
+    -------
+    head : ndarray, shape (..., T, K)
+        Pump head [m].
+    energy : ndarray, shape (..., T)
+        Electrical energy of each year [kWh].
+    peak : ndarray, shape (..., T)
+        Peak electrical demand of each year [kW].
+    """
+    head = s.static_head + head_loss
+    power_w = s.density * fr.GRAVITY * flow_total * head / s.efficiency
+    energy = (power_w * s.duty.hours_array).sum(axis=-1) / 1000.0
+    return head, energy, power_w.max(axis=-1) / 1000.0
 
 
 def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rate: np.ndarray,
@@ -224,8 +282,6 @@ def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rat
     if np.any(~(d > 0)):
         raise InputError("candidate inner diameters must be positive")
     n_years = int(s.horizon)
-    g = fr.GRAVITY
-    rho = s.density
     duty = s.duty
     k_design = int(np.argmax(duty.flow_array))
 
@@ -233,24 +289,13 @@ def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rat
     same_every_year = years_mode == "auto" and duty.growth == 0 and not np.any(alpha)
     t_eval = 1 if same_every_year else n_years
     const = _year_constants(s, t_eval)
-    hours = const["hours"]                                # (K,)
     q_total = const["q_total"]                            # (T, K) all lines together
-    q_line = q_total / s.parallel
-    area = np.pi * d * d / 4.0                            # (C,)
-    v = q_line[None, :, :] / area[:, None, None]          # (C, T, K)
-    re = rho * v * d[:, None, None] / s.viscosity
     eps_t = eps0[:, None] + alpha[:, None] * np.arange(t_eval)[None, :]   # (C, T)
-    rr = eps_t / d[:, None]
-    capped = np.any(rr > fr.MAX_RELATIVE_ROUGHNESS, axis=1)
-    rr = np.minimum(rr, fr.MAX_RELATIVE_ROUGHNESS)
-    f = _friction(s, re, rr[:, :, None])                 # (C, T, K)
-    transitional = np.count_nonzero((re >= fr.LAMINAR_LIMIT) & (re < fr.TURBULENT_LIMIT),
-                                    axis=(1, 2))
-    h = (f * s.length / d[:, None, None] + s.minor_loss_k) * v * v / (2.0 * g)
-    head = s.static_head + h                              # (C, T, K)
-    power_w = rho * g * q_total[None, :, :] * head / s.efficiency
-    energy = (power_w * hours[None, None, :]).sum(axis=2) / 1000.0   # (C, T) kWh
-    peak = power_w.max(axis=2) / 1000.0                   # (C, T) kW
+    hyd = pipe_hydraulics(s, d[:, None, None], eps_t[:, :, None], q_total / s.parallel)
+    v, re, f, h = hyd["velocity"], hyd["reynolds"], hyd["friction_factor"], hyd["head_loss"]
+    capped = np.any(hyd["capped"], axis=(1, 2))
+    transitional = np.count_nonzero(hyd["transitional"], axis=(1, 2))
+    head, energy, peak = pumping(s, h, q_total)           # (C, T, K), (C, T), (C, T)
     if same_every_year:
         energy = np.broadcast_to(energy, (d.size, n_years))
         peak = np.broadcast_to(peak, (d.size, n_years))
