@@ -55,6 +55,8 @@ __all__ = [
     "hazen_williams_head_loss",
     "hazen_williams_c_from_roughness",
     "roughness_from_hazen_williams_c",
+    "roughness_from_head_loss",
+    "hazen_williams_c_from_head_loss",
 ]
 
 #: Standard acceleration of gravity [m/s²] (CGPM 1901, exact by definition).
@@ -868,3 +870,118 @@ def roughness_from_hazen_williams_c(c_factor: Any, diameter: Any, velocity: Any,
         raise InputError(f"c_factor: C = {_first_bad(c, eps < 0)} implies less friction than "
                          f"a smooth pipe at this diameter and velocity; no roughness matches it")
     return restore(eps, tpl)
+
+
+def roughness_from_head_loss(flow: float, diameter: float, length: float, head_loss: float,
+                             density: float, viscosity: float, k_sum: float = 0.0) -> float:
+    """Effective absolute roughness that reproduces a measured friction head loss.
+
+    Inverts Darcy–Weisbach with Colebrook–White: finds ε such that
+    ``line_head_loss(flow, diameter, length, ε, ...) == head_loss`` with Brent's method
+    (:func:`scipy.optimize.brentq`) on ε between 0 and the Moody-chart bound 0.05 D. The
+    section may include fittings (``k_sum``), which is why the root is found numerically rather
+    than from the closed-form inverse.
+
+    Parameters
+    ----------
+    flow : float
+        Measured flow [m³/s], positive.
+    diameter : float
+        Inner diameter of the section [m].
+    length : float
+        Length between the pressure taps [m].
+    head_loss : float
+        Measured friction head loss between the taps [m].
+    density, viscosity : float
+        Fluid properties [kg/m³], [Pa·s].
+    k_sum : float, optional
+        Minor-loss coefficients of fittings between the taps [-].
+
+    Returns
+    -------
+    float
+        Effective absolute roughness [m].
+
+    Raises
+    ------
+    InputError
+        When the measured loss is not positive, is below that of a smooth pipe (the test
+        implies less friction than is physically possible: check the gauges, elevations and
+        flow), or needs a roughness beyond 0.05 D (beyond the Moody chart: the bore is probably
+        smaller than assumed, or the section holds a partly closed valve or an obstruction).
+        The flow must be turbulent (Re >= 4000).
+
+    Examples
+    --------
+    >>> eps = roughness_from_head_loss(0.06, 0.3, 1000.0, 3.0, 999.1, 1.1376e-3)
+    >>> round(line_head_loss(0.06, 0.3, 1000.0, eps, 999.1, 1.1376e-3), 9)
+    3.0
+    """
+    from scipy import optimize
+
+    for name, value in (("flow", flow), ("diameter", diameter), ("length", length)):
+        if not (np.isfinite(value) and value > 0):
+            raise InputError(f"field test: {name} must be positive; got {value!r}")
+    if not np.isfinite(head_loss) or head_loss <= 0:
+        raise InputError(f"field test: the measured friction loss is {head_loss:.4g} m; it must "
+                         f"be positive (check the pressures, the elevations and the flow "
+                         f"direction)")
+    v = flow / (np.pi * diameter**2 / 4.0)
+    re = density * v * diameter / viscosity
+    if re < TURBULENT_LIMIT:
+        raise InputError(f"field test: Re = {re:.0f} is not turbulent; a roughness cannot be "
+                         f"inferred from laminar or transitional flow")
+
+    def excess(eps: float) -> float:
+        return line_head_loss(flow, diameter, length, eps, density, viscosity, k_sum) - head_loss
+
+    smooth = excess(0.0) + head_loss
+    if excess(0.0) > 0:
+        raise InputError(f"field test: the measured loss {head_loss:.4g} m is below the "
+                         f"{smooth:.4g} m of a hydraulically smooth pipe of this bore; the test "
+                         f"implies an implausible negative roughness (check gauges, elevations, "
+                         f"flow and bore)")
+    eps_max = MAX_RELATIVE_ROUGHNESS * diameter
+    if excess(eps_max) < 0:
+        raise InputError(f"field test: the measured loss {head_loss:.4g} m needs a roughness "
+                         f"above 0.05 of the bore ({eps_max * 1e3:.3g} mm), beyond the Moody "
+                         f"chart: the bore is probably smaller than assumed, or a valve or "
+                         f"obstruction is in the section")
+    return float(optimize.brentq(excess, 0.0, eps_max, xtol=1e-15, rtol=1e-13, maxiter=200))
+
+
+def hazen_williams_c_from_head_loss(flow: Any, diameter: Any, length: Any,
+                                    head_loss: Any) -> Any:
+    """Hazen–Williams C that reproduces a measured head loss (the formula solved for C).
+
+    .. math:: C = \\left(\\frac{10.67\\, L\\, Q^{1.852}}{h\\, D^{4.8704}}\\right)^{1/1.852}
+
+    Parameters
+    ----------
+    flow : float or array_like
+        Flow [m³/s].
+    diameter : float or array_like
+        Inner diameter [m].
+    length : float or array_like
+        Length of the section [m].
+    head_loss : float or array_like
+        Friction head loss over the section [m], positive.
+
+    Returns
+    -------
+    float, ndarray or Series
+        C [-].
+
+    Examples
+    --------
+    >>> h = hazen_williams_head_loss(0.1, 0.3, 1000.0, 110.0)
+    >>> round(hazen_williams_c_from_head_loss(0.1, 0.3, 1000.0, h), 9)
+    110.0
+    """
+    (q, d, length_, h), tpl = as_float_arrays(flow, diameter, length, head_loss)
+    _check_positive(q, "flow")
+    _check_positive(d, "diameter")
+    _check_positive(length_, "length")
+    _check_positive(h, "head_loss")
+    return restore((HAZEN_WILLIAMS_SI_K * length_ * q**1.852 / (h * d**4.8704)) ** (1 / 1.852),
+                   tpl)

@@ -341,3 +341,57 @@ def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rat
         maintenance=maintenance, replacement_years=const["replacement_years"],
         transitional_points=transitional, roughness_capped=capped,
     )
+
+
+def parallel_split(s: Scenario, lines: list[dict], flow_total: np.ndarray,
+                   tol: float = 1e-12, max_iter: int = 100) -> list[dict[str, np.ndarray]]:
+    """Split a total flow between lines laid in parallel so that all carry the same head loss.
+
+    Each line i has a resistance h_i = R_i q_i² with R_i = (f_i L_i / D_i + K_i) / (2 g A_i²);
+    for fixed friction factors the split is q_i ∝ R_i^{−1/2}. The friction factors are then
+    re-evaluated at the new flows and the split repeated until the head losses agree to ``tol``
+    metres (the friction factor depends weakly on flow, so this converges in a few steps).
+
+    Parameters
+    ----------
+    s : Scenario
+        Fluid and friction method.
+    lines : list of dict
+        Each with ``diameter`` [m], ``roughness`` [m] (arrays broadcasting against
+        ``flow_total``), ``length`` [m] and ``minor_loss_k`` [-].
+    flow_total : ndarray
+        Total flow [m³/s].
+
+    Returns
+    -------
+    list of dict
+        Per line, the :func:`pipe_hydraulics` arrays plus ``flow`` [m³/s].
+
+    Raises
+    ------
+    InputError
+        When the head losses do not agree within ``max_iter`` iterations.
+    """
+    q = np.asarray(flow_total, dtype=float)
+    geo = []
+    for line in lines:
+        d = np.asarray(line["diameter"], dtype=float)
+        geo.append((d, np.asarray(line["roughness"], dtype=float), float(line["length"]),
+                    float(line["minor_loss_k"]), (np.pi * d * d / 4.0) ** 2))
+    f = [np.full(np.broadcast_shapes(q.shape, g[0].shape), 0.02) for g in geo]
+    for _ in range(max_iter):
+        inv = [1.0 / np.sqrt((fi * L / d + k) / (2.0 * fr.GRAVITY * a2))
+               for fi, (d, _, L, k, a2) in zip(f, geo, strict=True)]
+        total = sum(inv)
+        flows = [q * x / total for x in inv]
+        hyd = [pipe_hydraulics(s, d, eps, qi, L, k)
+               for qi, (d, eps, L, k, _) in zip(flows, geo, strict=True)]
+        heads = [h["head_loss"] for h in hyd]
+        spread = max(np.max(np.abs(h - heads[0])) for h in heads)
+        f = [h["friction_factor"] for h in hyd]
+        if spread <= tol:
+            for h, qi in zip(hyd, flows, strict=True):
+                h["flow"] = qi
+            return hyd
+    raise InputError(f"parallel_split: head losses still differ by {spread:.3g} m after "
+                     f"{max_iter} iterations")

@@ -448,70 +448,17 @@ class SizingStudy:
         top = Section(mapping, "", ("study", "fluid", "line", "duty", "growth", "pumping",
                                     "energy", "pump_station", "economics", "material",
                                     "constraints", "carbon", "hydraulics", "catalog"))
-        study = top.table("study", ("name", "currency", "illustrative", "description"))
-        name, currency, illustrative = "sizing study", "", False
-        if study:
-            name = study.text("name", "sizing study")
-            currency = study.text("currency", "")
-            ill = study.raw("illustrative", False)
-            if not isinstance(ill, bool):
-                raise StudyFileError("study.illustrative: expected true or false")
-            illustrative = ill
-            study.text("description", "")
-        fluid = _read_fluid(top.table("fluid", ("kind", "temperature", "pressure", "name",
-                                                "density", "viscosity", "vapour_pressure",
-                                                "bulk_modulus"), required=True))
+        common = read_common_sections(top, base)
+        name, currency, illustrative = common["name"], common["currency"], common["illustrative"]
+        fluid, duty, efficiency = common["fluid"], common["duty"], common["efficiency"]
+        tariff, station, economics = common["tariff"], common["pump_station"], common["economics"]
+        catalog = common["catalog"]
         ln = top.table("line", ("length", "static_head", "minor_loss_k", "parallel"),
                        required=True)
         line = Line(Quantity(ln.quantity("length", "length"), "m"),
                     Quantity(ln.quantity("static_head", "head", positive=False), "m"),
                     ln.number("minor_loss_k", 0.0, low=0.0),
                     int(ln.number("parallel", 1, low=1, integer=True)))
-        duties = top.tables("duty", ("flow", "hours", "name"))
-        flows, hours, names = [], [], []
-        for d in duties:
-            flows.append(d.quantity("flow", "flow"))
-            hours.append(d.number("hours", None, low=0.0, high=8760.0, low_open=True,
-                                  example="4200"))
-            names.append(d.text("name", f"duty {len(names) + 1}"))
-        growth = 0.0
-        gr = top.table("growth", ("flow_per_year",))
-        if gr:
-            growth = gr.number("flow_per_year", 0.0, low=-0.5, high=0.5)
-        duty = DutyProfile(tuple(flows), tuple(hours), growth, tuple(names))
-        pu = top.table("pumping", ("efficiency",), required=True)
-        efficiency = pu.number("efficiency", None, low=0.0, high=1.0, low_open=True,
-                               example="0.70")
-        en = top.table("energy", ("price", "escalation", "demand_charge"), required=True)
-        tariff = EnergyTariff(en.number("price", None, low=0.0, low_open=True, example="0.12"),
-                              en.number("escalation", 0.0, low=-0.5, high=0.5),
-                              en.number("demand_charge", 0.0, low=0.0))
-        ps = top.table("pump_station", ("cost_coefficient", "cost_exponent", "standby_fraction",
-                                        "life", "maintenance"))
-        station = None
-        if ps:
-            station = PumpStationCost(
-                ps.number("cost_coefficient", None, low=0.0, low_open=True, example="8000"),
-                ps.number("cost_exponent", None, low=0.0, high=2.0, low_open=True,
-                          example="0.7"),
-                ps.number("standby_fraction", 0.0, low=0.0, high=10.0),
-                ps.number("life", 20.0, low=1.0, high=200.0),
-                ps.number("maintenance", 0.0, low=0.0, high=1.0))
-        ec = top.table("economics", ("discount_rate", "horizon", "pipe_life",
-                                     "pipe_maintenance"), required=True)
-        economics = Economics(ec.number("discount_rate", None, low=0.0, high=1.0,
-                                        example="0.05"),
-                              int(ec.number("horizon", None, low=1, high=200, integer=True,
-                                            example="30")),
-                              ec.number("pipe_life", None, low=1.0, high=500.0, example="60"),
-                              ec.number("pipe_maintenance", 0.0, low=0.0, high=1.0))
-        cat = top.table("catalog", ("sizes", "materials"))
-        catalog = default_catalog()
-        if cat:
-            sizes_path = cat.text("sizes")
-            mats_path = cat.text("materials")
-            catalog = load_catalog(sizes=base / sizes_path if sizes_path else None,
-                                   materials=base / mats_path if mats_path else None)
         materials = [_read_material(m, catalog) for m in
                      top.tables("material", ("name", "min_diameter", "max_diameter", "sizes",
                                              "classes", "cost", "aging", "roughness"))]
@@ -726,6 +673,71 @@ class SizingStudy:
 
     def _repr_html_(self) -> str:
         return f"<p><b>{html.escape(repr(self))}</b></p>"
+
+
+def read_common_sections(top: Section, base: Path) -> dict[str, Any]:
+    """Read the sections a sizing and an upgrade study share.
+
+    ``[study]``, ``[fluid]``, ``[[duty]]``, ``[growth]``, ``[pumping]``, ``[energy]``,
+    ``[pump_station]``, ``[economics]`` and ``[catalog]`` (paths relative to ``base``).
+    """
+    study = top.table("study", ("name", "currency", "illustrative", "description"))
+    name, currency, illustrative = "study", "", False
+    if study:
+        name = study.text("name", "study")
+        currency = study.text("currency", "")
+        ill = study.raw("illustrative", False)
+        if not isinstance(ill, bool):
+            raise StudyFileError("study.illustrative: expected true or false")
+        illustrative = ill
+        study.text("description", "")
+    fluid = _read_fluid(top.table("fluid", ("kind", "temperature", "pressure", "name",
+                                            "density", "viscosity", "vapour_pressure",
+                                            "bulk_modulus"), required=True))
+    flows, hours, names = [], [], []
+    for d in top.tables("duty", ("flow", "hours", "name")):
+        flows.append(d.quantity("flow", "flow"))
+        hours.append(d.number("hours", None, low=0.0, high=8760.0, low_open=True,
+                              example="4200"))
+        names.append(d.text("name", f"duty {len(names) + 1}"))
+    growth = 0.0
+    gr = top.table("growth", ("flow_per_year",))
+    if gr:
+        growth = gr.number("flow_per_year", 0.0, low=-0.5, high=0.5)
+    duty = DutyProfile(tuple(flows), tuple(hours), growth, tuple(names))
+    pu = top.table("pumping", ("efficiency",), required=True)
+    efficiency = pu.number("efficiency", None, low=0.0, high=1.0, low_open=True, example="0.70")
+    en = top.table("energy", ("price", "escalation", "demand_charge"), required=True)
+    tariff = EnergyTariff(en.number("price", None, low=0.0, low_open=True, example="0.12"),
+                          en.number("escalation", 0.0, low=-0.5, high=0.5),
+                          en.number("demand_charge", 0.0, low=0.0))
+    ps = top.table("pump_station", ("cost_coefficient", "cost_exponent", "standby_fraction",
+                                    "life", "maintenance"))
+    station = None
+    if ps:
+        station = PumpStationCost(
+            ps.number("cost_coefficient", None, low=0.0, low_open=True, example="8000"),
+            ps.number("cost_exponent", None, low=0.0, high=2.0, low_open=True, example="0.7"),
+            ps.number("standby_fraction", 0.0, low=0.0, high=10.0),
+            ps.number("life", 20.0, low=1.0, high=200.0),
+            ps.number("maintenance", 0.0, low=0.0, high=1.0))
+    ec = top.table("economics", ("discount_rate", "horizon", "pipe_life", "pipe_maintenance"),
+                   required=True)
+    economics = Economics(ec.number("discount_rate", None, low=0.0, high=1.0, example="0.05"),
+                          int(ec.number("horizon", None, low=1, high=200, integer=True,
+                                        example="30")),
+                          ec.number("pipe_life", None, low=1.0, high=500.0, example="60"),
+                          ec.number("pipe_maintenance", 0.0, low=0.0, high=1.0))
+    cat = top.table("catalog", ("sizes", "materials"))
+    catalog = default_catalog()
+    if cat:
+        sizes_path = cat.text("sizes")
+        mats_path = cat.text("materials")
+        catalog = load_catalog(sizes=base / sizes_path if sizes_path else None,
+                               materials=base / mats_path if mats_path else None)
+    return {"name": name, "currency": currency, "illustrative": illustrative, "fluid": fluid,
+            "duty": duty, "efficiency": efficiency, "tariff": tariff, "pump_station": station,
+            "economics": economics, "catalog": catalog}
 
 
 def _join_clauses(n: int, clauses: list) -> np.ndarray:
