@@ -2,9 +2,10 @@
 
 Layers: physics (:mod:`~pipeopt.friction`, :mod:`~pipeopt.fluid`, :mod:`~pipeopt.catalog`,
 :mod:`~pipeopt.pressure`, :mod:`~pipeopt.surge`), model (:mod:`~pipeopt.economics`,
-:mod:`~pipeopt.costs`, :mod:`~pipeopt.duty`, :mod:`~pipeopt.lifecycle`), study
-(:class:`SizingStudy`), presentation (:mod:`~pipeopt.cli`). Units are parsed at the edge
-(:mod:`pipeopt.units`); everything below works in SI.
+:mod:`~pipeopt.costs`, :mod:`~pipeopt.duty`, :mod:`~pipeopt.lifecycle`,
+:mod:`~pipeopt.renewal`), study (:class:`SizingStudy`, :class:`UpgradeStudy`), presentation
+(:mod:`~pipeopt.cli`). Units are parsed at the edge (:mod:`pipeopt.units`); everything below
+works in SI.
 """
 
 from . import catalog, friction, units
@@ -12,8 +13,10 @@ from .errors import FluidStateError, InputError, PipeoptError
 from .fluid import Fluid
 from .sizing import SizingResult, SizingStudy
 from .units import Quantity, ureg
+from .upgrade import UpgradeResult, UpgradeStudy
 
 __version__ = "0.1.0"
 
-__all__ = ["Fluid", "SizingStudy", "SizingResult", "Quantity", "ureg", "catalog", "friction",
-           "units", "InputError", "PipeoptError", "FluidStateError", "__version__"]
+__all__ = ["Fluid", "SizingStudy", "SizingResult", "UpgradeStudy", "UpgradeResult", "Quantity",
+           "ureg", "catalog", "friction", "units", "InputError", "PipeoptError",
+           "FluidStateError", "__version__"]

@@ -1,8 +1,9 @@
 """Command line of pipeopt (presentation layer).
 
-Subcommands: ``run`` (a sizing study file), ``demo`` (the bundled demonstration), ``catalog``
-(list materials and sizes). Exit status: 0 success, 2 bad input (one readable message naming the
-key, never a traceback), 3 an internal error (with ``--debug`` for the traceback).
+Subcommands: ``run`` (a sizing study file), ``upgrade`` (an upgrade study file), ``demo`` (the
+bundled demonstrations), ``catalog`` (list materials and sizes). Exit status: 0 success, 1 a
+sizing study with no feasible candidate, 2 bad input (one readable message naming the key,
+never a traceback), 3 an internal error (``--debug`` shows its traceback).
 """
 
 from __future__ import annotations
@@ -59,15 +60,42 @@ def _cmd_run(args: argparse.Namespace) -> int:
     return 0 if result.success else 1
 
 
+def _write_upgrade_tables(result, out: Path) -> list[Path]:
+    texts = {name: frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
+             for name, frame in (("cash_flows.csv", result.cash_flows),
+                                 ("summary.csv", result.summary))}
+    for name, text in texts.items():
+        _write_atomic(out / name, text)
+    return [out / name for name in texts]
+
+
+def _cmd_upgrade(args: argparse.Namespace) -> int:
+    from .upgrade import UpgradeStudy
+
+    study = UpgradeStudy.from_toml(args.study)
+    result = study.run()
+    print(result.text())
+    if args.out:
+        for p in _write_upgrade_tables(result, Path(args.out)):
+            print(f"wrote {p}")
+    return 0
+
+
 def _cmd_demo(args: argparse.Namespace) -> int:
     from .sizing import SizingStudy
+    from .upgrade import UpgradeStudy
 
     print(DEMO_NOTE)
     print()
     result = SizingStudy.demo().run()
     print(result.summary())
+    upgrade = UpgradeStudy.demo().run()
+    print()
+    print(upgrade.text())
     if args.out:
-        for p in _write_tables(result, Path(args.out)):
+        written = _write_tables(result, Path(args.out) / "sizing")
+        written += _write_upgrade_tables(upgrade, Path(args.out) / "upgrade")
+        for p in written:
             print(f"wrote {p}")
     return 0
 
@@ -110,6 +138,14 @@ def build_parser() -> argparse.ArgumentParser:
     run.add_argument("study", help="the study file (TOML)")
     run.add_argument("--out", help="folder for candidates.csv and optimum.csv")
     run.set_defaults(func=_cmd_run)
+
+    upg = sub.add_parser("upgrade", help="run an upgrade study file (keep, reline, replace, "
+                                         "duplicate)",
+                         description="Run an upgrade study (TOML) and print its comparison.",
+                         epilog="example: pipeopt upgrade main.toml --out results")
+    upg.add_argument("study", help="the upgrade study file (TOML)")
+    upg.add_argument("--out", help="folder for cash_flows.csv and summary.csv")
+    upg.set_defaults(func=_cmd_upgrade)
 
     demo = sub.add_parser("demo", help="run the bundled demonstration study",
                           description="Run the bundled demonstration (an invented scenario).",

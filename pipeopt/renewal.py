@@ -1,7 +1,9 @@
 """Renewal of existing mains (model layer): break growth and the optimal replacement time.
 
-Breaks of an ageing main grow exponentially (Shamir & Howard 1979): N(t) = N(t0) e^{A (t − t0)}.
-pipeopt counts study years t = 1 … N from now, so the breaks of year t are N0 e^{A (t − 1)}.
+Breaks of an ageing main grow exponentially (Shamir & Howard 1979): the break rate is
+N(t) = N(t0) e^{A (t − t0)}. pipeopt counts study years t = 1 … N from now (t0 = 0); the expected
+breaks of year t are the rate integrated over that year, N0 e^{A (t − 1)} (e^A − 1) / A (N0 when
+A = 0), so that yearly counts and the continuous model of Shamir & Howard agree.
 
 References
 ----------
@@ -21,12 +23,14 @@ __all__ = ["break_counts", "shamir_howard_replacement_time"]
 
 
 def break_counts(breaks_now: float, growth: float, years: int) -> np.ndarray:
-    """Expected breaks in each study year, N0 e^{A (t − 1)} for t = 1 … N.
+    """Expected breaks in each study year t = 1 … N: ∫ N0 e^{A s} ds over year t.
+
+    That is N0 e^{A (t − 1)} (e^A − 1) / A, and N0 every year when A = 0.
 
     Parameters
     ----------
     breaks_now : float
-        Breaks per year now (year 1), N0 [1/yr], >= 0.
+        Break rate now, N0 [breaks per year], >= 0.
     growth : float
         Exponential growth rate A [1/yr] (0.05 means about 5 % more breaks every year).
     years : int
@@ -40,13 +44,15 @@ def break_counts(breaks_now: float, growth: float, years: int) -> np.ndarray:
     Examples
     --------
     >>> break_counts(2.0, 0.1, 3).round(4).tolist()
-    [2.0, 2.2103, 2.4428]
+    [2.1034, 2.3246, 2.5691]
     """
     if not (math.isfinite(breaks_now) and breaks_now >= 0):
         raise InputError(f"breaks_per_year must be >= 0; got {breaks_now!r}")
     if not (math.isfinite(growth) and -1 < growth < 1):
         raise InputError(f"break_growth must be a rate per year between -1 and 1; got {growth!r}")
-    return breaks_now * np.exp(growth * np.arange(years))
+    # special case: no growth, the integral over a year is the rate itself
+    per_year = 1.0 if growth == 0 else math.expm1(growth) / growth
+    return breaks_now * per_year * np.exp(growth * np.arange(years))
 
 
 def shamir_howard_replacement_time(breaks_now: float, growth: float, break_cost: float,
