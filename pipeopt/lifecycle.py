@@ -28,7 +28,7 @@ from __future__ import annotations
 
 import functools
 from dataclasses import dataclass
-from typing import Literal
+from typing import Any, Literal
 
 import numpy as np
 
@@ -38,7 +38,8 @@ from .duty import DutyProfile
 from .economics import capital_recovery_factor
 from .errors import InputError
 
-__all__ = ["Scenario", "LifeCycle", "evaluate", "pipe_hydraulics", "pumping"]
+__all__ = ["Scenario", "LifeCycle", "Variations", "VARIABLE_INPUTS", "evaluate",
+           "pipe_hydraulics", "pumping", "parallel_split"]
 
 
 @dataclass(frozen=True)
@@ -161,31 +162,15 @@ class LifeCycle:
     roughness_capped: np.ndarray         # (C,) bool: ε/D reached the 0.05 bound and was capped
 
 
-@functools.lru_cache(maxsize=64)
-def _year_constants(s: Scenario, t_eval: int) -> dict:
-    """Arrays that depend on the scenario only (cached: studies re-evaluate one scenario often)."""
-    n_years = int(s.horizon)
-    t = np.arange(1, n_years + 1)
-    disc = np.exp(-t * np.log1p(s.discount_rate))
-    out = {"q_total": s.duty.flows_by_year(t_eval),
-           "disc": disc, "annuity": disc.sum(),
-           "crf": float(capital_recovery_factor(s.discount_rate, n_years)),
-           "replacement_years": np.zeros(0), "rep_factor": 0.0, "t_last": 0.0}
-    if s.pump_station is not None:
-        n_rep = int(np.ceil(n_years / s.pump_station.life)) - 1   # purchases at k T_s < N
-        years = s.pump_station.life * np.arange(1, n_rep + 1)
-        out["replacement_years"] = years
-        out["rep_factor"] = float(np.exp(-years * np.log1p(s.discount_rate)).sum())
-        out["t_last"] = float(years[-1]) if n_rep else 0.0
-    for v in out.values():
-        if isinstance(v, np.ndarray):
-            v.setflags(write=False)
-    return out
-
-
 def _friction(s: Scenario, re: np.ndarray, rr: np.ndarray) -> np.ndarray:
     if s.friction_method == "constant":
         return np.full(np.broadcast_shapes(re.shape, rr.shape), s.constant_friction_factor)
+    if s.friction_method == "colebrook" and re.min() >= fr.LAMINAR_LIMIT:
+        # every point turbulent or transitional: the inputs are valid by construction here
+        # (positive flows and bores, relative roughness capped to [0, 0.05]), so go straight
+        # to the solver without the public function's checks
+        re_b, rr_b = np.broadcast_arrays(re, rr)
+        return fr._colebrook(re_b, rr_b)
     return np.asarray(fr.friction_factor(re, rr, method=s.friction_method, transition="ignore"))
 
 
@@ -225,12 +210,14 @@ def pipe_hydraulics(s: Scenario, diameter: np.ndarray, roughness: np.ndarray,
             "transitional": (re >= fr.LAMINAR_LIMIT) & (re < fr.TURBULENT_LIMIT)}
 
 
-def pumping(s: Scenario, head_loss: np.ndarray,
-            flow_total: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def pumping(s: Scenario, head_loss: np.ndarray, flow_total: np.ndarray,
+            efficiency: Any = None,
+            hours_factor: Any = 1.0) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Pump head, yearly energy and peak demand from head losses over (..., years, duty points).
 
     H = z + h; P = ρ g Q H / η for the whole flow; E = Σ_k P h_k / 1000 [kWh];
-    P̂ = max_k P / 1000 [kW].
+    P̂ = max_k P / 1000 [kW]. ``efficiency`` (default the scenario's) and ``hours_factor``
+    (multiplying every duty's hours) may be arrays broadcasting against ``head_loss``.
 
     Returns
     -------
@@ -242,14 +229,115 @@ def pumping(s: Scenario, head_loss: np.ndarray,
         Peak electrical demand of each year [kW].
     """
     head = s.static_head + head_loss
-    power_w = s.density * fr.GRAVITY * flow_total * head / s.efficiency
-    energy = (power_w * s.duty.hours_array).sum(axis=-1) / 1000.0
+    eta = s.efficiency if efficiency is None else efficiency
+    power_w = s.density * fr.GRAVITY * flow_total * head / eta
+    energy = (power_w * (s.duty.hours_array * hours_factor)).sum(axis=-1) / 1000.0
     return head, energy, power_w.max(axis=-1) / 1000.0
+
+
+#: Names of the inputs a :class:`Variations` may change, each an array over samples.
+VARIABLE_INPUTS = ("energy_price", "escalation", "demand_charge", "discount_rate", "horizon",
+                   "efficiency", "flow_factor", "hours_factor", "growth", "aging_factor",
+                   "pipe_cost_factor", "station_cost_factor")
+
+
+@dataclass(frozen=True)
+class Variations:
+    """Per-sample values of scenario inputs, for sensitivity and Monte Carlo (model layer).
+
+    Each field is None (the scenario's own value) or an array over S samples. Factors multiply
+    the scenario's value (``flow_factor`` every duty flow, ``hours_factor`` every duty's hours,
+    ``aging_factor`` every candidate's aging rate, ``pipe_cost_factor`` the pipe capital, which
+    may also be an (S, C) array, one factor per candidate); the others replace it.
+    """
+
+    energy_price: np.ndarray | None = None
+    escalation: np.ndarray | None = None
+    demand_charge: np.ndarray | None = None
+    discount_rate: np.ndarray | None = None
+    horizon: np.ndarray | None = None
+    efficiency: np.ndarray | None = None
+    flow_factor: np.ndarray | None = None
+    hours_factor: np.ndarray | None = None
+    growth: np.ndarray | None = None
+    aging_factor: np.ndarray | None = None
+    pipe_cost_factor: np.ndarray | None = None
+    station_cost_factor: np.ndarray | None = None
+
+    @property
+    def size(self) -> int:
+        """Number of samples S (1 when nothing varies)."""
+        sizes = {np.shape(v)[0] for v in self.__dict__.values() if v is not None}
+        if len(sizes) > 1:
+            raise InputError(f"Variations: every input needs the same number of samples; got "
+                             f"{sorted(sizes)}")
+        return sizes.pop() if sizes else 1
+
+    def resolved(self, s: Scenario) -> dict[str, np.ndarray]:
+        """Every input as an (S,) array (pipe_cost_factor (S, 1) or (S, C)), defaults filled."""
+        n = self.size
+        base = {"energy_price": s.tariff.price, "escalation": s.tariff.escalation,
+                "demand_charge": s.tariff.demand_charge, "discount_rate": s.discount_rate,
+                "horizon": s.horizon, "efficiency": s.efficiency, "flow_factor": 1.0,
+                "hours_factor": 1.0, "growth": s.duty.growth, "aging_factor": 1.0,
+                "station_cost_factor": 1.0}
+        out = {}
+        for name, default in base.items():
+            v = getattr(self, name)
+            out[name] = np.full(n, float(default)) if v is None else np.asarray(v, dtype=float)
+        pc = self.pipe_cost_factor
+        out["pipe_cost_factor"] = (np.ones((n, 1)) if pc is None else
+                                   np.asarray(pc, dtype=float).reshape(n, -1))
+        h = out["horizon"]
+        if np.any(h != np.round(h)) or np.any(h < 1):
+            raise InputError("horizon must be a whole number of years >= 1 in every sample")
+        if np.any(out["efficiency"] <= 0) or np.any(out["efficiency"] > 1):
+            raise InputError("efficiency must be in (0, 1] in every sample")
+        if np.any(out["discount_rate"] <= -1) or np.any(out["growth"] <= -1):
+            raise InputError("discount_rate and growth must be greater than -1 in every sample")
+        for name in ("flow_factor", "hours_factor", "energy_price"):
+            if np.any(out[name] <= 0):
+                raise InputError(f"{name} must be positive in every sample")
+        return out
+
+
+def _constants(s: Scenario, v: dict[str, np.ndarray]) -> dict[str, Any]:
+    """Arrays over samples and years that do not depend on the candidates."""
+    horizon = v["horizon"].astype(int)                                         # (S,)
+    n_years = int(horizon.max())
+    t = np.arange(1, n_years + 1)
+    live = t[None, :] <= horizon[:, None]                                      # (S, N)
+    log1p_i = np.log1p(v["discount_rate"])
+    disc = np.exp(-t[None, :] * log1p_i[:, None]) * live                       # (S, N)
+    out = {"v": v, "horizon": horizon, "live": live, "disc": disc,
+           "disc_end": np.exp(-horizon * log1p_i), "annuity": disc.sum(axis=1),
+           "price": v["energy_price"][:, None]
+           * (1.0 + v["escalation"][:, None]) ** (t[None, :] - 1),
+           "crf": np.asarray(capital_recovery_factor(v["discount_rate"], horizon)),
+           "rep_factor": np.zeros(horizon.shape), "replacement_years": np.zeros(0),
+           "station_residual_fraction": np.zeros(horizon.shape)}
+    if s.pump_station is not None:
+        life = s.pump_station.life
+        # purchases at k T_s < N (k >= 1); t_last is the last of them, 0 if none
+        k_max = np.ceil(horizon / life).astype(int) - 1                        # (S,)
+        k = np.arange(1, int(k_max.max()) + 1)
+        buys = k[None, :] <= k_max[:, None]
+        out["rep_factor"] = (np.exp(-life * k[None, :] * log1p_i[:, None]) * buys).sum(axis=1)
+        out["station_residual_fraction"] = np.maximum(0.0, 1.0 - (horizon - life * k_max) / life)
+        out["replacement_years"] = life * np.arange(1, int(k_max[0]) + 1)
+    return out
+
+
+@functools.lru_cache(maxsize=64)
+def _base_constants(s: Scenario) -> dict[str, Any]:
+    """:func:`_constants` of the scenario itself (cached: studies re-evaluate one scenario)."""
+    return _constants(s, Variations().resolved(s))
 
 
 def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rate: np.ndarray,
              pipe_cost_per_metre: np.ndarray, embodied_co2_per_metre: np.ndarray | float = 0.0,
-             years_mode: Literal["auto", "full"] = "auto") -> LifeCycle:
+             years_mode: Literal["auto", "full"] = "auto",
+             variations: Variations | None = None, eac_only: bool = False) -> Any:
     """Hydraulics and life-cycle cost of every candidate, every duty point, every year.
 
     Parameters
@@ -269,78 +357,103 @@ def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rat
     years_mode : {"auto", "full"}
         ``"auto"`` evaluates the hydraulics once when no flow grows and nothing ages;
         ``"full"`` always evaluates every year (for checks).
+    variations : Variations, optional
+        Per-sample inputs. Without it the result arrays have shape (C,) and (C, N); with it,
+        a leading sample axis: (S, C) and (S, C, N) (N the longest horizon; years beyond a
+        sample's own horizon hold zeros).
+
+    eac_only : bool, optional
+        Return only the EAC array (the objective of the continuous optimum).
 
     Returns
     -------
-    LifeCycle
+    LifeCycle, or ndarray when ``eac_only``
     """
     d = np.atleast_1d(np.asarray(diameter, dtype=float))
-    eps0 = np.broadcast_to(np.asarray(roughness, dtype=float), d.shape)
-    alpha = np.broadcast_to(np.asarray(aging_rate, dtype=float), d.shape)
-    cost_m = np.broadcast_to(np.asarray(pipe_cost_per_metre, dtype=float), d.shape)
-    co2_m = np.broadcast_to(np.asarray(embodied_co2_per_metre, dtype=float), d.shape)
-    if np.any(~(d > 0)):
+    eps0 = np.asarray(roughness, dtype=float) * np.ones_like(d)
+    alpha = np.asarray(aging_rate, dtype=float) * np.ones_like(d)
+    cost_m = np.asarray(pipe_cost_per_metre, dtype=float) * np.ones_like(d)
+    co2_m = np.asarray(embodied_co2_per_metre, dtype=float) * np.ones_like(d)
+    if not d.min() > 0:
         raise InputError("candidate inner diameters must be positive")
-    n_years = int(s.horizon)
+    c = _base_constants(s) if variations is None else _constants(s, variations.resolved(s))
+    v = c["v"]
+    horizon = c["horizon"]                               # (S,)
+    n_years = int(horizon.max())
     duty = s.duty
     k_design = int(np.argmax(duty.flow_array))
+    col = (slice(None), None)                            # (S,) -> (S, 1)
 
-    # --- hydraulics on (C, T, K); T = 1 when every year is the same --------------------------
-    same_every_year = years_mode == "auto" and duty.growth == 0 and not np.any(alpha)
+    # --- hydraulics on (S, C, T, K); T = 1 when every year is the same ----------------------
+    same_every_year = (years_mode == "auto" and not np.any(v["growth"]) and not np.any(alpha))
     t_eval = 1 if same_every_year else n_years
-    const = _year_constants(s, t_eval)
-    q_total = const["q_total"]                            # (T, K) all lines together
-    eps_t = eps0[:, None] + alpha[:, None] * np.arange(t_eval)[None, :]   # (C, T)
-    hyd = pipe_hydraulics(s, d[:, None, None], eps_t[:, :, None], q_total / s.parallel)
-    v, re, f, h = hyd["velocity"], hyd["reynolds"], hyd["friction_factor"], hyd["head_loss"]
-    capped = np.any(hyd["capped"], axis=(1, 2))
-    transitional = np.count_nonzero(hyd["transitional"], axis=(1, 2))
-    head, energy, peak = pumping(s, h, q_total)           # (C, T, K), (C, T), (C, T)
+    years = np.arange(t_eval)
+    growth = (1.0 + v["growth"][:, None]) ** years[None, :]                    # (S, T)
+    q_total = (duty.flow_array[None, None, :] * (v["flow_factor"][:, None] * growth)[:, :, None])
+    eps_t = (eps0[None, :, None] + alpha[None, :, None] * v["aging_factor"][:, None, None]
+             * years[None, None, :])                                           # (S, C, T)
+    hyd = pipe_hydraulics(s, d[None, :, None, None], eps_t[..., None],
+                          q_total[:, None, :, :] / s.parallel)
+    vel, re, f, h = hyd["velocity"], hyd["reynolds"], hyd["friction_factor"], hyd["head_loss"]
+    capped = np.any(hyd["capped"], axis=(2, 3))
+    transitional = np.count_nonzero(hyd["transitional"], axis=(2, 3))
+    head, energy, peak = pumping(s, h, q_total[:, None, :, :],
+                                 efficiency=v["efficiency"][:, None, None, None],
+                                 hours_factor=v["hours_factor"][:, None, None, None])
     if same_every_year:
-        energy = np.broadcast_to(energy, (d.size, n_years))
-        peak = np.broadcast_to(peak, (d.size, n_years))
+        energy = np.broadcast_to(energy, energy.shape[:2] + (n_years,))
+        peak = np.broadcast_to(peak, peak.shape[:2] + (n_years,))
 
-    # --- money --------------------------------------------------------------------------------
-    disc = const["disc"]                                  # (N,) discount factors
-    energy_cost = s.tariff.yearly_cost(energy, peak)      # (C, N)
-    carbon_cost = energy * (s.grid_factor * s.carbon_price)
-    capex_pipe = cost_m * s.length * s.parallel
-    embodied_cost = co2_m * s.length * s.parallel * s.carbon_price
-    installed = np.zeros(d.size)
-    capex_ps = np.zeros(d.size)
+    # --- money: (S, C) and (S, C, N) ----------------------------------------------------------
+    live, disc, disc_end, price = c["live"], c["disc"], c["disc_end"], c["price"]
+    energy_cost = (energy * price[:, None, :] + v["demand_charge"][:, None, None] * peak) \
+        * live[:, None, :]
+    carbon_cost = energy * (s.grid_factor * s.carbon_price) * live[:, None, :]
+    capex_pipe = cost_m[None, :] * v["pipe_cost_factor"] * s.length * s.parallel       # (S, C)
+    embodied_cost = np.broadcast_to(co2_m * s.length * s.parallel * s.carbon_price,
+                                    capex_pipe.shape)
+    installed = np.zeros_like(capex_pipe)
+    capex_ps = np.zeros_like(capex_pipe)
+    residual_ps = np.zeros_like(capex_pipe)
     m_s = 0.0
-    t_last = const["t_last"]
     if s.pump_station is not None:
         ps = s.pump_station
-        installed = ps.installed_power(peak.max(axis=1))
-        capex_ps = ps.capital(peak.max(axis=1))
+        peak_max = np.max(np.where(live[:, None, :], peak, 0.0), axis=2)      # (S, C)
+        installed = ps.installed_power(peak_max)
+        capex_ps = ps.capital(peak_max) * v["station_cost_factor"][col]
+        residual_ps = capex_ps * c["station_residual_fraction"][col]
         m_s = ps.maintenance
-    maintenance = s.pipe_maintenance * capex_pipe + m_s * capex_ps           # (C,)
-    pv_energy = energy_cost @ disc
-    pv_carbon = carbon_cost @ disc + embodied_cost
-    pv_maintenance = maintenance * const["annuity"]
-    pv_replacement = capex_ps * const["rep_factor"]
-    residual = capex_pipe * max(0.0, 1.0 - n_years / s.pipe_life)
-    if s.pump_station is not None:
-        residual = residual + capex_ps * max(0.0, 1.0 - (n_years - t_last) / s.pump_station.life)
-    pv_residual = residual * disc[-1]
+    maintenance = s.pipe_maintenance * capex_pipe + m_s * capex_ps                     # (S, C)
+    pv_energy = np.einsum("scn,sn->sc", energy_cost, disc)
+    pv_carbon = np.einsum("scn,sn->sc", carbon_cost, disc) + embodied_cost
+    pv_maintenance = maintenance * c["annuity"][col]
+    pv_replacement = capex_ps * c["rep_factor"][col]
+    residual = capex_pipe * np.maximum(0.0, 1.0 - horizon / s.pipe_life)[col] + residual_ps
+    pv_residual = residual * disc_end[col]
     pv_total = (capex_pipe + capex_ps + pv_energy + pv_maintenance + pv_replacement + pv_carbon
                 - pv_residual)
-    eac = pv_total * const["crf"]
+    eac = pv_total * c["crf"][col]
+    if eac_only:
+        return eac[0] if variations is None else eac
 
-    return LifeCycle(
-        velocity_design=v[:, 0, k_design], reynolds_design=re[:, 0, k_design],
-        friction_factor_design=f[:, 0, k_design], head_loss_design=h[:, 0, k_design],
-        pump_head_design=head[:, 0, k_design], pump_power_peak_year1=peak[:, 0],
-        energy_year1=energy[:, 0], velocity_max=v.max(axis=(1, 2)),
-        pump_head_max=head.max(axis=(1, 2)), installed_power=installed, capex_pipe=capex_pipe,
+    out = LifeCycle(
+        velocity_design=vel[:, :, 0, k_design], reynolds_design=re[:, :, 0, k_design],
+        friction_factor_design=f[:, :, 0, k_design], head_loss_design=h[:, :, 0, k_design],
+        pump_head_design=head[:, :, 0, k_design], pump_power_peak_year1=peak[:, :, 0],
+        energy_year1=energy[:, :, 0], velocity_max=vel.max(axis=(2, 3)),
+        pump_head_max=head.max(axis=(2, 3)), installed_power=installed, capex_pipe=capex_pipe,
         capex_pump_station=capex_ps, pv_energy=pv_energy, pv_maintenance=pv_maintenance,
         pv_replacement=pv_replacement, pv_residual=pv_residual, pv_carbon=pv_carbon,
         pv_total=pv_total, eac=eac, energy_kwh=np.asarray(energy), peak_kw=np.asarray(peak),
         energy_cost=energy_cost, carbon_cost=carbon_cost, embodied_carbon_cost=embodied_cost,
-        maintenance=maintenance, replacement_years=const["replacement_years"],
+        maintenance=maintenance, replacement_years=c["replacement_years"],
         transitional_points=transitional, roughness_capped=capped,
     )
+    if variations is None:  # a single scenario: drop the sample axis
+        for name, value in vars(out).items():
+            if name != "replacement_years":
+                setattr(out, name, np.asarray(value)[0])
+    return out
 
 
 def parallel_split(s: Scenario, lines: list[dict], flow_total: np.ndarray,

@@ -597,8 +597,9 @@ class SizingStudy:
         """The EAC-minimizing inner diameter of each material when D varies continuously.
 
         Between the material's smallest and largest candidate inner diameters, with its cost
-        model, new roughness and aging: a vectorized scan of 97 log-spaced diameters brackets the
-        minimum, then :func:`scipy.optimize.minimize_scalar` (bounded, xatol 1e-7 m) refines it.
+        model, new roughness and aging: two vectorized scans (65 log-spaced diameters, then 33
+        around the best of them, all materials in one evaluation each) bracket the minimum, then
+        :func:`scipy.optimize.minimize_scalar` (bounded, xatol 1e-7 m) refines it.
         Reported with the two candidate sizes that bracket it.
         """
         s = scenario or self.scenario
@@ -614,14 +615,27 @@ class SizingStudy:
                           float(self.candidates["roughness_m"].iloc[first]),
                           float(self.candidates["aging_m_per_year"].iloc[first])))
         # one vectorized scan of every material's range brackets each minimum
-        n_grid = 97
-        grids = np.array([np.geomspace(lo, hi, n_grid) for _, _, lo, hi, _, _ in specs])
-        scan = evaluate(s, grids.ravel(),
-                        np.repeat([sp[4] for sp in specs], n_grid),
-                        np.repeat([sp[5] for sp in specs], n_grid),
-                        np.concatenate([np.asarray(sp[0].cost.per_metre(g))
-                                        for sp, g in zip(specs, grids, strict=True)]))
-        scan_eac = scan.eac.reshape(len(specs), n_grid)
+        eps_all = np.array([sp[4] for sp in specs])
+        alpha_all = np.array([sp[5] for sp in specs])
+
+        def scan(grids: np.ndarray) -> np.ndarray:  # EAC on an (M, n) grid, one evaluation
+            n = grids.shape[1]
+            costs = np.concatenate([np.asarray(sp[0].cost.per_metre(g))
+                                    for sp, g in zip(specs, grids, strict=True)])
+            return evaluate(s, grids.ravel(), np.repeat(eps_all, n), np.repeat(alpha_all, n),
+                            costs, eac_only=True).reshape(grids.shape)
+
+        # two vectorized scans (coarse, then around each minimum) bracket every material's
+        # optimum tightly, so that the bounded minimizer needs few scalar evaluations
+        grids = np.array([np.geomspace(lo, hi, 65) for _, _, lo, hi, _, _ in specs])
+        values = scan(grids)
+        k = np.argmin(values, axis=1)
+        rows_m = np.arange(len(specs))
+        lo = grids[rows_m, np.maximum(k - 1, 0)]
+        hi = grids[rows_m, np.minimum(k + 1, grids.shape[1] - 1)]
+        grids = np.linspace(lo, hi, 33, axis=1)
+        scan_eac = scan(grids)
+        n_grid = grids.shape[1]
         q_design = max(s.duty.flows) / s.parallel
         t_d = table["inner_diameter_m"].to_numpy()
         t_eac = table["eac"].to_numpy()
@@ -634,7 +648,8 @@ class SizingStudy:
 
             def eac(x: float, cost=cost, eps0=eps0, alpha=alpha) -> float:
                 d = np.array([x])
-                return float(evaluate(s, d, eps0, alpha, np.asarray(cost.per_metre(d))).eac[0])
+                return float(evaluate(s, d, eps0, alpha, np.asarray(cost.per_metre(d)),
+                                      eac_only=True)[0])
 
             k = int(np.argmin(values))
             d_star, e_star = float(grid[k]), float(values[k])
