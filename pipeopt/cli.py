@@ -48,14 +48,36 @@ def _write_tables(result, out: Path) -> list[Path]:
     return written
 
 
+def _frames_csv(frames: dict[str, pd.DataFrame]) -> dict[str, str]:
+    return {name: frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
+            for name, frame in frames.items()}
+
+
 def _cmd_run(args: argparse.Namespace) -> int:
     from .sizing import SizingStudy
 
     study = SizingStudy.from_toml(args.study)
     result = study.run()
+    extra: dict[str, pd.DataFrame] = {}
     print(result.summary())
+    if study.uncertainty and result.success:
+        tornado = study.tornado()
+        switching = study.switching_values()
+        mc = study.monte_carlo(progress=False if args.quiet else None)
+        print()
+        print(tornado)
+        print()
+        print(switching)
+        print()
+        print(mc)
+        extra = {"tornado.csv": tornado.table, "switching_values.csv": switching.table,
+                 "monte_carlo.csv": mc.candidates, "monte_carlo_correlation.csv": mc.correlation}
     if args.out:
-        for p in _write_tables(result, Path(args.out)):
+        written = _write_tables(result, Path(args.out))
+        for name, text in _frames_csv(extra).items():
+            _write_atomic(Path(args.out) / name, text)
+            written.append(Path(args.out) / name)
+        for p in written:
             print(f"wrote {p}")
     return 0 if result.success else 1
 
@@ -136,7 +158,9 @@ def build_parser() -> argparse.ArgumentParser:
                          description="Run a sizing study (TOML) and print its summary.",
                          epilog="example: pipeopt run study.toml --out results")
     run.add_argument("study", help="the study file (TOML)")
-    run.add_argument("--out", help="folder for candidates.csv and optimum.csv")
+    run.add_argument("--out", help="folder for candidates.csv, optimum.csv and, with an "
+                                   "[uncertainty] section, the sensitivity tables")
+    run.add_argument("--quiet", action="store_true", help="no progress bar")
     run.set_defaults(func=_cmd_run)
 
     upg = sub.add_parser("upgrade", help="run an upgrade study file (keep, reline, replace, "

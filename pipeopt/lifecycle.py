@@ -337,7 +337,8 @@ def _base_constants(s: Scenario) -> dict[str, Any]:
 def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rate: np.ndarray,
              pipe_cost_per_metre: np.ndarray, embodied_co2_per_metre: np.ndarray | float = 0.0,
              years_mode: Literal["auto", "full"] = "auto",
-             variations: Variations | None = None, eac_only: bool = False) -> Any:
+             variations: Variations | None = None, eac_only: bool = False,
+             yearly: bool = True) -> Any:
     """Hydraulics and life-cycle cost of every candidate, every duty point, every year.
 
     Parameters
@@ -364,6 +365,9 @@ def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rat
 
     eac_only : bool, optional
         Return only the EAC array (the objective of the continuous optimum).
+    yearly : bool, optional
+        Also build the yearly arrays (energy, demand, costs: (S, C, N)); False leaves them
+        None (Monte Carlo needs only the present values and the checks).
 
     Returns
     -------
@@ -384,31 +388,50 @@ def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rat
     k_design = int(np.argmax(duty.flow_array))
     col = (slice(None), None)                            # (S,) -> (S, 1)
 
-    # --- hydraulics on (S, C, T, K); T = 1 when every year is the same ----------------------
-    same_every_year = (years_mode == "auto" and not np.any(v["growth"]) and not np.any(alpha))
+    # --- hydraulics on (S_h, C, T, K); T = 1 when every year is the same --------------------
+    # Flows, growth and aging change the hydraulics; when every sample shares them (S_h = 1)
+    # the hydraulics are evaluated once: efficiency and hours only scale energy and demand.
+    n_samples = horizon.size
+    hyd_keys = ("flow_factor", "growth", "aging_factor")
+    shared = all(np.ptp(v[k]) == 0 for k in hyd_keys)
+    hv = {k: (v[k][:1] if shared else v[k]) for k in hyd_keys}
+    same_every_year = (years_mode == "auto" and not np.any(hv["growth"]) and not np.any(alpha))
     t_eval = 1 if same_every_year else n_years
     years = np.arange(t_eval)
-    growth = (1.0 + v["growth"][:, None]) ** years[None, :]                    # (S, T)
-    q_total = (duty.flow_array[None, None, :] * (v["flow_factor"][:, None] * growth)[:, :, None])
-    eps_t = (eps0[None, :, None] + alpha[None, :, None] * v["aging_factor"][:, None, None]
-             * years[None, None, :])                                           # (S, C, T)
+    growth = (1.0 + hv["growth"][:, None]) ** years[None, :]                   # (S_h, T)
+    q_total = duty.flow_array[None, None, :] * (hv["flow_factor"][:, None] * growth)[:, :, None]
+    eps_t = (eps0[None, :, None] + alpha[None, :, None] * hv["aging_factor"][:, None, None]
+             * years[None, None, :])                                           # (S_h, C, T)
     hyd = pipe_hydraulics(s, d[None, :, None, None], eps_t[..., None],
                           q_total[:, None, :, :] / s.parallel)
     vel, re, f, h = hyd["velocity"], hyd["reynolds"], hyd["friction_factor"], hyd["head_loss"]
     capped = np.any(hyd["capped"], axis=(2, 3))
     transitional = np.count_nonzero(hyd["transitional"], axis=(2, 3))
-    head, energy, peak = pumping(s, h, q_total[:, None, :, :],
-                                 efficiency=v["efficiency"][:, None, None, None],
-                                 hours_factor=v["hours_factor"][:, None, None, None])
-    if same_every_year:
-        energy = np.broadcast_to(energy, energy.shape[:2] + (n_years,))
-        peak = np.broadcast_to(peak, peak.shape[:2] + (n_years,))
+    # energy and demand at eta = 1 and base hours, (S_h, C, T); each sample scales them
+    head, energy0, peak0 = pumping(s, h, q_total[:, None, :, :], efficiency=1.0)
+    inv_eta = 1.0 / v["efficiency"]                                             # (S,)
+    e_scale = v["hours_factor"] * inv_eta                                      # (S,)
 
-    # --- money: (S, C) and (S, C, N) ----------------------------------------------------------
+    def per_sample(x: np.ndarray) -> np.ndarray:
+        return np.broadcast_to(x, (n_samples,) + x.shape[1:])
+
+    def weighted(x0: np.ndarray, w: np.ndarray) -> np.ndarray:
+        """Σ_t x0[s, c, t] w[s, t] for x0 of shape (S_h, C, T), T = 1 meaning every year."""
+        if x0.shape[2] == 1:
+            return x0[:, :, 0] * w.sum(axis=1)[:, None]
+        # einsum's own loops (not BLAS): each sum is formed in the same order whatever the
+        # number of samples, so results do not depend on how samples are chunked
+        if x0.shape[0] == 1:
+            return np.einsum("ct,st->sc", x0[0], w)
+        return np.einsum("sct,st->sc", x0, w)
+
+    # --- money: (S, C); yearly amounts are weighted sums, never (S, C, N) arrays ----------------
     live, disc, disc_end, price = c["live"], c["disc"], c["disc_end"], c["price"]
-    energy_cost = (energy * price[:, None, :] + v["demand_charge"][:, None, None] * peak) \
-        * live[:, None, :]
-    carbon_cost = energy * (s.grid_factor * s.carbon_price) * live[:, None, :]
+    pv_energy = (e_scale[:, None] * weighted(energy0, price * disc)
+                 + (v["demand_charge"] * inv_eta)[:, None] * weighted(peak0, disc))
+    carbon_rate = s.grid_factor * s.carbon_price
+    pv_op_carbon = (e_scale[:, None] * carbon_rate * weighted(energy0, disc) if carbon_rate
+                    else np.zeros_like(pv_energy))
     capex_pipe = cost_m[None, :] * v["pipe_cost_factor"] * s.length * s.parallel       # (S, C)
     embodied_cost = np.broadcast_to(co2_m * s.length * s.parallel * s.carbon_price,
                                     capex_pipe.shape)
@@ -418,14 +441,17 @@ def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rat
     m_s = 0.0
     if s.pump_station is not None:
         ps = s.pump_station
-        peak_max = np.max(np.where(live[:, None, :], peak, 0.0), axis=2)      # (S, C)
+        # the largest demand of the years within each sample's horizon
+        running = np.maximum.accumulate(peak0, axis=2)                         # (S_h, C, T)
+        last = np.minimum(horizon, running.shape[2]) - 1                       # (S,)
+        rows = np.arange(n_samples) if running.shape[0] > 1 else np.zeros(n_samples, int)
+        peak_max = running[rows, :, last] * inv_eta[:, None]                   # (S, C)
         installed = ps.installed_power(peak_max)
         capex_ps = ps.capital(peak_max) * v["station_cost_factor"][col]
         residual_ps = capex_ps * c["station_residual_fraction"][col]
         m_s = ps.maintenance
     maintenance = s.pipe_maintenance * capex_pipe + m_s * capex_ps                     # (S, C)
-    pv_energy = np.einsum("scn,sn->sc", energy_cost, disc)
-    pv_carbon = np.einsum("scn,sn->sc", carbon_cost, disc) + embodied_cost
+    pv_carbon = pv_op_carbon + embodied_cost
     pv_maintenance = maintenance * c["annuity"][col]
     pv_replacement = capex_ps * c["rep_factor"][col]
     residual = capex_pipe * np.maximum(0.0, 1.0 - horizon / s.pipe_life)[col] + residual_ps
@@ -436,22 +462,38 @@ def evaluate(s: Scenario, diameter: np.ndarray, roughness: np.ndarray, aging_rat
     if eac_only:
         return eac[0] if variations is None else eac
 
+    # yearly amounts (S, C, N) for the result tables
+    energy = peak = energy_cost = carbon_cost = None
+    if yearly:
+        full = (lambda x: np.broadcast_to(x, x.shape[:2] + (n_years,))) if same_every_year \
+            else (lambda x: x)
+        energy = full(energy0) * e_scale[:, None, None]
+        peak = full(peak0) * inv_eta[:, None, None]
+        energy_cost = (energy * price[:, None, :] + v["demand_charge"][:, None, None] * peak) \
+            * live[:, None, :]
+        carbon_cost = energy * carbon_rate * live[:, None, :]
+
     out = LifeCycle(
-        velocity_design=vel[:, :, 0, k_design], reynolds_design=re[:, :, 0, k_design],
-        friction_factor_design=f[:, :, 0, k_design], head_loss_design=h[:, :, 0, k_design],
-        pump_head_design=head[:, :, 0, k_design], pump_power_peak_year1=peak[:, :, 0],
-        energy_year1=energy[:, :, 0], velocity_max=vel.max(axis=(2, 3)),
-        pump_head_max=head.max(axis=(2, 3)), installed_power=installed, capex_pipe=capex_pipe,
+        velocity_design=per_sample(vel[:, :, 0, k_design]),
+        reynolds_design=per_sample(re[:, :, 0, k_design]),
+        friction_factor_design=per_sample(f[:, :, 0, k_design]),
+        head_loss_design=per_sample(h[:, :, 0, k_design]),
+        pump_head_design=per_sample(head[:, :, 0, k_design]),
+        pump_power_peak_year1=peak0[:, :, 0] * inv_eta[:, None],
+        energy_year1=energy0[:, :, 0] * e_scale[:, None],
+        velocity_max=per_sample(vel.max(axis=(2, 3))),
+        pump_head_max=per_sample(head.max(axis=(2, 3))), installed_power=installed,
+        capex_pipe=capex_pipe,
         capex_pump_station=capex_ps, pv_energy=pv_energy, pv_maintenance=pv_maintenance,
         pv_replacement=pv_replacement, pv_residual=pv_residual, pv_carbon=pv_carbon,
-        pv_total=pv_total, eac=eac, energy_kwh=np.asarray(energy), peak_kw=np.asarray(peak),
+        pv_total=pv_total, eac=eac, energy_kwh=energy, peak_kw=peak,
         energy_cost=energy_cost, carbon_cost=carbon_cost, embodied_carbon_cost=embodied_cost,
         maintenance=maintenance, replacement_years=c["replacement_years"],
-        transitional_points=transitional, roughness_capped=capped,
+        transitional_points=per_sample(transitional), roughness_capped=per_sample(capped),
     )
     if variations is None:  # a single scenario: drop the sample axis
         for name, value in vars(out).items():
-            if name != "replacement_years":
+            if name != "replacement_years" and value is not None:
                 setattr(out, name, np.asarray(value)[0])
     return out
 

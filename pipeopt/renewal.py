@@ -22,7 +22,7 @@ from .errors import InputError
 __all__ = ["break_counts", "shamir_howard_replacement_time"]
 
 
-def break_counts(breaks_now: float, growth: float, years: int) -> np.ndarray:
+def break_counts(breaks_now: float, growth: float | np.ndarray, years: int) -> np.ndarray:
     """Expected breaks in each study year t = 1 … N: ∫ N0 e^{A s} ds over year t.
 
     That is N0 e^{A (t − 1)} (e^A − 1) / A, and N0 every year when A = 0.
@@ -31,14 +31,15 @@ def break_counts(breaks_now: float, growth: float, years: int) -> np.ndarray:
     ----------
     breaks_now : float
         Break rate now, N0 [breaks per year], >= 0.
-    growth : float
-        Exponential growth rate A [1/yr] (0.05 means about 5 % more breaks every year).
+    growth : float or ndarray, shape (S,)
+        Exponential growth rate A [1/yr] (0.05 means about 5 % more breaks every year); an
+        array gives one row per value.
     years : int
         Number of study years N.
 
     Returns
     -------
-    ndarray, shape (N,)
+    ndarray, shape (N,) or (S, N)
         Breaks per year [1/yr].
 
     Examples
@@ -48,11 +49,13 @@ def break_counts(breaks_now: float, growth: float, years: int) -> np.ndarray:
     """
     if not (math.isfinite(breaks_now) and breaks_now >= 0):
         raise InputError(f"breaks_per_year must be >= 0; got {breaks_now!r}")
-    if not (math.isfinite(growth) and -1 < growth < 1):
+    a = np.asarray(growth, dtype=float)
+    if not (np.all(np.isfinite(a)) and np.all(np.abs(a) < 1)):
         raise InputError(f"break_growth must be a rate per year between -1 and 1; got {growth!r}")
     # special case: no growth, the integral over a year is the rate itself
-    per_year = 1.0 if growth == 0 else math.expm1(growth) / growth
-    return breaks_now * per_year * np.exp(growth * np.arange(years))
+    safe = np.where(a == 0, 1.0, a)
+    per_year = np.where(a == 0, 1.0, np.expm1(safe) / safe)
+    return breaks_now * (per_year[..., None] * np.exp(a[..., None] * np.arange(years)))
 
 
 def shamir_howard_replacement_time(breaks_now: float, growth: float, break_cost: float,

@@ -34,7 +34,7 @@ from .costs import EnergyTariff, PowerLawPipeCost, PumpStationCost, TablePipeCos
 from .duty import DutyProfile
 from .errors import InputError
 from .fluid import Fluid
-from .lifecycle import LifeCycle, Scenario, evaluate
+from .lifecycle import LifeCycle, Scenario, Variations, evaluate
 from .studyfile import Section, StudyFileError, read_toml
 from .surge import RESTRAINTS, joukowsky_head, wave_speed
 from .units import Quantity, to_si
@@ -332,6 +332,8 @@ class SizingStudy:
         self.currency = currency
         self.illustrative = bool(illustrative)
         self.notes: list[str] = []
+        #: The study file's ``[uncertainty]`` section (samples, seed, distributions), if any.
+        self.uncertainty: dict[str, Any] | None = None
         names = [m.name for m in self.materials]
         if len(set(names)) != len(names):
             raise InputError("materials: each material may appear once")
@@ -447,7 +449,8 @@ class SizingStudy:
     def _from_dict(cls, mapping: dict, base: Path) -> SizingStudy:
         top = Section(mapping, "", ("study", "fluid", "line", "duty", "growth", "pumping",
                                     "energy", "pump_station", "economics", "material",
-                                    "constraints", "carbon", "hydraulics", "catalog"))
+                                    "constraints", "carbon", "hydraulics", "catalog",
+                                    "uncertainty"))
         common = read_common_sections(top, base)
         name, currency, illustrative = common["name"], common["currency"], common["illustrative"]
         fluid, duty, efficiency = common["fluid"], common["duty"], common["efficiency"]
@@ -489,8 +492,21 @@ class SizingStudy:
             if method == "constant":
                 const = hy.number("friction_factor", None, low=0.0, high=1.0, low_open=True,
                                   example="0.02")
-        return cls(fluid, line, duty, efficiency, tariff, economics, materials, station,
-                   constraints, carbon, catalog, name, currency, method, const, illustrative)
+        study = cls(fluid, line, duty, efficiency, tariff, economics, materials, station,
+                    constraints, carbon, catalog, name, currency, method, const, illustrative)
+        unc = top.table("uncertainty", tuple(top.data.get("uncertainty", {}) or ()))
+        if unc:
+            from .uncertainty import read_uncertainty_section
+
+            study.uncertainty = read_uncertainty_section(unc)
+            for name in study.uncertainty["distributions"]:
+                try:
+                    from .uncertainty import _check_name
+
+                    _check_name(study, name)
+                except InputError as exc:
+                    raise StudyFileError(f"uncertainty.{name}: {exc}") from None
+        return study
 
     @classmethod
     def demo(cls) -> SizingStudy:
@@ -503,14 +519,20 @@ class SizingStudy:
         return cls.from_dict(tomllib.loads(text))
 
     # ----- running --------------------------------------------------------------------------
-    def evaluate(self, scenario: Scenario | None = None) -> LifeCycle:
-        """The life-cycle arrays of every candidate (model layer output)."""
+    def evaluate(self, scenario: Scenario | None = None,
+                 variations: Variations | None = None, yearly: bool = True) -> LifeCycle:
+        """The life-cycle arrays of every candidate (model layer output).
+
+        With ``variations`` (per-sample inputs), the arrays have a leading sample axis;
+        ``yearly=False`` skips the yearly arrays.
+        """
         c = self.candidates
         s = scenario or self.scenario
         co2 = c["embodied_co2_kg_per_m"].to_numpy() if (self.carbon and self.carbon.embodied) \
             else 0.0
         return evaluate(s, c["inner_diameter_m"].to_numpy(), c["roughness_m"].to_numpy(),
-                        c["aging_m_per_year"].to_numpy(), c["cost_per_metre"].to_numpy(), co2)
+                        c["aging_m_per_year"].to_numpy(), c["cost_per_metre"].to_numpy(), co2,
+                        variations=variations, yearly=yearly)
 
     def run(self, scenario: Scenario | None = None, optimum: bool = True) -> SizingResult:
         """Evaluate every candidate, check feasibility, pick the best, find continuous optima.
@@ -538,14 +560,38 @@ class SizingStudy:
         opt = self.continuous_optimum(s, table) if optimum else pd.DataFrame()
         return SizingResult(self, table, best, opt, success, message, lc, s)
 
+    def feasibility(self, lc: LifeCycle, s: Scenario | None = None) -> dict[str, np.ndarray]:
+        """The constraint checks of every candidate, as arrays (any leading sample axis).
+
+        Returns
+        -------
+        dict of ndarray
+            ``surge`` [m], ``design_pressure`` [Pa], ``rating`` [Pa], masks ``too_slow``,
+            ``too_fast``, ``over_pressure`` (True where the rule is broken) and ``feasible``.
+        """
+        s = s or self.scenario
+        c = self.candidates
+        con = self.constraints
+        if con.surge_allowance is not None:
+            surge = np.full(np.shape(lc.velocity_max), con.surge_allowance)
+        else:
+            surge = joukowsky_head(c["wave_speed_m_s"].to_numpy(), np.asarray(lc.velocity_max))
+        design_pressure = (lc.pump_head_max + surge) * (s.density * fr.GRAVITY)
+        rating = c["pressure_rating_pa"].to_numpy(dtype=float)
+        too_slow = (lc.velocity_design < con.velocity_min if con.velocity_min is not None
+                    else np.zeros(np.shape(lc.velocity_design), dtype=bool))
+        too_fast = (lc.velocity_max > con.velocity_max if con.velocity_max is not None
+                    else np.zeros(np.shape(lc.velocity_max), dtype=bool))
+        over = np.isfinite(rating) & (design_pressure > rating)
+        return {"surge": surge, "design_pressure": design_pressure, "rating": rating,
+                "too_slow": too_slow, "too_fast": too_fast, "over_pressure": over,
+                "feasible": ~(too_slow | too_fast | over)}
+
     def _table(self, lc: LifeCycle, s: Scenario) -> pd.DataFrame:
         c = self.candidates
-        rho_g = s.density * fr.GRAVITY
-        surge = (np.full(len(c), self.constraints.surge_allowance)
-                 if self.constraints.surge_allowance is not None
-                 else joukowsky_head(c["wave_speed_m_s"].to_numpy(), lc.velocity_max))
-        design_pressure = (lc.pump_head_max + surge) * rho_g
-        rating = c["pressure_rating_pa"].to_numpy(dtype=float)
+        checks = self.feasibility(lc, s)
+        surge, design_pressure = checks["surge"], checks["design_pressure"]
+        rating = checks["rating"]
         df = pd.DataFrame({
             "material": c["material"], "size": c["size"], "pressure_class": c["pressure_class"],
             "inner_diameter_m": c["inner_diameter_m"], "roughness_m": c["roughness_m"],
@@ -564,21 +610,20 @@ class SizingStudy:
         con = self.constraints
         rated = np.isfinite(rating)
         pclass = c["pressure_class"].to_numpy(dtype=str)
-        clauses = []  # (mask, function of the flagged indices giving their words)
-        if con.velocity_min is not None:
-            clauses.append((lc.velocity_design < con.velocity_min, lambda ix: np.char.add(
+        clauses = [  # (mask, function of the flagged indices giving their words)
+            (checks["too_slow"], lambda ix: np.char.add(
                 np.char.mod("velocity %.2f m/s", lc.velocity_design[ix]),
-                f" at the largest year-1 duty is below velocity_min {con.velocity_min:g} m/s")))
-        if con.velocity_max is not None:
-            clauses.append((lc.velocity_max > con.velocity_max, lambda ix: np.char.add(
+                f" at the largest year-1 duty is below velocity_min {con.velocity_min:g} m/s")),
+            (checks["too_fast"], lambda ix: np.char.add(
                 np.char.mod("velocity %.2f m/s", lc.velocity_max[ix]),
                 f" at the largest flow of any year exceeds velocity_max "
-                f"{con.velocity_max:g} m/s")))
-        clauses.append((rated & (design_pressure > rating), lambda ix: [
-            f"pump head {h:.1f} m + surge {a:.1f} m = {p / 1e5:.1f} bar exceeds the "
-            f"{r / 1e5:.1f} bar rating of {k}" for h, a, p, r, k in zip(
-                lc.pump_head_max[ix], surge[ix], design_pressure[ix], rating[ix], pclass[ix],
-                strict=True)]))
+                f"{con.velocity_max:g} m/s")),
+            (checks["over_pressure"], lambda ix: [
+                f"pump head {h:.1f} m + surge {a:.1f} m = {p / 1e5:.1f} bar exceeds the "
+                f"{r / 1e5:.1f} bar rating of {k}" for h, a, p, r, k in zip(
+                    lc.pump_head_max[ix], surge[ix], design_pressure[ix], rating[ix],
+                    pclass[ix], strict=True)]),
+        ]
         reasons = _join_clauses(len(c), clauses)
         notes = _join_clauses(len(c), [
             (~rated, lambda ix: np.full(ix.size, "no pressure rating: pressure not checked")),
@@ -586,7 +631,7 @@ class SizingStudy:
                 ix.size, "transitional flow (2000 <= Re < 4000) at some duty points")),
             (lc.roughness_capped, lambda ix: np.full(
                 ix.size, "aged roughness capped at 0.05 D (Moody chart limit)"))])
-        df["feasible"] = reasons == ""
+        df["feasible"] = checks["feasible"]
         df["reasons"] = reasons
         df["notes"] = notes
         df["rank"] = df["eac"].where(df["feasible"]).rank(method="first").astype("Int64")
@@ -680,6 +725,36 @@ class SizingStudy:
                 "best_feasible_eac": np.nan if i_best is None else t_eac[i_best],
             })
         return pd.DataFrame(rows)
+
+    # ----- uncertainty ----------------------------------------------------------------------
+    def tornado(self, ranges: dict[str, tuple[float, float]] | None = None):
+        """One-way sensitivity of the chosen design (:func:`pipeopt.uncertainty.tornado`)."""
+        from .uncertainty import tornado
+
+        return tornado(self, ranges)
+
+    def switching_values(self, ranges: dict[str, tuple[float, float]] | None = None,
+                         grid: int = 41):
+        """Where the best candidate changes (:func:`pipeopt.uncertainty.switching_values`)."""
+        from .uncertainty import switching_values
+
+        return switching_values(self, ranges, grid)
+
+    def monte_carlo(self, distributions: dict | None = None, n: int | None = None,
+                    seed: int | None = None, progress: bool | None = None):
+        """Monte Carlo of every candidate (:func:`pipeopt.uncertainty.monte_carlo`).
+
+        Without arguments, uses the study file's ``[uncertainty]`` section.
+        """
+        from .uncertainty import monte_carlo
+
+        cfg = self.uncertainty or {}
+        dists = distributions if distributions is not None else cfg.get("distributions")
+        if not dists:
+            raise InputError("monte_carlo: give distributions, or an [uncertainty] section in "
+                             "the study file")
+        return monte_carlo(self, dists, n if n is not None else cfg.get("samples", 2000),
+                           seed if seed is not None else cfg.get("seed", 0), progress)
 
     def __repr__(self) -> str:
         mats = ", ".join(m.name for m in self.materials)

@@ -477,101 +477,141 @@ class UpgradeStudy:
                       life, o.maintenance, o.break_factor, o.leakage_factor, k, desc)
 
     # ----- hydraulics -----------------------------------------------------------------------
-    def _old_hydraulics(self) -> dict[str, np.ndarray]:
-        """The existing line in every year (N, K), aging from now."""
+    def _inputs(self, v: dict[str, np.ndarray] | None) -> dict[str, np.ndarray]:
+        """Per-sample inputs (S,) with the study's own values where not given (S = 1)."""
+        s = self.scenario
+        ex = self.existing
+        base = {"energy_price": s.tariff.price, "escalation": s.tariff.escalation,
+                "discount_rate": s.discount_rate, "flow_factor": 1.0, "growth": s.duty.growth,
+                "aging_factor": 1.0, "break_cost_factor": 1.0, "break_growth": ex.break_growth,
+                "capital_factor": 1.0, "leakage_factor": 1.0}
+        v = v or {}
+        n = len(next(iter(v.values()))) if v else 1
+        out = {k: np.asarray(v[k], dtype=float) if k in v else np.full(n, float(x))
+               for k, x in base.items()}
+        if np.any(out["flow_factor"] <= 0) or np.any(out["discount_rate"] <= -1):
+            raise InputError("flow_factor must be positive and discount_rate above -1")
+        return out
+
+    def _old_hydraulics(self, v: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
+        """The existing line in every year, aging from now: arrays (S, N, K) and (S, N)."""
         s = self.scenario
         n = s.horizon
-        q = s.duty.flows_by_year(n)                                     # (N, K)
-        eps = self.roughness + self.existing.aging * np.arange(n)       # (N,)
-        hyd = pipe_hydraulics(s, self.bore, eps[:, None], q)
+        yrs = np.arange(n)
+        q = (s.duty.flow_array[None, None, :] * v["flow_factor"][:, None, None]
+             * (1.0 + v["growth"][:, None, None]) ** yrs[None, :, None])        # (S, N, K)
+        eps = self.roughness + self.existing.aging * v["aging_factor"][:, None] * yrs[None, :]
+        hyd = pipe_hydraulics(s, self.bore, eps[:, :, None], q)
         head, energy, peak = pumping(s, hyd["head_loss"], q)
-        return {"head": head, "energy": energy, "peak": peak,
+        return {"q": q, "eps": eps, "head": head, "energy": energy, "peak": peak,
                 "velocity": hyd["velocity"], "head_loss": hyd["head_loss"]}
 
-    def _new_hydraulics(self, st: _State, years: np.ndarray) -> dict[str, np.ndarray]:
-        """The line after acting in each year of ``years`` (A,), for every year (A, N, K).
+    def _new_hydraulics(self, st: _State, years: np.ndarray,
+                        v: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
+        """The line after acting in year(s) ``years``, every year: arrays (L, N, K), (L, N).
 
-        Entries of years at or before the action hold the existing line's values.
+        L is the number of action years (one sample) or of samples (one action year). Years
+        at or before the action hold the existing line's values.
         """
         s = self.scenario
         n = s.horizon
-        q = s.duty.flows_by_year(n)                                     # (N, K)
+        old = self._old_hydraulics(v)
         t = np.arange(1, n + 1)
         age_new = np.maximum(t[None, :] - years[:, None] - 1, 0)       # (A, N)
         eps_new = (st.roughness + st.aging * age_new)[:, :, None]      # (A, N, 1)
-        eps_old = (self.roughness + self.existing.aging * np.arange(n))[None, :, None]
+        length = max(years.size, old["q"].shape[0])
+        q = np.broadcast_to(old["q"], (length,) + old["q"].shape[1:])
         if st.kind == "duplicate":
-            lines = [{"diameter": self.bore, "roughness": eps_old, "length": s.length,
-                      "minor_loss_k": s.minor_loss_k},
+            lines = [{"diameter": self.bore, "roughness": old["eps"][:, :, None],
+                      "length": s.length, "minor_loss_k": s.minor_loss_k},
                      {"diameter": st.diameter, "roughness": eps_new, "length": s.length,
                       "minor_loss_k": st.minor_loss_k}]
-            q_grid = np.broadcast_to(q, eps_new.shape[:2] + q.shape[1:])
-            old_h, new_h = parallel_split(s, lines, q_grid)
+            old_h, new_h = parallel_split(s, lines, q)
             h = new_h["head_loss"]
             velocity = np.maximum(old_h["velocity"], new_h["velocity"])
         else:
             hyd = pipe_hydraulics(s, st.diameter, eps_new, q)
             h = hyd["head_loss"]
             velocity = hyd["velocity"]
-        old = self._old_hydraulics()
         after = (t[None, :] > years[:, None])[:, :, None]              # (A, N, 1)
-        h = np.where(after, h, old["head_loss"][None])
-        velocity = np.where(after, velocity, old["velocity"][None])
+        h = np.where(after, h, old["head_loss"])
+        velocity = np.where(after, velocity, old["velocity"])
         head, energy, peak = pumping(s, h, q)
         return {"head": head, "energy": energy, "peak": peak, "velocity": velocity,
                 "head_loss": h}
 
     # ----- money ----------------------------------------------------------------------------
-    def _flows(self, st: _State | None, years: np.ndarray) -> dict[str, np.ndarray]:
-        """Yearly cash flows, shape (A, N + 1) for t = 0 … N, of acting in each year of years."""
+    def _flows(self, st: _State | None, years: np.ndarray,
+               samples: dict[str, np.ndarray] | None = None) -> dict[str, np.ndarray]:
+        """Yearly cash flows, shape (L, N + 1) for t = 0 … N.
+
+        For each year of action in ``years`` (one set of inputs), or for each sample of
+        ``samples`` (one year of action).
+        """
         s = self.scenario
         ex = self.existing
         n = s.horizon
-        a_count = years.size
+        v = self._inputs(samples)
+        if samples is not None and years.size != 1:
+            raise InputError("sampled cash flows take one year of action")
         t = np.arange(n + 1)
         if st is None:  # keep
-            hyd = self._old_hydraulics()
-            energy, peak = hyd["energy"][None], hyd["peak"][None]
-            after = np.zeros((a_count, n), dtype=bool)
+            hyd = self._old_hydraulics(v)
+            after = np.zeros((1, n), dtype=bool)
         else:
-            hyd = self._new_hydraulics(st, years)
-            energy, peak = hyd["energy"], hyd["peak"]
+            hyd = self._new_hydraulics(st, years, v)
             after = t[None, 1:] > years[:, None]                        # (A, N)
-        shape = (a_count, n + 1)
+        energy, peak = hyd["energy"], hyd["peak"]
+        count = max(energy.shape[0], years.size)
+        shape = (count, n + 1)
+        col = (slice(None), None)
+        price = v["energy_price"][col] * (1.0 + v["escalation"][col]) ** np.arange(n)[None, :]
         capital = np.zeros(shape)
         energy_cost = np.zeros(shape)
-        energy_cost[:, 1:] = s.tariff.yearly_cost(energy, peak)
+        energy_cost[:, 1:] = energy * price + s.tariff.demand_charge * peak
+        old_breaks = (break_counts(ex.breaks_per_year, v["break_growth"], n)
+                      * ex.break_cost * v["break_cost_factor"][col])            # (S, N)
+        old_leak = (ex.leakage_cost * v["leakage_factor"][col]
+                    * (1.0 + ex.leakage_growth) ** np.arange(n)[None, :])
         breaks = np.zeros(shape)
-        old_breaks = break_counts(ex.breaks_per_year, ex.break_growth, n) * ex.break_cost
         leak = np.zeros(shape)
-        old_leak = ex.leakage_cost * (1.0 + ex.leakage_growth) ** np.arange(n)
         maintenance = np.zeros(shape)
         residual = np.zeros(shape)
         if st is None:
             breaks[:, 1:] = old_breaks
             leak[:, 1:] = old_leak
         else:
-            capital[np.arange(a_count), years] += st.capital
+            cap = st.capital * v["capital_factor"]                       # (S,)
+            capital[np.arange(count), np.broadcast_to(years, (count,))] += cap
             breaks[:, 1:] = old_breaks * np.where(after, st.break_factor, 1.0)
             leak[:, 1:] = old_leak * np.where(after, st.leakage_factor, 1.0)
-            maintenance[:, 1:] = np.where(after, st.maintenance * st.capital, 0.0)
-            residual[:, n] = -st.capital * np.maximum(0.0, 1.0 - (n - years) / st.life)
+            maintenance[:, 1:] = np.where(after, st.maintenance * cap[col], 0.0)
+            residual[:, n] = -cap * np.maximum(0.0, 1.0 - (n - years) / st.life)
         if s.pump_station is not None:
             ps = s.pump_station
-            c_ps = np.asarray(ps.capital(np.max(peak, axis=-1))).reshape(-1)
-            c_ps = np.broadcast_to(c_ps, (a_count,))
+            c_ps = np.broadcast_to(np.asarray(ps.capital(np.max(peak, axis=-1))).reshape(-1),
+                                   (count,))
             life = int(ps.life)
             buys = np.arange(0, n, life)                                # 0, T_s, 2 T_s ... < N
             capital[:, buys] += c_ps[:, None]
             maintenance[:, 1:] += ps.maintenance * c_ps[:, None]
             residual[:, n] -= c_ps * max(0.0, 1.0 - (n - buys[-1]) / life)
         total = capital + energy_cost + breaks + leak + maintenance + residual
-        disc = np.exp(-t * np.log1p(s.discount_rate))
+        disc = np.exp(-t[None, :] * np.log1p(v["discount_rate"])[col])
         return {"capital": capital, "energy": energy_cost, "breaks": breaks, "leakage": leak,
                 "maintenance": maintenance, "residual": residual, "total": total,
                 "discounted": total * disc, "energy_kwh": energy, "peak_kw": peak,
-                "velocity_max": np.max(hyd["velocity"], axis=(-2, -1)) * np.ones(a_count),
-                "head_max": np.max(hyd["head"], axis=(-2, -1)) * np.ones(a_count)}
+                "velocity_max": np.broadcast_to(np.max(hyd["velocity"], axis=(-2, -1)),
+                                                (count,)),
+                "head_max": np.broadcast_to(np.max(hyd["head"], axis=(-2, -1)), (count,))}
+
+    def sampled_pv(self, option: _State | None, samples: dict[str, np.ndarray]) -> np.ndarray:
+        """Present value of costs of ``option`` (None: keep) for every sample, shape (S,).
+
+        ``samples`` maps input names of :data:`pipeopt.uncertainty.UPGRADE_INPUTS` to arrays.
+        """
+        years = np.array([0 if option is None else option.year])
+        return self._flows(option, years, samples)["discounted"].sum(axis=1)
 
     # ----- study files ----------------------------------------------------------------------
     @classmethod
@@ -729,6 +769,14 @@ class UpgradeStudy:
         table = pd.DataFrame({"year": years, "pv_cost": pv, "npv_vs_keep": keep_pv - pv})
         k = int(np.argmin(pv))
         return BestYear(option, int(years[k]), float(pv[k]), keep_pv, table)
+
+    def monte_carlo(self, distributions: dict, n: int = 10000, seed: int = 0,
+                    progress: bool | None = None):
+        """NPV of each option against keep under uncertainty
+        (:func:`pipeopt.uncertainty.upgrade_monte_carlo`)."""
+        from .uncertainty import upgrade_monte_carlo
+
+        return upgrade_monte_carlo(self, distributions, n, seed, progress)
 
     def _state(self, option: str) -> _State:
         for st in self.states:

@@ -29,13 +29,19 @@ def test_demo_prints_a_readable_summary():
 
 
 def test_run_writes_candidates(tmp_path):
-    code = main(["run", str(DATA / "larkspur.toml"), "--out", str(tmp_path / "res")])
+    code = main(["run", str(DATA / "larkspur.toml"), "--out", str(tmp_path / "res"), "--quiet"])
     assert code == 0
     df = pd.read_csv(tmp_path / "res" / "candidates.csv")
     for col in ("material", "size", "inner_diameter_m", "velocity_m_s", "eac", "feasible",
                 "reasons"):
         assert col in df.columns
     assert (tmp_path / "res" / "optimum.csv").is_file()
+    # the study file has an [uncertainty] section: its tables are written too
+    for name in ("tornado.csv", "switching_values.csv", "monte_carlo.csv",
+                 "monte_carlo_correlation.csv"):
+        assert (tmp_path / "res" / name).is_file()
+    mc = pd.read_csv(tmp_path / "res" / "monte_carlo.csv")
+    assert mc["prob_cheapest"].sum() == pytest.approx(1.0)
     assert not list((tmp_path / "res").glob("*.tmp"))
 
 

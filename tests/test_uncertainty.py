@@ -1,0 +1,175 @@
+"""Tests of pipeopt.uncertainty: tornado, switching values, Monte Carlo.
+
+Checks with known answers (sources: the model's linearity in the energy price, MODEL.md; the
+distributions' CDFs from scipy.stats; the 1/sqrt(N) law of Monte Carlo error, any statistics
+text, common practice).
+"""
+
+from __future__ import annotations
+
+import copy
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from pipeopt import SizingStudy, UpgradeStudy
+from pipeopt.errors import InputError
+from pipeopt.uncertainty import LogNormal, Normal, Triangular, Uniform, monte_carlo
+
+TWO = {
+    "study": {"name": "two candidates (test, illustrative)", "currency": "EUR"},
+    "fluid": {"kind": "water", "temperature": "15 degC"},
+    "line": {"length": "3 km", "static_head": "20 m", "minor_loss_k": 4.0},
+    "duty": [{"flow": "0.12 m^3/s", "hours": 6000}],
+    "pumping": {"efficiency": 0.7},
+    "energy": {"price": 0.12},
+    "economics": {"discount_rate": 0.05, "horizon": 30, "pipe_life": 30},
+    "material": [{"name": "pe100", "sizes": ["400 SDR 17", "450 SDR 17"],
+                  "cost": {"coefficient": 1500.0, "exponent": 1.4}}],
+}
+
+
+def two_study(**over) -> SizingStudy:
+    m = copy.deepcopy(TWO)
+    m.update(over)
+    return SizingStudy.from_dict(m)
+
+
+def break_even_price(study) -> float:
+    """EAC is linear in the energy price p (MODEL.md): EAC_c(p) = A_c + B_c p. Two evaluations
+    give A and B of each candidate; the break-even price is (A_1 - A_0) / (B_0 - B_1)."""
+    e1 = study.evaluate(study.scenario).eac
+    s2 = study.scenario.__class__(**{**study.scenario.__dict__,
+                                     "tariff": type(study.scenario.tariff)(0.24)})
+    e2 = study.evaluate(s2).eac
+    b = (e2 - e1) / 0.12
+    a = e1 - b * 0.12
+    return float((a[1] - a[0]) / (b[0] - b[1]))
+
+
+def test_probability_cheapest_matches_cdf_at_break_even():
+    st = two_study()
+    p_star = break_even_price(st)
+    dist = Uniform(0.05, 0.40)
+    assert dist.support[0] < p_star < dist.support[1]
+    mc = monte_carlo(st, {"energy_price": dist}, n=40000, seed=11)
+    small = mc.candidates.set_index("size").loc["400 SDR 17", "prob_cheapest"]
+    want = dist.cdf(p_star)  # the smaller pipe is cheapest below the break-even price
+    sigma = np.sqrt(want * (1 - want) / 40000)
+    assert abs(small - want) < 4 * sigma  # statistical test: 4 standard errors
+
+
+def test_switching_value_is_equal_eac_and_the_break_even_price():
+    st = two_study()
+    res = st.switching_values({"energy_price": (0.05, 0.40)})
+    rows = res.table[res.table["how"] == "equal EAC"]
+    assert len(rows) == 1
+    row = rows.iloc[0]
+    assert row["relative_eac_gap"] <= 1e-9
+    assert row["switching_value"] == pytest.approx(break_even_price(st), rel=1e-9)
+
+
+def test_monte_carlo_error_shrinks_like_one_over_sqrt_n():
+    st = two_study()
+    p_star = break_even_price(st)
+    dist = Triangular(0.05, 0.12, 0.40)
+    want = dist.cdf(p_star)
+    errors = {}
+    for n in (400, 6400):
+        est = []
+        for seed in range(12):
+            mc = monte_carlo(st, {"energy_price": dist}, n=n, seed=seed)
+            est.append(mc.candidates.set_index("size").loc["400 SDR 17", "prob_cheapest"])
+        errors[n] = np.sqrt(np.mean((np.array(est) - want) ** 2))
+    ratio = errors[400] / errors[6400]  # 1/sqrt(N): 16x the samples -> 4x smaller error
+    assert 2.0 < ratio < 8.0
+
+
+def test_same_seed_same_bits_and_chunks_do_not_matter():
+    st = SizingStudy.demo()
+    d = {"energy_price": Triangular(0.1, 0.14, 0.22), "flow_factor": Normal(1.0, 0.1, 0.7, 1.3)}
+    a = monte_carlo(st, d, n=60, seed=5)
+    b = monte_carlo(st, d, n=60, seed=5, memory=1.0)  # one sample per chunk
+    assert np.array_equal(a.eac, b.eac) and a.candidates.equals(b.candidates)
+    c = monte_carlo(st, d, n=60, seed=6)
+    assert not np.array_equal(a.eac, c.eac)
+
+
+def test_monte_carlo_result_contents():
+    st = SizingStudy.demo()
+    mc = st.monte_carlo({"discount_rate": Uniform(0.03, 0.08),
+                         "pipe_cost_factor:pe100": LogNormal(1.0, 0.1)}, n=300, seed=1)
+    assert mc.candidates["prob_cheapest"].sum() + mc.prob_none_feasible == pytest.approx(1.0)
+    assert (mc.candidates["p05"] <= mc.candidates["p95"]).all()
+    assert set(mc.correlation["input"]) == {"discount_rate", "pipe_cost_factor:pe100"}
+    assert (mc.candidates["expected_regret"].dropna() >= 0).all()
+    assert "Monte Carlo" in repr(mc) and "<table" in mc._repr_html_()
+    # the chosen design's EAC rises with the pipe cost factor of its material
+    rho = mc.correlation.set_index("input").loc["pipe_cost_factor:pe100", "spearman"]
+    assert rho > 0
+
+
+def test_tornado_table():
+    st = SizingStudy.demo()
+    tr = st.tornado({"energy_price": (0.1, 0.2), "pipe_cost_factor:steel": (0.8, 1.2)})
+    t = tr.table
+    assert list(t["input"]) == ["energy_price", "pipe_cost_factor:steel"]  # sorted by swing
+    assert t["swing"].iloc[0] > 0 and t["swing"].iloc[1] == 0  # steel is not the choice
+    assert t["eac_high"].iloc[0] > t["eac_low"].iloc[0]
+    assert "Tornado" in repr(tr)
+
+
+def test_distributions_and_errors():
+    rng = np.random.default_rng(0)
+    x = Normal(1.0, 0.2, 0.8, 1.1).sample(rng, 5000)
+    assert x.min() >= 0.8 and x.max() <= 1.1
+    # lognormal median: the sample median approaches it (scipy.stats.lognorm definition)
+    assert np.median(LogNormal(2.0, 0.3).sample(rng, 20000)) == pytest.approx(2.0, rel=0.02)
+    assert Triangular(0, 1, 2).cdf(1.0) == pytest.approx(0.5)
+    assert Uniform(0, 4).cdf(1.0) == pytest.approx(stats.uniform(0, 4).cdf(1.0))
+    with pytest.raises(InputError, match="triangular"):
+        Triangular(1, 0, 2)
+    st = two_study()
+    with pytest.raises(InputError, match="unknown input 'price'"):
+        monte_carlo(st, {"price": Uniform(0.1, 0.2)}, n=10)
+    with pytest.raises(InputError, match="names no material"):
+        monte_carlo(st, {"pipe_cost_factor:steel": Uniform(0.8, 1.2)}, n=10)
+
+
+def test_uncertainty_section_in_study_file():
+    m = copy.deepcopy(TWO)
+    m["uncertainty"] = {"samples": 200, "seed": 3,
+                        "energy_price": {"distribution": "triangular", "low": 0.08,
+                                         "mode": 0.12, "high": 0.2},
+                        "discount_rate": {"distribution": "uniform", "low": 0.03,
+                                          "high": 0.07}}
+    st = SizingStudy.from_dict(m)
+    mc = st.monte_carlo()
+    assert mc.n == 200 and mc.seed == 3
+    bad = copy.deepcopy(m)
+    bad["uncertainty"]["energy_price"]["sd"] = 1.0
+    with pytest.raises(InputError, match=r"uncertainty\.energy_price: triangular takes"):
+        SizingStudy.from_dict(bad)
+    bad = copy.deepcopy(m)
+    bad["uncertainty"]["energy_price"]["distribution"] = "gamma"
+    with pytest.raises(InputError, match="distribution: must be one of"):
+        SizingStudy.from_dict(bad)
+
+
+def test_upgrade_monte_carlo():
+    st = UpgradeStudy.demo()
+    d = {"energy_price": Uniform(0.1, 0.2), "break_cost_factor": LogNormal(1.0, 0.3),
+         "flow_factor": Uniform(0.9, 1.1), "capital_factor": Triangular(0.8, 1.0, 1.4)}
+    mc = st.monte_carlo(d, n=400, seed=2)
+    s = mc.summary.set_index("option")
+    assert s["prob_best"].sum() == pytest.approx(1.0)
+    assert 0 <= s.loc["replace DN 300", "prob_positive"] <= 1
+    # with the base values in every sample, the NPV equals the deterministic one (definition)
+    one = {"energy_price": Uniform(0.15 - 1e-12, 0.15 + 1e-12)}
+    mc1 = st.monte_carlo(one, n=3, seed=0)
+    det = st.run().summary.set_index("option")["npv_vs_keep"]
+    for opt in mc1.npv.columns:
+        np.testing.assert_allclose(mc1.npv[opt], det[opt], rtol=1e-9)
+    with pytest.raises(InputError, match="unknown upgrade input"):
+        st.monte_carlo({"hours_factor": Uniform(0.9, 1.1)}, n=10)
