@@ -188,11 +188,9 @@ def reynolds_number_from_flow(flow: Any, diameter: Any, density: Any, viscosity:
     """
     (q, d, rho, mu), tpl = as_float_arrays(flow, diameter, density, viscosity)
     _check_positive(d, "diameter")
-    _check_positive(rho, "density")
-    _check_positive(mu, "viscosity")
     if not np.all(np.isfinite(q)):
         raise InputError(f"flow must be finite; got {_first_bad(q, ~np.isfinite(q))}")
-    return restore(4.0 * rho * np.abs(q) / (np.pi * mu * d), tpl)
+    return restore(reynolds_number(q / (np.pi * d * d / 4.0), d, rho, mu), tpl)
 
 
 def flow_regime(reynolds: Any) -> Any:

@@ -35,7 +35,7 @@ from .duty import DutyProfile
 from .errors import InputError
 from .fluid import Fluid
 from .lifecycle import LifeCycle, Scenario, Variations, evaluate
-from .studyfile import Section, StudyFileError, read_toml
+from .studyfile import Section, StudyFileError, StudyFileMixin
 from .surge import RESTRAINTS, joukowsky_head, wave_speed
 from .units import Quantity, to_si
 
@@ -267,7 +267,7 @@ _CANDIDATE_STATIC = ["material", "size", "pressure_class", "outside_diameter_m",
                      "wave_speed_m_s", "cost_per_metre", "embodied_co2_kg_per_m", "provenance"]
 
 
-class SizingStudy:
+class SizingStudy(StudyFileMixin):
     """A life-cycle-cost sizing study of one pumped line.
 
     Parameters
@@ -304,6 +304,8 @@ class SizingStudy:
     illustrative : bool
         Marks every output as using illustrative (invented) numbers.
     """
+
+    _DEMO_FILE = "demo_sizing.toml"
 
     def __init__(self, fluid: Fluid, line: Line, duty: DutyProfile, efficiency: float,
                  tariff: EnergyTariff, economics: Economics, materials: list[MaterialChoice],
@@ -424,28 +426,6 @@ class SizingStudy:
 
     # ----- study files ----------------------------------------------------------------------
     @classmethod
-    def from_toml(cls, path: str | Path) -> SizingStudy:
-        """Read a study file (see the README and ``pipeopt/data/demo_sizing.toml``)."""
-        p = Path(path)
-        return cls.from_dict(read_toml(p), base_dir=p.parent)
-
-    @classmethod
-    def from_dict(cls, mapping: dict, base_dir: str | Path | None = None) -> SizingStudy:
-        """Build a study from a mapping with the study-file outline.
-
-        Raises
-        ------
-        StudyFileError
-            Naming the key path, the rule and the value for any bad entry.
-        """
-        try:
-            return cls._from_dict(mapping, Path(base_dir) if base_dir else Path.cwd())
-        except StudyFileError:
-            raise
-        except InputError as exc:
-            raise StudyFileError(str(exc)) from None
-
-    @classmethod
     def _from_dict(cls, mapping: dict, base: Path) -> SizingStudy:
         top = Section(mapping, "", ("study", "fluid", "line", "duty", "growth", "pumping",
                                     "energy", "pump_station", "economics", "material",
@@ -507,16 +487,6 @@ class SizingStudy:
                 except InputError as exc:
                     raise StudyFileError(f"uncertainty.{name}: {exc}") from None
         return study
-
-    @classmethod
-    def demo(cls) -> SizingStudy:
-        """The bundled demonstration study (an invented town's rising main; illustrative)."""
-        from importlib import resources
-
-        text = resources.files("pipeopt").joinpath("data/demo_sizing.toml").read_text("utf-8")
-        import tomllib
-
-        return cls.from_dict(tomllib.loads(text))
 
     # ----- running --------------------------------------------------------------------------
     def evaluate(self, scenario: Scenario | None = None,

@@ -16,7 +16,7 @@ from typing import Any
 from .errors import InputError
 from .units import KINDS, to_si
 
-__all__ = ["StudyFileError", "Section", "read_toml"]
+__all__ = ["StudyFileError", "Section", "read_toml", "StudyFileMixin"]
 
 
 class StudyFileError(InputError):
@@ -47,6 +47,46 @@ def read_toml(path: str | Path) -> dict[str, Any]:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise StudyFileError(f"{p.name}: TOML syntax error: {exc}") from None
+
+
+class StudyFileMixin:
+    """``from_toml``, ``from_dict`` and ``demo`` for a study class with a ``_from_dict``.
+
+    The class defines ``_from_dict(mapping, base)`` (``base``: the folder relative paths in the
+    file refer to) and ``_DEMO_FILE`` (a file in ``pipeopt/data``).
+    """
+
+    _DEMO_FILE = ""
+
+    @classmethod
+    def from_toml(cls, path: str | Path):
+        """Read a study file; relative paths in it refer to its own folder."""
+        p = Path(path)
+        return cls.from_dict(read_toml(p), base_dir=p.parent)
+
+    @classmethod
+    def from_dict(cls, mapping: dict, base_dir: str | Path | None = None):
+        """Build the study from a mapping with the study-file outline.
+
+        Raises
+        ------
+        StudyFileError
+            Naming the key path, the rule and the value of any bad entry.
+        """
+        try:
+            return cls._from_dict(mapping, Path(base_dir) if base_dir else Path.cwd())
+        except StudyFileError:
+            raise
+        except InputError as exc:
+            raise StudyFileError(str(exc)) from None
+
+    @classmethod
+    def demo(cls):
+        """The bundled demonstration study of this kind (an invented scenario; illustrative)."""
+        from importlib import resources
+
+        text = resources.files("pipeopt").joinpath("data", cls._DEMO_FILE).read_text("utf-8")
+        return cls.from_dict(tomllib.loads(text))
 
 
 def _kind_word(value: Any) -> str:

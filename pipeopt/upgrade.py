@@ -43,7 +43,7 @@ from .fluid import Fluid
 from .lifecycle import Scenario, parallel_split, pipe_hydraulics, pumping
 from .renewal import break_counts
 from .sizing import CAUTION, Economics, _si, read_common_sections
-from .studyfile import Section, StudyFileError, read_toml
+from .studyfile import Section, StudyFileError, StudyFileMixin
 from .units import Quantity
 
 __all__ = ["FieldTest", "ExistingLine", "UpgradeOption", "UpgradeStudy", "UpgradeResult",
@@ -332,7 +332,7 @@ class _State:
     description: str
 
 
-class UpgradeStudy:
+class UpgradeStudy(StudyFileMixin):
     """Economics of upgrading an existing line: keep, reline, replace, duplicate.
 
     Parameters
@@ -361,6 +361,8 @@ class UpgradeStudy:
     illustrative : bool
         Marks every output as using invented numbers.
     """
+
+    _DEMO_FILE = "demo_upgrade.toml"
 
     def __init__(self, fluid: Fluid, existing: ExistingLine, duty: DutyProfile,
                  efficiency: float, tariff: EnergyTariff, economics: Economics,
@@ -615,28 +617,6 @@ class UpgradeStudy:
 
     # ----- study files ----------------------------------------------------------------------
     @classmethod
-    def from_toml(cls, path: str | Path) -> UpgradeStudy:
-        """Read an upgrade study file (see ``pipeopt/data/demo_upgrade.toml``)."""
-        p = Path(path)
-        return cls.from_dict(read_toml(p), base_dir=p.parent)
-
-    @classmethod
-    def from_dict(cls, mapping: dict, base_dir: str | Path | None = None) -> UpgradeStudy:
-        """Build an upgrade study from a mapping with the study-file outline.
-
-        Raises
-        ------
-        StudyFileError
-            Naming the key path, the rule and the value of any bad entry.
-        """
-        try:
-            return cls._from_dict(mapping, Path(base_dir) if base_dir else Path.cwd())
-        except StudyFileError:
-            raise
-        except InputError as exc:
-            raise StudyFileError(str(exc)) from None
-
-    @classmethod
     def _from_dict(cls, mapping: dict, base: Path) -> UpgradeStudy:
         top = Section(mapping, "", ("study", "fluid", "existing", "duty", "growth", "pumping",
                                     "energy", "pump_station", "economics", "option", "catalog"))
@@ -724,15 +704,6 @@ class UpgradeStudy:
                    common["tariff"], common["economics"], options, common["pump_station"],
                    common["catalog"], common["name"], common["currency"],
                    common["illustrative"])
-
-    @classmethod
-    def demo(cls) -> UpgradeStudy:
-        """The bundled demonstration: an invented district's old unlined main (illustrative)."""
-        import tomllib
-        from importlib import resources
-
-        text = resources.files("pipeopt").joinpath("data/demo_upgrade.toml").read_text("utf-8")
-        return cls.from_dict(tomllib.loads(text))
 
     # ----- running --------------------------------------------------------------------------
     def run(self) -> UpgradeResult:
