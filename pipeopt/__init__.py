@@ -17,6 +17,14 @@ from .upgrade import UpgradeResult, UpgradeStudy
 
 __version__ = "0.1.0"
 
+
+def explore(study, debounce: float = 0.15):
+    """An interactive explorer of a sizing or upgrade study (see :mod:`pipeopt.widgets`)."""
+    from .widgets import explore as _explore
+
+    return _explore(study, debounce)
+
+
 __all__ = ["Fluid", "SizingStudy", "SizingResult", "UpgradeStudy", "UpgradeResult", "Quantity",
            "ureg", "catalog", "friction", "units", "InputError", "PipeoptError",
-           "FluidStateError", "__version__"]
+           "FluidStateError", "explore", "__version__"]

@@ -513,7 +513,8 @@ class MonteCarloResult:
     feasible : numpy.ndarray, shape (n, C)
         Feasibility of every candidate in every sample.
     candidates : pandas.DataFrame
-        Per candidate: ``material``, ``size``, EAC ``mean`` and quantiles ``p05``, ``p25``,
+        Per candidate: ``candidate`` (its row in the study's candidates and the column of
+        ``eac``), ``material``, ``size``, EAC ``mean`` and quantiles ``p05``, ``p25``,
         ``p50``, ``p75``, ``p95``, ``prob_cheapest`` (cheapest feasible), ``prob_infeasible``,
         ``expected_regret`` (mean EAC above the cheapest feasible, over the samples where the
         candidate is feasible); sorted by probability of being cheapest, then mean EAC.
@@ -631,10 +632,10 @@ def monte_carlo(study, distributions: dict[str, _Distribution], n: int = 10000, 
     exp_regret = np.where(n_finite > 0, np.where(finite, regret, 0.0).sum(axis=0)
                           / np.maximum(n_finite, 1), np.nan)
     table = pd.DataFrame({
-        "material": study.candidates["material"], "size": study.candidates["size"],
-        "mean": eac.mean(axis=0), "p05": q[0], "p25": q[1], "p50": q[2], "p75": q[3],
-        "p95": q[4], "prob_cheapest": counts / n, "prob_infeasible": 1.0 - feas.mean(axis=0),
-        "expected_regret": exp_regret})
+        "candidate": np.arange(c), "material": study.candidates["material"],
+        "size": study.candidates["size"], "mean": eac.mean(axis=0), "p05": q[0], "p25": q[1],
+        "p50": q[2], "p75": q[3], "p95": q[4], "prob_cheapest": counts / n,
+        "prob_infeasible": 1.0 - feas.mean(axis=0), "expected_regret": exp_regret})
     table = table.sort_values(["prob_cheapest", "mean"], ascending=[False, True],
                               kind="stable").reset_index(drop=True)
     inputs = pd.DataFrame(values)

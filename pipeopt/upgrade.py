@@ -706,17 +706,29 @@ class UpgradeStudy(StudyFileMixin):
                    common["illustrative"])
 
     # ----- running --------------------------------------------------------------------------
-    def run(self) -> UpgradeResult:
-        """Cash flows and the comparison of every option with keeping the line."""
+    def run(self, inputs: dict[str, Any] | None = None) -> UpgradeResult:
+        """Cash flows and the comparison of every option with keeping the line.
+
+        Parameters
+        ----------
+        inputs : dict, optional
+            Single values replacing the study's own, by the names of
+            :data:`pipeopt.uncertainty.UPGRADE_INPUTS` (``{"energy_price": 0.2}``); used by
+            the explorer and for what-if questions.
+        """
         n = self.scenario.horizon
         t = np.arange(n + 1)
-        keep = self._flows(None, np.array([0]))
+        samples = None
+        if inputs:
+            samples = {k: np.atleast_1d(np.asarray(v, dtype=float))[:1] for k, v in
+                       inputs.items()}
+        keep = self._flows(None, np.array([0]), samples)
         frames = [_long_frame("keep", keep, 0, t)]
-        rate = self.scenario.discount_rate
+        rate = float(self._inputs(samples)["discount_rate"][0])
         summary = [_summary_row("keep", "keep", "existing line, aging and breaks continue", None,
                                 keep, keep, rate)]
         for st in self.states:
-            fl = self._flows(st, np.array([st.year]))
+            fl = self._flows(st, np.array([st.year]), samples)
             frames.append(_long_frame(st.name, fl, 0, t))
             summary.append(_summary_row(st.name, st.kind, st.description, st.year, fl, keep,
                                         rate))

@@ -1,0 +1,302 @@
+"""Figures (presentation layer): matplotlib plots of study results. Each returns its Axes.
+
+Every axis carries its unit; money axes carry the study's currency. The palette is the
+colour-blind-safe set of Okabe & Ito (2008), "Color universal design"; infeasible candidates are
+drawn hollow and grey, the chosen design as a filled diamond, the continuous optimum as a
+vertical dashed line.
+
+These functions only read result objects; they compute nothing that is not in them.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import matplotlib.pyplot as plt
+import numpy as np
+import pandas as pd
+
+from . import friction as fr
+from .economics import capital_recovery_factor
+
+__all__ = ["PALETTE", "cost_curves", "cost_breakdown", "velocity_head", "friction_chart",
+           "tornado_chart", "probability_cheapest", "eac_distributions", "cumulative_cash_flow"]
+
+#: Okabe & Ito colour-blind-safe palette.
+PALETTE = ["#0072B2", "#E69F00", "#009E73", "#D55E00", "#CC79A7", "#56B4E9", "#F0E442",
+           "#000000"]
+_GREY = "#9a9a9a"
+
+
+def _axes(ax: Any, figsize: tuple[float, float] = (7.5, 4.5)):
+    if ax is None:
+        _, ax = plt.subplots(figsize=figsize, layout="constrained")
+    return ax
+
+
+def _money(result_or_study: Any) -> str:
+    study = getattr(result_or_study, "study", result_or_study)
+    return study.currency or "currency"
+
+
+def _style(ax, title: str | None = None) -> None:
+    ax.grid(True, which="major", color="#dddddd", linewidth=0.8)
+    ax.spines[["top", "right"]].set_visible(False)
+    if title:
+        ax.set_title(title, loc="left", fontsize=11, fontweight="bold")
+
+
+def cost_curves(result, materials: list[str] | None = None, ax=None):
+    """Equivalent annual cost against inner diameter, per material.
+
+    For each material: the total EAC of every candidate (markers; hollow grey where infeasible),
+    its capital charge and its energy cost (thin lines), the continuous optimum (dashed
+    vertical line) and the best feasible size (filled diamond).
+
+    Parameters
+    ----------
+    result : SizingResult
+    materials : list of str, optional
+        Materials to draw (default: all).
+    ax : matplotlib Axes, optional
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+    """
+    ax = _axes(ax)
+    c = result.candidates
+    s = result.scenario
+    crf = float(capital_recovery_factor(s.discount_rate, s.horizon))
+    mats = materials or list(dict.fromkeys(c["material"]))
+    for j, mat in enumerate(mats):
+        colour = PALETTE[j % len(PALETTE)]
+        rows = c[c["material"] == mat].sort_values("inner_diameter_m")
+        # one point per bore: the cheapest class of each inner diameter
+        d_mm = rows["inner_diameter_m"] * 1e3
+        capital = (rows["capex_pipe"] + rows["capex_pump_station"]) * crf
+        energy = rows["pv_energy"] * crf
+        ax.plot(d_mm, capital, color=colour, linewidth=0.9, linestyle=":",
+                label=f"{mat}: capital charge")
+        ax.plot(d_mm, energy, color=colour, linewidth=0.9, linestyle="--",
+                label=f"{mat}: energy")
+        feas = rows["feasible"]
+        ax.plot(d_mm[feas], rows.loc[feas, "eac"], "o-", color=colour, markersize=4,
+                linewidth=1.6, label=f"{mat}: total EAC")
+        ax.plot(d_mm[~feas], rows.loc[~feas, "eac"], "o", markerfacecolor="none",
+                markeredgecolor=_GREY, markersize=4, linestyle="none")
+        opt = result.optimum[result.optimum["material"] == mat] if not result.optimum.empty \
+            else pd.DataFrame()
+        if not opt.empty:
+            ax.axvline(opt["inner_diameter_m"].iloc[0] * 1e3, color=colour, linestyle="--",
+                       linewidth=0.8, alpha=0.7)
+    if result.best is not None:
+        b = result.best
+        ax.plot(b["inner_diameter_m"] * 1e3, b["eac"], "D", color="#000000", markersize=8,
+                label=f"chosen: {b['material']} {b['size']}")
+    ax.plot([], [], "o", markerfacecolor="none", markeredgecolor=_GREY, label="infeasible")
+    feasible_eac = c.loc[c["feasible"], "eac"]
+    if not feasible_eac.empty:
+        ax.set_ylim(0, float(feasible_eac.min()) * 3.0)
+    ax.set_xlabel("inner diameter [mm]")
+    ax.set_ylabel(f"equivalent annual cost [{_money(result)}/yr]")
+    _style(ax, "Life-cycle cost against diameter")
+    ax.legend(fontsize=7, ncol=2, frameon=False)
+    return ax
+
+
+def cost_breakdown(result, n: int = 5, ax=None):
+    """Stacked present-value breakdown of the ``n`` best feasible candidates.
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+    """
+    ax = _axes(ax)
+    b = result.breakdown(n)
+    labels = (b["material"] + "\n" + b["size"]).tolist()
+    parts = [("capex_pipe", "pipe"), ("capex_pump_station", "pump station"),
+             ("pv_energy", "energy"), ("pv_maintenance", "maintenance"),
+             ("pv_replacement", "station renewal"), ("pv_carbon", "carbon")]
+    bottom = np.zeros(len(b))
+    x = np.arange(len(b))
+    for j, (col, name) in enumerate(parts):
+        vals = b[col].to_numpy()
+        if not np.any(vals):
+            continue
+        ax.bar(x, vals, bottom=bottom, color=PALETTE[j], label=name, width=0.6)
+        bottom += vals
+    resid = b["pv_residual"].to_numpy()
+    if np.any(resid):
+        ax.bar(x, -resid, color="#ffffff", edgecolor=_GREY, hatch="//", width=0.6,
+               label="residual value (credit)")
+    ax.plot(x, b["pv_total"], "_", color="#000000", markersize=30, markeredgewidth=2,
+            label="present value, net")
+    ax.set_xticks(x, labels, fontsize=8)
+    ax.set_ylabel(f"present value [{_money(result)}]")
+    _style(ax, f"Cost breakdown of the {len(b)} best candidates")
+    ax.legend(fontsize=7, frameon=False, ncol=2)
+    return ax
+
+
+def velocity_head(result, ax=None):
+    """Velocity (largest duty, year 1) and head loss against inner diameter, with the limits.
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+        The velocity axes; the head-loss axes is its twin.
+    """
+    ax = _axes(ax)
+    c = result.candidates.sort_values("inner_diameter_m")
+    d_mm = c["inner_diameter_m"] * 1e3
+    ax.plot(d_mm, c["velocity_m_s"], "o", color=PALETTE[0], markersize=3,
+            label="velocity, largest duty, year 1")
+    ax.plot(d_mm, c["velocity_max_m_s"], ".", color=PALETTE[5], markersize=3,
+            label="velocity, largest flow of any year")
+    con = result.study.constraints
+    for value, name in ((con.velocity_min, "velocity_min"), (con.velocity_max, "velocity_max")):
+        if value is not None:
+            ax.axhline(value, color=PALETTE[3], linestyle="--", linewidth=1)
+            ax.annotate(f"{name} {value:g} m/s", (d_mm.max(), value), fontsize=7,
+                        ha="right", va="bottom", color=PALETTE[3])
+    ax.set_xlabel("inner diameter [mm]")
+    ax.set_ylabel("velocity [m/s]")
+    ax.set_yscale("log")
+    twin = ax.twinx()
+    twin.plot(d_mm, c["head_loss_m"], "s", color=PALETTE[1], markersize=3,
+              label="head loss, largest duty, year 1")
+    twin.set_yscale("log")
+    twin.set_ylabel("head loss [m]")
+    _style(ax, "Velocity and head loss against diameter")
+    lines = ax.get_legend_handles_labels()
+    more = twin.get_legend_handles_labels()
+    ax.legend(lines[0] + more[0], lines[1] + more[1], fontsize=7, frameon=False)
+    return ax
+
+
+def friction_chart(result=None, relative_roughness=(0.0, 1e-5, 1e-4, 1e-3, 5e-3, 0.02, 0.05),
+                   ax=None):
+    """Darcy friction factor against Reynolds number (Colebrook–White, exact), log–log.
+
+    With a :class:`~pipeopt.sizing.SizingResult`, its candidates' design points are marked.
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+    """
+    ax = _axes(ax, (7.5, 5.0))
+    re_lam = np.geomspace(600, fr.LAMINAR_LIMIT, 30)
+    ax.plot(re_lam, 64 / re_lam, color="#000000", linewidth=1.4, label="laminar, 64/Re")
+    ax.axvspan(fr.LAMINAR_LIMIT, fr.TURBULENT_LIMIT, color="#eeeeee", label="transition band")
+    re = np.geomspace(fr.LAMINAR_LIMIT, 1e8, 300)
+    for j, rr in enumerate(relative_roughness):
+        f = fr.friction_factor(re, rr, transition="ignore")
+        ax.plot(re, f, color=PALETTE[j % len(PALETTE)], linewidth=1.1,
+                label=f"ε/D = {rr:g}")
+    if result is not None:
+        c = result.candidates
+        ax.plot(c["reynolds"], c["friction_factor"], "x", color="#000000", markersize=4,
+                label="candidates (largest duty, year 1)")
+        if result.best is not None:
+            ax.plot(result.best["reynolds"], result.best["friction_factor"], "D",
+                    color=PALETTE[3], markersize=8, label="chosen")
+    ax.set_xscale("log")
+    ax.set_yscale("log")
+    ax.set_xlabel("Reynolds number Re [-]")
+    ax.set_ylabel("Darcy friction factor f [-]")
+    _style(ax, "Friction factor (Colebrook–White, solved exactly)")
+    ax.legend(fontsize=7, frameon=False, ncol=2)
+    return ax
+
+
+def tornado_chart(tornado_result, ax=None):
+    """Bars of the chosen design's EAC at each input's low and high value.
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+    """
+    t = tornado_result.table.iloc[::-1]
+    ax = _axes(ax, (7.5, 0.35 * len(t) + 1.5))
+    base = tornado_result.base_eac
+    y = np.arange(len(t))
+    ax.barh(y, t["eac_low"] - base, left=base, color=PALETTE[0], label="at the low value")
+    ax.barh(y, t["eac_high"] - base, left=base, color=PALETTE[1], label="at the high value")
+    labels = [f"{r['input']} ({r['low']:.3g} – {r['high']:.3g})"
+              + ("  *" if r["changes"] else "") for _, r in t.iterrows()]
+    ax.set_yticks(y, labels, fontsize=8)
+    ax.axvline(base, color="#000000", linewidth=1)
+    ax.set_xlabel(f"EAC of {tornado_result.chosen} [{tornado_result.currency or 'currency'}/yr]")
+    _style(ax, "Sensitivity (* the best candidate changes within the range)")
+    ax.legend(fontsize=7, frameon=False)
+    return ax
+
+
+def probability_cheapest(mc_result, n: int = 8, ax=None):
+    """Bars of the probability that each candidate is the cheapest feasible one.
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+    """
+    ax = _axes(ax)
+    top = mc_result.candidates.head(n)
+    labels = (top["material"] + "\n" + top["size"]).tolist()
+    ax.bar(np.arange(len(top)), top["prob_cheapest"], color=PALETTE[2], width=0.6)
+    ax.set_xticks(np.arange(len(top)), labels, fontsize=8)
+    ax.set_ylim(0, 1)
+    ax.set_ylabel("probability of being cheapest [-]")
+    _style(ax, f"Monte Carlo, {mc_result.n:,} samples")
+    return ax
+
+
+def eac_distributions(mc_result, n: int = 5, ax=None):
+    """Histograms (as outlines) of the EAC of the ``n`` most likely cheapest candidates.
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+    """
+    ax = _axes(ax)
+    top = mc_result.candidates.head(n)
+    for j, (_, r) in enumerate(top.iterrows()):
+        ax.hist(mc_result.eac[:, int(r["candidate"])], bins=50, histtype="step", linewidth=1.4,
+                color=PALETTE[j % len(PALETTE)], label=f"{r['material']} {r['size']}")
+    ax.set_xlabel(f"equivalent annual cost [{mc_result.currency or 'currency'}/yr]")
+    ax.set_ylabel("samples [-]")
+    _style(ax, "Distribution of the EAC")
+    ax.legend(fontsize=7, frameon=False)
+    return ax
+
+
+def cumulative_cash_flow(upgrade_result, ax=None):
+    """Cumulative discounted savings of each option against keeping the line, by year.
+
+    The discounted payback year of each option (where the curve crosses zero for good) is
+    marked.
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+    """
+    ax = _axes(ax)
+    cf = upgrade_result.cash_flows
+    keep = cf[cf["option"] == "keep"].set_index("year")["discounted"]
+    summary = upgrade_result.summary.set_index("option")
+    for j, opt in enumerate(o for o in cf["option"].unique() if o != "keep"):
+        d = cf[cf["option"] == opt].set_index("year")["discounted"]
+        cum = (keep - d).cumsum()
+        colour = PALETTE[j % len(PALETTE)]
+        ax.plot(cum.index, cum.values, color=colour, linewidth=1.6, label=opt)
+        pb = summary.loc[opt, "discounted_payback_year"]
+        if pb is not None and not pd.isna(pb):
+            ax.plot(pb, float(cum.loc[int(pb)]), "o", color=colour, markersize=7)
+            ax.annotate(f"pays back, year {int(pb)}", (pb, float(cum.loc[int(pb)])),
+                        textcoords="offset points", xytext=(5, 5), fontsize=7, color=colour)
+    ax.axhline(0, color="#000000", linewidth=1)
+    ax.set_xlabel("study year [yr]")
+    ax.set_ylabel(f"cumulative discounted saving against keep [{_money(upgrade_result)}]")
+    _style(ax, "Upgrade options: cumulative discounted cash flow")
+    ax.legend(fontsize=7, frameon=False)
+    return ax

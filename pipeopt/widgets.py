@@ -1,0 +1,236 @@
+"""Interactive explorer (presentation layer): ipywidgets controls, a live figure and a table.
+
+``pipeopt.explore(study)`` returns an :class:`Explorer`; display it as the last expression of a
+notebook cell. Moving a control re-evaluates the study with the changed inputs (the catalog,
+candidates and everything that does not depend on the control are re-used) after a short pause
+(``debounce`` seconds, so that dragging a slider does not queue many evaluations), then redraws
+the figure and the table. ``explorer.update_now()`` does the same at once (tests, scripts).
+"""
+
+from __future__ import annotations
+
+import asyncio
+import dataclasses
+import html
+import time
+from typing import Any
+
+import ipywidgets as w
+import matplotlib.pyplot as plt
+import numpy as np
+from IPython.display import display
+
+from . import plots
+from .costs import EnergyTariff
+
+__all__ = ["explore", "SizingExplorer", "UpgradeExplorer"]
+
+
+def explore(study, debounce: float = 0.15):
+    """An interactive explorer of a sizing or an upgrade study.
+
+    Parameters
+    ----------
+    study : SizingStudy or UpgradeStudy
+    debounce : float
+        Seconds to wait after the last control change before re-evaluating (0: at once).
+
+    Returns
+    -------
+    SizingExplorer or UpgradeExplorer
+        An ipywidgets application (``explorer.widget``); it displays itself in a notebook.
+    """
+    from .sizing import SizingStudy
+    from .upgrade import UpgradeStudy
+
+    if isinstance(study, SizingStudy):
+        return SizingExplorer(study, debounce)
+    if isinstance(study, UpgradeStudy):
+        return UpgradeExplorer(study, debounce)
+    raise TypeError(f"explore needs a SizingStudy or an UpgradeStudy; got {type(study).__name__}")
+
+
+class _Explorer:
+    """Shared machinery: controls, debounced updates, a figure in an Output widget."""
+
+    def __init__(self, debounce: float) -> None:
+        self.debounce = float(debounce)
+        self._pending: Any = None
+        self.last_update_seconds = float("nan")
+        self.updates = 0
+        self.output = w.Output()
+        self.table = w.HTML()
+        self.status = w.HTML()
+        self.figure, self.ax = plt.subplots(figsize=(7.5, 4.3), layout="constrained")
+        plt.close(self.figure)  # drawn into the Output widget, not by pyplot
+
+    def _slider(self, description: str, value: float, low: float, high: float, step: float,
+                fmt: str = ".3g", integer: bool = False) -> w.Widget:
+        cls = w.IntSlider if integer else w.FloatSlider
+        kwargs = {} if integer else {"readout_format": fmt}
+        s = cls(value=value, min=low, max=high, step=step, description=description,
+                continuous_update=True, style={"description_width": "11em"},
+                layout=w.Layout(width="30em"), **kwargs)
+        s.observe(self._changed, names="value")
+        return s
+
+    def _changed(self, _change: dict) -> None:
+        if self.debounce <= 0:
+            self.update_now()
+            return
+        try:
+            loop = asyncio.get_running_loop()
+        except RuntimeError:  # no event loop (a plain script): update at once
+            self.update_now()
+            return
+        if self._pending is not None:
+            self._pending.cancel()
+        self._pending = loop.call_later(self.debounce, self.update_now)
+
+    def update_now(self) -> None:
+        """Re-evaluate with the controls' values and redraw (measures the time taken)."""
+        self._pending = None
+        t0 = time.perf_counter()
+        self._update()
+        self.ax.figure.canvas.draw()
+        with self.output:
+            self.output.clear_output(wait=True)
+            display(self.figure)
+        self.last_update_seconds = time.perf_counter() - t0
+        self.updates += 1
+
+    def _update(self) -> None:  # pragma: no cover - implemented by subclasses
+        raise NotImplementedError
+
+    def _layout(self) -> w.Widget:
+        """Controls on the left (fixed width), figure and table on the right."""
+        left = w.VBox(list(self.controls.values()) + [self.status],
+                      layout=w.Layout(flex="0 0 auto", min_width="31em"))
+        right = w.VBox([self.output, self.table], layout=w.Layout(flex="1 1 auto"))
+        return w.HBox([left, right], layout=w.Layout(align_items="flex-start"))
+
+    def _ipython_display_(self) -> None:
+        display(self.widget)
+
+
+class SizingExplorer(_Explorer):
+    """Explorer of a :class:`~pipeopt.sizing.SizingStudy`: cost curves and the best candidates.
+
+    Attributes
+    ----------
+    controls : dict of str to widget
+        ``energy_price``, ``escalation``, ``discount_rate``, ``horizon``, ``flow_factor``,
+        ``hours_factor``, ``efficiency``, ``materials``.
+    result : SizingResult
+        The result drawn now.
+    widget : ipywidgets.Widget
+        The application.
+    """
+
+    def __init__(self, study, debounce: float = 0.15) -> None:
+        super().__init__(debounce)
+        self.study = study
+        s = study.scenario
+        hours_max = max(1.0, 8760.0 / sum(s.duty.hours))
+        self.controls = {
+            "energy_price": self._slider(f"energy price [{study.currency or 'money'}/kWh]",
+                                         s.tariff.price, 0.2 * s.tariff.price,
+                                         3.0 * s.tariff.price, s.tariff.price / 100),
+            "escalation": self._slider("escalation [1/yr]", s.tariff.escalation, -0.02, 0.06,
+                                       0.0025),
+            "discount_rate": self._slider("discount rate [1/yr]", s.discount_rate, 0.0, 0.15,
+                                          0.0025),
+            "horizon": self._slider("horizon [yr]", s.horizon, 5, 100, 1, integer=True),
+            "flow_factor": self._slider("flow scale [-]", 1.0, 0.4, 2.0, 0.01),
+            "hours_factor": self._slider("operating hours scale [-]", 1.0, 0.2,
+                                         min(2.0, hours_max), 0.01),
+            "efficiency": self._slider("wire-to-water efficiency [-]", s.efficiency, 0.3, 1.0,
+                                       0.01),
+        }
+        names = [m.name for m in study.materials]
+        mats = w.SelectMultiple(options=names, value=tuple(names), description="materials",
+                                rows=min(6, len(names)), style={"description_width": "11em"})
+        mats.observe(self._changed, names="value")
+        self.controls["materials"] = mats
+        self.result = None
+        self.widget = self._layout()
+        self.update_now()
+
+    def scenario(self):
+        """The study's scenario with the controls' values."""
+        s = self.study.scenario
+        c = {k: v.value for k, v in self.controls.items()}
+        return dataclasses.replace(
+            s, tariff=EnergyTariff(c["energy_price"], c["escalation"], s.tariff.demand_charge),
+            discount_rate=c["discount_rate"], horizon=int(c["horizon"]),
+            efficiency=c["efficiency"],
+            duty=s.duty.scaled(c["flow_factor"], c["hours_factor"]))
+
+    def _update(self) -> None:
+        result = self.study.run(self.scenario())
+        self.result = result
+        chosen = list(self.controls["materials"].value) or [m.name for m in self.study.materials]
+        cand = result.candidates
+        sel = cand[cand["material"].isin(chosen) & cand["feasible"]].nsmallest(8, "eac")
+        self.best = sel.iloc[0] if not sel.empty else None
+        self.ax.clear()
+        plots.cost_curves(result, materials=chosen, ax=self.ax)
+        cols = ["material", "size", "inner_diameter_m", "velocity_m_s", "head_loss_m",
+                "pump_power_kw", "capex_pipe", "pv_energy", "eac"]
+        self.table.value = (f"<b>Best feasible candidates</b> (money in "
+                            f"{html.escape(self.study.currency or 'currency')})"
+                            + sel[cols].to_html(index=False, border=0,
+                                                float_format=lambda x: f"{x:,.4g}"))
+        if self.best is None:
+            self.status.value = "<b>No feasible candidate</b> with these values."
+        else:
+            self.status.value = (f"Best: <b>{html.escape(self.best['material'])} "
+                                 f"{html.escape(self.best['size'])}</b>, EAC "
+                                 f"{self.best['eac']:,.0f}/yr")
+
+
+class UpgradeExplorer(_Explorer):
+    """Explorer of an :class:`~pipeopt.upgrade.UpgradeStudy`: NPV of each option and the
+    cumulative discounted cash flow.
+
+    Attributes
+    ----------
+    controls : dict of str to widget
+        ``energy_price``, ``escalation``, ``discount_rate``, ``flow_factor``,
+        ``break_cost_factor``, ``capital_factor``.
+    result : UpgradeResult
+    """
+
+    def __init__(self, study, debounce: float = 0.15) -> None:
+        super().__init__(debounce)
+        self.study = study
+        s = study.scenario
+        self.controls = {
+            "energy_price": self._slider(f"energy price [{study.currency or 'money'}/kWh]",
+                                         s.tariff.price, 0.2 * s.tariff.price,
+                                         3.0 * s.tariff.price, s.tariff.price / 100),
+            "escalation": self._slider("escalation [1/yr]", s.tariff.escalation, -0.02, 0.06,
+                                       0.0025),
+            "discount_rate": self._slider("discount rate [1/yr]", s.discount_rate, 0.0, 0.15,
+                                          0.0025),
+            "flow_factor": self._slider("flow scale [-]", 1.0, 0.5, 1.6, 0.01),
+            "break_cost_factor": self._slider("break cost scale [-]", 1.0, 0.0, 3.0, 0.05),
+            "capital_factor": self._slider("option capital scale [-]", 1.0, 0.5, 2.0, 0.01),
+        }
+        self.result = None
+        self.widget = self._layout()
+        self.update_now()
+
+    def _update(self) -> None:
+        inputs = {k: np.array([v.value]) for k, v in self.controls.items()}
+        result = self.study.run(inputs)
+        self.result = result
+        self.ax.clear()
+        plots.cumulative_cash_flow(result, ax=self.ax)
+        cols = ["option", "pv_cost", "npv_vs_keep", "irr", "simple_payback_year",
+                "benefit_cost_ratio"]
+        self.table.value = ("<b>Options against keeping the line</b>"
+                            + result.summary[cols].to_html(index=False, border=0,
+                                                           float_format=lambda x: f"{x:,.4g}"))
+        self.status.value = (f"Least PV: <b>{html.escape(result.best['option'])}</b>, "
+                             f"{result.best['pv_cost']:,.0f}")

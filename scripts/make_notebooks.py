@@ -1,0 +1,319 @@
+"""Write the worked notebooks in notebooks/ (outputs cleared). Run from the repository root.
+
+Every scenario in them is invented; their numbers are illustrative and say so.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import nbformat
+from nbformat.v4 import new_code_cell, new_markdown_cell, new_notebook
+
+OUT = Path(__file__).resolve().parents[1] / "notebooks"
+CAUTION = ("**Caution.** pipeopt supports studies; it does not produce a design. Pressure "
+           "ratings and the Joukowsky surge screen do not replace a transient analysis; pressure, "
+           "surge and structural questions need a qualified engineer, and local codes and "
+           "licensed engineering practice govern.")
+
+
+def nb(cells: list) -> nbformat.NotebookNode:
+    book = new_notebook(cells=cells)
+    book.metadata["kernelspec"] = {"name": "python3", "display_name": "Python 3",
+                                   "language": "python"}
+    book.metadata["language_info"] = {"name": "python"}
+    return book
+
+
+def md(text: str):
+    return new_markdown_cell(text.strip())
+
+
+def code(text: str):
+    return new_code_cell(text.strip())
+
+
+SIZING = nb([
+    md("""
+# 1. Sizing a new pumped line from scratch
+
+**Scenario (invented, illustrative):** the fictional Corran Ferry water company must pump raw
+water from a river intake to its treatment works: 2.9 km of line, 31 m of static head, two
+seasons of demand growing 1.5 % a year. Every number below is invented to show the method.
+
+We go step by step: the water, the friction of one candidate by hand, the catalog, the study,
+its result, the figures, and finally the interactive explorer.
+"""),
+    md(CAUTION),
+    code("""
+import matplotlib.pyplot as plt
+import numpy as np
+import pipeopt
+from pipeopt import Fluid, SizingStudy, catalog, friction, plots
+
+water = Fluid.water("11 degC")
+water
+"""),
+    md("""
+## One candidate by hand
+
+A DN 400 ductile-iron pipe of class C40 carrying the summer flow of 560 m³/h. The catalog gives
+the real bore after the cement-mortar lining; Colebrook–White is solved exactly.
+"""),
+    code("""
+pipe = catalog.lookup("ductile-iron", "DN 400 C40")
+d = float(pipe["inner_diameter_m"])
+q = pipeopt.units.to_si("560 m^3/h", "flow", "flow")
+re = friction.reynolds_number_from_flow(q, d, water.density, water.viscosity)
+f = friction.friction_factor(re, 0.1e-3 / d)
+h = friction.line_head_loss(q, d, 2900.0, 0.1e-3, water.density, water.viscosity, k_sum=7.0)
+print(f"bore {d * 1000:.1f} mm, Re {re:,.0f}, f {f:.6f}, head loss {h:.2f} m")
+"""),
+    md("## The candidates: three materials from the catalog"),
+    code("""
+catalog.list_sizes("pe100", min_diameter="0.25 m", max_diameter="0.6 m",
+                   pressure_class="SDR 17")[["designation", "inner_diameter_m",
+                                             "pressure_rating_pa"]]
+"""),
+    md("""
+## The study
+
+Costs per metre are invented power laws in the inner diameter (a · D^n with D in m).
+"""),
+    code("""
+study = SizingStudy.from_dict({
+    "study": {"name": "Corran Ferry raw-water line (illustrative)", "currency": "EUR",
+              "illustrative": True},
+    "fluid": {"kind": "water", "temperature": "11 degC"},
+    "line": {"length": "2.9 km", "static_head": "31 m", "minor_loss_k": 7.0},
+    "duty": [{"name": "winter", "flow": "330 m^3/h", "hours": 5000},
+             {"name": "summer", "flow": "560 m^3/h", "hours": 2600}],
+    "growth": {"flow_per_year": 0.015},
+    "pumping": {"efficiency": 0.71},
+    "energy": {"price": 0.13, "escalation": 0.01, "demand_charge": 50.0},
+    "pump_station": {"cost_coefficient": 8500.0, "cost_exponent": 0.7,
+                     "standby_fraction": 0.5, "life": 20, "maintenance": 0.015},
+    "economics": {"discount_rate": 0.05, "horizon": 40, "pipe_life": 80,
+                  "pipe_maintenance": 0.003},
+    "material": [
+        {"name": "ductile-iron", "min_diameter": "0.2 m", "max_diameter": "0.7 m",
+         "classes": ["C40", "C30"], "cost": {"coefficient": 2100.0, "exponent": 1.3}},
+        {"name": "pe100", "min_diameter": "0.2 m", "max_diameter": "0.7 m",
+         "classes": ["SDR 17", "SDR 11"], "cost": {"coefficient": 1500.0, "exponent": 1.45}},
+        {"name": "steel", "min_diameter": "0.2 m", "max_diameter": "0.7 m",
+         "classes": ["STD"], "cost": {"coefficient": 2400.0, "exponent": 1.2},
+         "aging": "typical"},
+    ],
+    "constraints": {"velocity_min": "0.5 m/s", "velocity_max": "2.5 m/s"},
+})
+result = study.run()
+result
+"""),
+    md("## Why this size: the cost curves and the breakdown"),
+    code("""
+fig, axes = plt.subplots(1, 2, figsize=(13, 4.5), layout="constrained")
+plots.cost_curves(result, ax=axes[0])
+plots.cost_breakdown(result, ax=axes[1])
+plt.show()
+"""),
+    code("""
+fig, axes = plt.subplots(1, 2, figsize=(13, 4.5), layout="constrained")
+plots.velocity_head(result, ax=axes[0])
+plots.friction_chart(result, ax=axes[1])
+plt.show()
+"""),
+    md("## Year by year for the chosen design"),
+    code("result.yearly().head(8)"),
+    md("""
+## Explore
+
+Move the energy price or the discount rate and watch the optimum move.
+"""),
+    code("pipeopt.explore(study)"),
+])
+
+MATERIALS = nb([
+    md("""
+# 2. Comparing materials for one line: pressure class, surge and carbon
+
+**Scenario (invented, illustrative):** the fictional Maelor Park district-cooling scheme needs a
+1.4 km header carrying 30 % ethylene-glycol brine at 6 °C against 55 m of static head (a hill
+between plant and load). Which material and which pressure class, once surge and carbon are
+counted? All figures are invented.
+"""),
+    md(CAUTION),
+    code("""
+import matplotlib.pyplot as plt
+from pipeopt import Fluid, SizingStudy, catalog, plots, surge
+
+brine = Fluid.coolprop("INCOMP::MEG-30%", "6 degC")
+brine
+"""),
+    md("""
+## Wave speed and surge of one size in each material
+
+Korteweg's wave speed for the mean diameter and the wall of each catalog pipe, with the
+Joukowsky head rise of stopping 1.5 m/s at once (a screening value).
+"""),
+    code("""
+rows = []
+for mat, size in [("steel", "NPS 14 STD"), ("stainless-steel", "NPS 14 Sch 10S"),
+                  ("ductile-iron", "DN 350 C40"), ("pe100", "400 SDR 17")]:
+    p = catalog.lookup(mat, size)
+    m = catalog.get_material(mat)
+    a = surge.wave_speed(2.3e9, brine.density, p["outside_diameter_m"] - p["wall_m"],
+                         p["wall_m"], m.elastic_modulus, m.poisson_ratio, "anchored-throughout")
+    rows.append((mat, size, round(a), round(surge.joukowsky_head(a, 1.5), 1),
+                 p["pressure_rating_pa"] / 1e5))
+import pandas as pd
+pd.DataFrame(rows, columns=["material", "size", "wave speed [m/s]", "surge head [m]",
+                            "rating [bar]"])
+"""),
+    md("## The study, with carbon priced"),
+    code("""
+study = SizingStudy.from_dict({
+    "study": {"name": "Maelor Park chilled-brine header (illustrative)", "currency": "GBP",
+              "illustrative": True},
+    "fluid": {"kind": "coolprop", "name": "INCOMP::MEG-30%", "temperature": "6 degC"},
+    "line": {"length": "1.4 km", "static_head": "55 m", "minor_loss_k": 12.0},
+    "duty": [{"flow": "420 m^3/h", "hours": 3200}, {"flow": "250 m^3/h", "hours": 3000}],
+    "pumping": {"efficiency": 0.74},
+    "energy": {"price": 0.19, "escalation": 0.015},
+    "economics": {"discount_rate": 0.035, "horizon": 30, "pipe_life": 50},
+    "carbon": {"grid_factor": 0.2, "price": 90.0},
+    "material": [
+        {"name": "steel", "min_diameter": "0.2 m", "max_diameter": "0.5 m",
+         "classes": ["STD", "Sch 40"], "cost": {"coefficient": 2500.0, "exponent": 1.2}},
+        {"name": "stainless-steel", "min_diameter": "0.2 m", "max_diameter": "0.5 m",
+         "classes": ["Sch 10S"], "cost": {"coefficient": 4200.0, "exponent": 1.25}},
+        {"name": "ductile-iron", "min_diameter": "0.2 m", "max_diameter": "0.5 m",
+         "cost": {"coefficient": 2200.0, "exponent": 1.3}},
+        {"name": "pe100", "min_diameter": "0.2 m", "max_diameter": "0.5 m",
+         "classes": ["SDR 17", "SDR 11", "SDR 9"],
+         "cost": {"coefficient": 1600.0, "exponent": 1.45}},
+    ],
+    "constraints": {"velocity_max": "3 m/s"},
+})
+result = study.run()
+result
+"""),
+    md("""
+## Which classes fail the pressure check, and why
+
+The design pressure is the highest pump head plus the Joukowsky rise with each candidate's own
+wave speed; it is compared with the rating of its class.
+"""),
+    code("""
+c = result.candidates
+c[c["reasons"].str.contains("rating")][["material", "size", "design_pressure_bar",
+                                        "pressure_rating_bar", "reasons"]].head(10)
+"""),
+    md("## The best of each material, and what carbon adds"),
+    code("""
+result.runner_up()[["material", "size", "inner_diameter_m", "eac", "pv_carbon"]]
+"""),
+    code("""
+fig, axes = plt.subplots(1, 2, figsize=(13, 4.5), layout="constrained")
+plots.cost_curves(result, ax=axes[0])
+plots.cost_breakdown(result, n=6, ax=axes[1])
+plt.show()
+"""),
+])
+
+UPGRADE = nb([
+    md("""
+# 3. Justifying the upgrade of an aged main
+
+**Scenario (invented, illustrative):** the fictional Whinmoor Road trunk main is unlined cast
+iron laid decades ago. A field test measured its losses; breaks are rising. Keep it, reline it,
+replace it, or lay a second pipe beside it? And when? Every figure is invented.
+"""),
+    md(CAUTION),
+    code("""
+import matplotlib.pyplot as plt
+import pipeopt
+from pipeopt import UpgradeStudy, plots
+from pipeopt.uncertainty import LogNormal, Triangular, Uniform
+"""),
+    md("""
+## Calibrating the existing line from a field test
+
+A flow and two gauge pressures 900 m apart give the friction loss; the roughness that reproduces
+it is found by root finding on Colebrook–White, and its equivalent Hazen–Williams C reported.
+"""),
+    code("""
+study = UpgradeStudy.from_dict({
+    "study": {"name": "Whinmoor Road trunk main (illustrative)", "currency": "EUR",
+              "illustrative": True},
+    "fluid": {"kind": "water", "temperature": "9 degC"},
+    "existing": {"material": "cast-iron-aged", "inner_diameter": "0.235 m",
+                 "length": "2.7 km", "static_head": "16 m", "minor_loss_k": 5.0,
+                 "aging": "0.04 mm/yr", "breaks_per_year": 2.5, "break_growth": 0.07,
+                 "break_cost": 8500.0, "leakage_cost": 9000.0, "leakage_growth": 0.03,
+                 "field_test": {"flow": "190 m^3/h", "length": "900 m",
+                                "upstream_pressure": "3.8 bar", "upstream_elevation": "27 m",
+                                "downstream_pressure": "3.35 bar",
+                                "downstream_elevation": "24 m"}},
+    "duty": [{"flow": "150 m^3/h", "hours": 6500}, {"flow": "210 m^3/h", "hours": 1500}],
+    "growth": {"flow_per_year": 0.006},
+    "pumping": {"efficiency": 0.69},
+    "energy": {"price": 0.16, "escalation": 0.01},
+    "economics": {"discount_rate": 0.04, "horizon": 40, "pipe_life": 80},
+    "option": [
+        {"kind": "reline", "liner_thickness": "5 mm", "cost_per_metre": 230.0,
+         "leakage_factor": 0.7, "life": 50},
+        {"kind": "replace", "name": "replace DN 250", "material": "ductile-iron",
+         "size": "DN 250 C40", "cost_per_metre": 470.0},
+        {"kind": "duplicate", "name": "duplicate PE 200", "material": "pe100",
+         "size": "200 SDR 17", "cost_per_metre": 190.0},
+    ],
+})
+study.condition
+"""),
+    md("## Options, NPV, IRR and payback"),
+    code("""
+result = study.run()
+result
+"""),
+    code("""
+plots.cumulative_cash_flow(result)
+plt.show()
+"""),
+    md("## When to act: every year of action scanned"),
+    code("""
+for option in ["reline", "replace DN 250", "duplicate PE 200"]:
+    print(study.best_year(option))
+"""),
+    md("## How sure is the answer?"),
+    code("""
+mc = study.monte_carlo({"energy_price": Triangular(0.10, 0.16, 0.26),
+                        "discount_rate": Uniform(0.025, 0.07),
+                        "break_cost_factor": LogNormal(1.0, 0.3),
+                        "capital_factor": Triangular(0.85, 1.0, 1.4)}, n=3000, seed=42)
+mc
+"""),
+    code("pipeopt.explore(study)"),
+])
+
+BROWSER = nb([
+    md("Explorer of the bundled demo study (used by the browser test; illustrative numbers)."),
+    code("""
+import pipeopt
+explorer = pipeopt.explore(pipeopt.SizingStudy.demo(), debounce=0)
+explorer
+"""),
+])
+
+
+def main() -> None:
+    OUT.mkdir(exist_ok=True)
+    for name, book in (("01_sizing_a_new_line.ipynb", SIZING),
+                       ("02_comparing_materials.ipynb", MATERIALS),
+                       ("03_upgrading_an_aged_main.ipynb", UPGRADE)):
+        nbformat.write(book, OUT / name)
+    data = Path(__file__).resolve().parents[1] / "tests" / "data"
+    nbformat.write(BROWSER, data / "explorer_browser.ipynb")
+
+
+if __name__ == "__main__":
+    main()
