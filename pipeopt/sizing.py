@@ -732,7 +732,24 @@ class SizingStudy(StudyFileMixin):
                 f"{len(self.duty.flows)} duty point(s), {self.economics.horizon} years)")
 
     def _repr_html_(self) -> str:
-        return f"<p><b>{html.escape(repr(self))}</b></p>"
+        s = self.scenario
+        duty = pd.DataFrame({"duty point": self.duty.names,
+                             "flow [m³/h]": np.asarray(self.duty.flows) * 3600.0,
+                             "hours [h/yr]": self.duty.hours})
+        mats = self.candidates.groupby("material", sort=False).agg(
+            candidates=("size", "size"), smallest_bore_mm=("inner_diameter_m", "min"),
+            largest_bore_mm=("inner_diameter_m", "max")).reset_index()
+        mats[["smallest_bore_mm", "largest_bore_mm"]] *= 1000.0
+        note = "<p><i>Illustrative numbers.</i></p>" if self.illustrative else ""
+        return (f"<div><p><b>Sizing study: {html.escape(self.name)}</b></p>{note}"
+                f"<p>{self.line.length / 1000:.3g} km, static head {s.static_head:.3g} m, "
+                f"ΣK {s.minor_loss_k:g}, {s.parallel} line(s); {html.escape(self.fluid.name)} "
+                f"{self.fluid.density:.1f} kg/m³; energy {s.tariff.price:g} "
+                f"{html.escape(self.currency)}/kWh; {s.discount_rate * 100:g} % over "
+                f"{s.horizon} years</p>"
+                + duty.to_html(index=False, border=0, float_format=lambda x: f"{x:,.4g}")
+                + mats.to_html(index=False, border=0, float_format=lambda x: f"{x:,.1f}")
+                + "</div>")
 
 
 def read_common_sections(top: Section, base: Path) -> dict[str, Any]:

@@ -772,6 +772,21 @@ class UpgradeStudy(StudyFileMixin):
         return (f"UpgradeStudy({self.name!r}: existing bore {self.bore * 1e3:.1f} mm, "
                 f"{len(self.options)} option(s), {self.economics.horizon} years)")
 
+    def _repr_html_(self) -> str:
+        c = self.condition
+        opts = pd.DataFrame({"option": [st.name for st in self.states],
+                             "kind": [st.kind for st in self.states],
+                             "year": [st.year for st in self.states],
+                             "what": [st.description for st in self.states],
+                             "capital": [st.capital for st in self.states]})
+        note = "<p><i>Illustrative numbers.</i></p>" if self.illustrative else ""
+        return (f"<div><p><b>Upgrade study: {html.escape(self.name)}</b></p>{note}"
+                f"<p>existing line {self.existing.length / 1000:.3g} km, bore "
+                f"{c['bore_m'] * 1e3:.1f} mm, roughness {c['roughness_m'] * 1e3:.3g} mm, "
+                f"C {c['hazen_williams_c']:.0f} ({html.escape(c['source'])})</p>"
+                + opts.to_html(index=False, border=0, float_format=lambda x: f"{x:,.0f}")
+                + "</div>")
+
 
 def _long_frame(name: str, fl: dict, row: int, t: np.ndarray) -> pd.DataFrame:
     return pd.DataFrame({

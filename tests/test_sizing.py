@@ -238,3 +238,9 @@ def test_python_constructor_matches_study_file():
     np.testing.assert_allclose(a, b, rtol=1e-13)
     with pytest.raises(InputError, match=r"line\.length: expected a length"):
         Line(2000.0, "0 m")
+
+
+def test_study_rich_display():
+    html = SizingStudy.demo()._repr_html_()
+    assert "Sizing study" in html and "<table" in html and "flow [m³/h]" in html
+    assert "Illustrative" in html

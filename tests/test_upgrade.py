@@ -221,3 +221,10 @@ def test_upgrade_from_toml_file_and_cli(tmp_path):
     assert set(res.cash_flows["option"]) == {"keep", "reline", "duplicate"}
     assert main(["upgrade", str(DATA / "upgrade_small.toml"), "--out", str(tmp_path)]) == 0
     assert (tmp_path / "cash_flows.csv").is_file() and (tmp_path / "summary.csv").is_file()
+
+
+def test_upgrade_rich_display():
+    st = UpgradeStudy.demo()
+    html = st._repr_html_()
+    assert "Upgrade study" in html and "<table" in html and "back-calculated" in html
+    assert "<table" in st.run()._repr_html_()
