@@ -1,7 +1,8 @@
 """Command line of pipeopt (presentation layer).
 
 Subcommands: ``run`` (a sizing study file), ``upgrade`` (an upgrade study file), ``demo`` (the
-bundled demonstrations), ``catalog`` (list materials and sizes). Exit status: 0 success, 1 a
+bundled demonstrations), ``catalog`` (list materials and sizes), ``init`` (a starter study
+file), ``verify`` (the verification record). Exit status: 0 success, 1 a
 sizing study with no feasible candidate, 2 bad input (one readable message naming the key,
 never a traceback), 3 an internal error (``--debug`` shows its traceback).
 """
@@ -9,9 +10,7 @@ never a traceback), 3 an internal error (``--debug`` shows its traceback).
 from __future__ import annotations
 
 import argparse
-import os
 import sys
-import tempfile
 import traceback
 from collections.abc import Sequence
 from pathlib import Path
@@ -24,81 +23,153 @@ DEMO_NOTE = ("Demo scenario and numbers are invented for illustration only; they
              "real place, line or price.")
 
 
-def _write_atomic(path: Path, text: str) -> None:
-    """Write ``text`` to ``path`` through a temporary file and a rename (never half-written)."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            fh.write(text)
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+STARTER_SIZING = """# pipeopt sizing study: edit every value for your line.
+# Dimensional values carry units.
+# The numbers below are PLACEHOLDERS, not recommendations.
+[study]
+name = "my line"
+currency = "EUR"
+
+[fluid]
+kind = "water"              # "water", "coolprop" (with name = "INCOMP::MEG-30%"), or "custom"
+temperature = "15 degC"
+
+[line]
+length = "2 km"
+static_head = "20 m"        # lift plus the residual head required at delivery
+minor_loss_k = 5.0
+parallel = 1
+
+[[duty]]
+flow = "300 m^3/h"
+hours = 6000
+
+[growth]
+flow_per_year = 0.0
+
+[pumping]
+efficiency = 0.70           # wire to water
+
+[energy]
+price = 0.12                # per kWh in year 1
+escalation = 0.0
+demand_charge = 0.0
+
+[economics]
+discount_rate = 0.05
+horizon = 30
+pipe_life = 60
+pipe_maintenance = 0.0
+
+[[material]]
+name = "ductile-iron"       # see: pipeopt catalog
+min_diameter = "0.15 m"
+max_diameter = "0.6 m"
+cost = { coefficient = 2000.0, exponent = 1.3 }   # per metre, a * D^n with D in m
+
+[constraints]
+velocity_min = "0.5 m/s"
+velocity_max = "2.5 m/s"
+"""
+
+STARTER_UPGRADE = """# pipeopt upgrade study: edit every value for your main.
+# Dimensional values carry units.
+# The numbers below are PLACEHOLDERS, not recommendations.
+[study]
+name = "my main"
+currency = "EUR"
+
+[fluid]
+kind = "water"
+temperature = "12 degC"
+
+[existing]
+material = "cast-iron-aged"
+inner_diameter = "0.28 m"
+length = "3 km"
+static_head = "20 m"
+hazen_williams_c = 90       # or roughness = "1.5 mm", or an [existing.field_test] table
+breaks_per_year = 2.0
+break_growth = 0.05
+break_cost = 8000.0
+
+[[duty]]
+flow = "250 m^3/h"
+hours = 6000
+
+[pumping]
+efficiency = 0.70
+
+[energy]
+price = 0.15
+
+[economics]
+discount_rate = 0.04
+horizon = 40
+pipe_life = 80
+
+[[option]]
+kind = "reline"
+liner_thickness = "6 mm"
+cost_per_metre = 250.0
+
+[[option]]
+kind = "replace"
+material = "ductile-iron"
+size = "DN 300 C40"
+cost_per_metre = 500.0
+"""
 
 
-def _write_tables(result, out: Path) -> list[Path]:
-    files = {"candidates.csv": result.candidates, "optimum.csv": result.optimum}
-    written = []
-    texts = {name: frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
-             for name, frame in files.items()}
-    for name, text in texts.items():  # every table is formatted before the first is written
-        _write_atomic(out / name, text)
-        written.append(out / name)
-    return written
+def _prepare_out(out: str | None, force: bool) -> Path | None:
+    """Refuse a non-empty output folder unless --force (nothing is written yet)."""
+    if not out:
+        return None
+    path = Path(out)
+    if path.exists() and not path.is_dir():
+        raise InputError(f"--out: {out!r} exists and is not a folder")
+    if path.is_dir() and any(path.iterdir()) and not force:
+        raise InputError(f"--out: the folder {out!r} is not empty; use --force to overwrite "
+                         f"its results")
+    return path
 
 
-def _frames_csv(frames: dict[str, pd.DataFrame]) -> dict[str, str]:
-    return {name: frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
-            for name, frame in frames.items()}
+def _progress(args: argparse.Namespace) -> bool | None:
+    return False if args.quiet else None  # None: a bar only when stderr is a terminal
 
 
 def _cmd_run(args: argparse.Namespace) -> int:
     from .sizing import SizingStudy
 
+    out = _prepare_out(args.out, args.force)
     study = SizingStudy.from_toml(args.study)
     result = study.run()
-    extra: dict[str, pd.DataFrame] = {}
+    extra: dict = {}
     print(result.summary())
     if study.uncertainty and result.success:
-        tornado = study.tornado()
-        switching = study.switching_values()
-        mc = study.monte_carlo(progress=False if args.quiet else None)
-        print()
-        print(tornado)
-        print()
-        print(switching)
-        print()
-        print(mc)
-        extra = {"tornado.csv": tornado.table, "switching_values.csv": switching.table,
-                 "monte_carlo.csv": mc.candidates, "monte_carlo_correlation.csv": mc.correlation}
-    if args.out:
-        written = _write_tables(result, Path(args.out))
-        for name, text in _frames_csv(extra).items():
-            _write_atomic(Path(args.out) / name, text)
-            written.append(Path(args.out) / name)
-        for p in written:
+        extra = {"tornado": study.tornado(), "switching": study.switching_values(),
+                 "monte_carlo": study.monte_carlo(progress=_progress(args))}
+        for item in extra.values():
+            print()
+            print(item)
+    if out is not None:
+        from .report import write_report
+
+        for p in write_report(result, out, extra):
             print(f"wrote {p}")
     return 0 if result.success else 1
-
-
-def _write_upgrade_tables(result, out: Path) -> list[Path]:
-    texts = {name: frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
-             for name, frame in (("cash_flows.csv", result.cash_flows),
-                                 ("summary.csv", result.summary))}
-    for name, text in texts.items():
-        _write_atomic(out / name, text)
-    return [out / name for name in texts]
 
 
 def _cmd_upgrade(args: argparse.Namespace) -> int:
     from .upgrade import UpgradeStudy
 
-    study = UpgradeStudy.from_toml(args.study)
-    result = study.run()
+    out = _prepare_out(args.out, args.force)
+    result = UpgradeStudy.from_toml(args.study).run()
     print(result.text())
-    if args.out:
-        for p in _write_upgrade_tables(result, Path(args.out)):
+    if out is not None:
+        from .report import write_report
+
+        for p in write_report(result, out):
             print(f"wrote {p}")
     return 0
 
@@ -107,6 +178,7 @@ def _cmd_demo(args: argparse.Namespace) -> int:
     from .sizing import SizingStudy
     from .upgrade import UpgradeStudy
 
+    out = _prepare_out(args.out, args.force)
     print(DEMO_NOTE)
     print()
     result = SizingStudy.demo().run()
@@ -114,12 +186,38 @@ def _cmd_demo(args: argparse.Namespace) -> int:
     upgrade = UpgradeStudy.demo().run()
     print()
     print(upgrade.text())
-    if args.out:
-        written = _write_tables(result, Path(args.out) / "sizing")
-        written += _write_upgrade_tables(upgrade, Path(args.out) / "upgrade")
+    if out is not None:
+        from .report import write_report
+
+        written = write_report(result, out / "sizing")
+        written += write_report(upgrade, out / "upgrade", verification=False)
         for p in written:
             print(f"wrote {p}")
     return 0
+
+
+def _cmd_init(args: argparse.Namespace) -> int:
+    path = Path(args.file)
+    if path.exists() and not args.force:
+        raise InputError(f"{args.file}: the file exists; use --force to replace it")
+    from .report import write_atomic
+
+    write_atomic(path, STARTER_UPGRADE if args.kind == "upgrade" else STARTER_SIZING)
+    print(f"wrote {path}: edit it, then run: pipeopt "
+          f"{'upgrade' if args.kind == 'upgrade' else 'run'} {path}")
+    return 0
+
+
+def _cmd_verify(args: argparse.Namespace) -> int:
+    from .verification import run_checks
+
+    table = run_checks()
+    view = table[["area", "check", "expected", "computed", "tolerance", "passed", "source"]]
+    with pd.option_context("display.max_colwidth", 60, "display.width", 250):
+        print(view.to_string(index=False, float_format=lambda x: f"{x:.10g}"))
+    failed = int((~table["passed"]).sum())
+    print(f"\n{len(table) - failed} of {len(table)} reference checks passed")
+    return 1 if failed else 0
 
 
 def _cmd_catalog(args: argparse.Namespace) -> int:
@@ -158,8 +256,9 @@ def build_parser() -> argparse.ArgumentParser:
                          description="Run a sizing study (TOML) and print its summary.",
                          epilog="example: pipeopt run study.toml --out results")
     run.add_argument("study", help="the study file (TOML)")
-    run.add_argument("--out", help="folder for candidates.csv, optimum.csv and, with an "
-                                   "[uncertainty] section, the sensitivity tables")
+    run.add_argument("--out", help="folder for the report (HTML, Markdown, workbook, "
+                                   "figures, CSV tables)")
+    run.add_argument("--force", action="store_true", help="overwrite a non-empty --out folder")
     run.add_argument("--quiet", action="store_true", help="no progress bar")
     run.set_defaults(func=_cmd_run)
 
@@ -168,14 +267,31 @@ def build_parser() -> argparse.ArgumentParser:
                          description="Run an upgrade study (TOML) and print its comparison.",
                          epilog="example: pipeopt upgrade main.toml --out results")
     upg.add_argument("study", help="the upgrade study file (TOML)")
-    upg.add_argument("--out", help="folder for cash_flows.csv and summary.csv")
+    upg.add_argument("--out", help="folder for the report (HTML, Markdown, workbook, "
+                                   "figures, CSV tables)")
+    upg.add_argument("--force", action="store_true", help="overwrite a non-empty --out folder")
     upg.set_defaults(func=_cmd_upgrade)
 
     demo = sub.add_parser("demo", help="run the bundled demonstration study",
                           description="Run the bundled demonstration (an invented scenario).",
                           epilog="example: pipeopt demo --out demo-results")
-    demo.add_argument("--out", help="folder for the result tables")
+    demo.add_argument("--out", help="folder for the demo reports")
+    demo.add_argument("--force", action="store_true", help="overwrite a non-empty --out folder")
     demo.set_defaults(func=_cmd_demo)
+
+    ini = sub.add_parser("init", help="write a starter study file to edit",
+                         description="Write a starter study file (placeholders to edit).",
+                         epilog="example: pipeopt init my-line.toml  (or --kind upgrade)")
+    ini.add_argument("file", help="the study file to create")
+    ini.add_argument("--kind", choices=("sizing", "upgrade"), default="sizing")
+    ini.add_argument("--force", action="store_true", help="replace an existing file")
+    ini.set_defaults(func=_cmd_init)
+
+    ver = sub.add_parser("verify", help="run the published reference checks and print them",
+                         description="Run every published reference check pipeopt relies on "
+                                     "and print the verification record; exit 1 if any fails.",
+                         epilog="example: pipeopt verify")
+    ver.set_defaults(func=_cmd_verify)
 
     cat = sub.add_parser("catalog", help="list catalog materials or the sizes of one",
                          description="List the materials, or the sizes of one material.",

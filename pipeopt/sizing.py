@@ -785,7 +785,8 @@ def read_common_sections(top: Section, base: Path) -> dict[str, Any]:
     pu = top.table("pumping", ("efficiency",), required=True)
     efficiency = pu.number("efficiency", None, low=0.0, high=1.0, low_open=True, example="0.70")
     en = top.table("energy", ("price", "escalation", "demand_charge"), required=True)
-    tariff = EnergyTariff(en.number("price", None, low=0.0, low_open=True, example="0.12"),
+    tariff = EnergyTariff(en.number("price", None, low=0.0, low_open=True, high=100.0,
+                                    example="0.12"),
                           en.number("escalation", 0.0, low=-0.5, high=0.5),
                           en.number("demand_charge", 0.0, low=0.0))
     ps = top.table("pump_station", ("cost_coefficient", "cost_exponent", "standby_fraction",
