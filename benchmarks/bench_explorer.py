@@ -19,7 +19,7 @@ from bench_sizing import benchmark_study  # noqa: E402
 import pipeopt  # noqa: E402
 
 
-def main(repeat: int = 21) -> None:
+def main(repeat: int = 21) -> float:
     study = benchmark_study()
     ex = pipeopt.explore(study, debounce=0)
     slider = ex.controls["energy_price"]
@@ -40,6 +40,7 @@ def main(repeat: int = 21) -> None:
     print(f"    of which the study's run()              {med_run * 1e3:8.1f} ms "
           f"({med_run / med:.0%})")
     print(f"    drawing, table and display               {(med - med_run) * 1e3:8.1f} ms")
+    return med
 
 
 if __name__ == "__main__":

@@ -49,7 +49,7 @@ def measure(study, dists, n: int, workers: int) -> tuple[float, float]:
     return dt, peak
 
 
-def main(n: int) -> None:
+def main(n: int) -> dict:
     study = benchmark_study()
     print(f"Monte Carlo of the sizing benchmark study ({len(study.candidates)} candidates, "
           f"3 duty points, 40 years), {n:,} samples")
@@ -65,6 +65,7 @@ def main(n: int) -> None:
     print(f"  ratio (b)/(a), one thread: {b / a:.1f}; two threads against one: "
           f"(a) {a / results[('(a) economic inputs', 2)]:.2f}, "
           f"(b) {b / results[('(b) + flows and growth', 2)]:.2f}")
+    return results
 
 
 if __name__ == "__main__":
