@@ -25,7 +25,7 @@ DEMO_NOTE = ("Demo scenario and numbers are invented for illustration only; they
 
 STARTER_SIZING = """# pipeopt sizing study: edit every value for your line.
 # Dimensional values carry units.
-# The numbers below are PLACEHOLDERS, not recommendations.
+# The numbers below are starting values to replace, not recommendations.
 [study]
 name = "my line"
 currency = "EUR"
@@ -74,7 +74,7 @@ velocity_max = "2.5 m/s"
 
 STARTER_UPGRADE = """# pipeopt upgrade study: edit every value for your main.
 # Dimensional values carry units.
-# The numbers below are PLACEHOLDERS, not recommendations.
+# The numbers below are starting values to replace, not recommendations.
 [study]
 name = "my main"
 currency = "EUR"
@@ -280,7 +280,7 @@ def build_parser() -> argparse.ArgumentParser:
     demo.set_defaults(func=_cmd_demo)
 
     ini = sub.add_parser("init", help="write a starter study file to edit",
-                         description="Write a starter study file (placeholders to edit).",
+                         description="Write a starter study file with example values to edit.",
                          epilog="example: pipeopt init my-line.toml  (or --kind upgrade)")
     ini.add_argument("file", help="the study file to create")
     ini.add_argument("--kind", choices=("sizing", "upgrade"), default="sizing")

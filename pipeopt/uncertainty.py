@@ -25,6 +25,7 @@ every aging rate), ``pipe_cost_factor`` (all materials) or ``pipe_cost_factor:<m
 
 from __future__ import annotations
 
+import abc
 import html
 import sys
 from dataclasses import dataclass, field
@@ -46,7 +47,7 @@ __all__ = ["Uniform", "Triangular", "Normal", "LogNormal", "DISTRIBUTIONS", "tor
 # --------------------------------------------------------------------------------------------
 # distributions
 # --------------------------------------------------------------------------------------------
-class _Distribution:
+class _Distribution(abc.ABC):
     """Base of the input distributions: ``sample(rng, n)``, ``cdf(x)``, ``support``."""
 
     def sample(self, rng: np.random.Generator, n: int) -> np.ndarray:
@@ -62,8 +63,9 @@ class _Distribution:
         lo, hi = self._frozen().support()
         return float(lo), float(hi)
 
-    def _frozen(self):  # pragma: no cover - implemented by subclasses
-        raise NotImplementedError
+    @abc.abstractmethod
+    def _frozen(self):
+        """The frozen scipy.stats distribution."""
 
 
 @dataclass(frozen=True)

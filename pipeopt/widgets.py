@@ -9,6 +9,7 @@ the figure and the table. ``explorer.update_now()`` does the same at once (tests
 
 from __future__ import annotations
 
+import abc
 import asyncio
 import dataclasses
 import html
@@ -50,7 +51,7 @@ def explore(study, debounce: float = 0.15):
     raise TypeError(f"explore needs a SizingStudy or an UpgradeStudy; got {type(study).__name__}")
 
 
-class _Explorer:
+class _Explorer(abc.ABC):
     """Shared machinery: controls, debounced updates, a figure in an Output widget."""
 
     def __init__(self, debounce: float) -> None:
@@ -99,8 +100,21 @@ class _Explorer:
         self.last_update_seconds = time.perf_counter() - t0
         self.updates += 1
 
-    def _update(self) -> None:  # pragma: no cover - implemented by subclasses
-        raise NotImplementedError
+    @abc.abstractmethod
+    def _update(self) -> None:
+        """Re-evaluate and redraw into ``self.ax`` and ``self.table``."""
+
+    def _money_controls(self, s, currency: str) -> dict[str, w.Widget]:
+        """The energy price, escalation and discount-rate sliders both explorers have."""
+        return {
+            "energy_price": self._slider(f"energy price [{currency or 'money'}/kWh]",
+                                         s.tariff.price, 0.2 * s.tariff.price,
+                                         3.0 * s.tariff.price, s.tariff.price / 100),
+            "escalation": self._slider("escalation [1/yr]", s.tariff.escalation, -0.02, 0.06,
+                                       0.0025),
+            "discount_rate": self._slider("discount rate [1/yr]", s.discount_rate, 0.0, 0.15,
+                                          0.0025),
+        }
 
     def _layout(self) -> w.Widget:
         """Controls on the left (fixed width), figure and table on the right."""
@@ -133,13 +147,7 @@ class SizingExplorer(_Explorer):
         s = study.scenario
         hours_max = max(1.0, 8760.0 / sum(s.duty.hours))
         self.controls = {
-            "energy_price": self._slider(f"energy price [{study.currency or 'money'}/kWh]",
-                                         s.tariff.price, 0.2 * s.tariff.price,
-                                         3.0 * s.tariff.price, s.tariff.price / 100),
-            "escalation": self._slider("escalation [1/yr]", s.tariff.escalation, -0.02, 0.06,
-                                       0.0025),
-            "discount_rate": self._slider("discount rate [1/yr]", s.discount_rate, 0.0, 0.15,
-                                          0.0025),
+            **self._money_controls(s, study.currency),
             "horizon": self._slider("horizon [yr]", s.horizon, 5, 100, 1, integer=True),
             "flow_factor": self._slider("flow scale [-]", 1.0, 0.4, 2.0, 0.01),
             "hours_factor": self._slider("operating hours scale [-]", 1.0, 0.2,
@@ -206,13 +214,7 @@ class UpgradeExplorer(_Explorer):
         self.study = study
         s = study.scenario
         self.controls = {
-            "energy_price": self._slider(f"energy price [{study.currency or 'money'}/kWh]",
-                                         s.tariff.price, 0.2 * s.tariff.price,
-                                         3.0 * s.tariff.price, s.tariff.price / 100),
-            "escalation": self._slider("escalation [1/yr]", s.tariff.escalation, -0.02, 0.06,
-                                       0.0025),
-            "discount_rate": self._slider("discount rate [1/yr]", s.discount_rate, 0.0, 0.15,
-                                          0.0025),
+            **self._money_controls(s, study.currency),
             "flow_factor": self._slider("flow scale [-]", 1.0, 0.5, 1.6, 0.01),
             "break_cost_factor": self._slider("break cost scale [-]", 1.0, 0.0, 3.0, 0.05),
             "capital_factor": self._slider("option capital scale [-]", 1.0, 0.5, 2.0, 0.01),
