@@ -85,3 +85,27 @@ def test_init_writes_a_starter_that_runs(tmp_path, capsys):
     assert main(["init", str(g), "--kind", "upgrade"]) == 0
     assert main(["upgrade", str(g)]) == 0
     assert "Caution" in capsys.readouterr().out
+
+
+def test_report_opens_in_a_headless_browser(sizing_report):
+    # the HTML report renders offline: every figure is decoded and shown, nothing is fetched
+    import shutil
+
+    chromium = shutil.which("chromium")
+    if chromium is None:
+        pytest.skip("no Chromium browser on this machine (Debian package 'chromium')")
+    sync_api = pytest.importorskip("playwright.sync_api", reason="Playwright is not installed")
+    fetched = []
+    with sync_api.sync_playwright() as pw:
+        browser = pw.chromium.launch(executable_path=chromium, headless=True,
+                                     args=["--no-sandbox", "--disable-gpu",
+                                           "--disable-background-networking"])
+        page = browser.new_page()
+        page.on("request", lambda r: fetched.append(r.url))
+        page.goto((sizing_report / "report.html").as_uri(), wait_until="load")
+        widths = page.eval_on_selector_all("img", "els => els.map(e => e.naturalWidth)")
+        title = page.title()
+        browser.close()
+    assert title.startswith("pipeopt sizing study")
+    assert widths and all(wd > 100 for wd in widths)
+    assert all(u.startswith(("file:", "data:")) for u in fetched), fetched
