@@ -10,6 +10,7 @@ never a traceback), 3 an internal error (``--debug`` shows its traceback).
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 import traceback
 from collections.abc import Sequence
@@ -320,6 +321,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("pipeopt: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:  # the reader of our output went away (| head): not an error
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 0
     except Exception as exc:  # noqa: BLE001 - the last line of defence: no traceback for users
         if args.debug:
             traceback.print_exc()

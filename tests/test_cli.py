@@ -79,3 +79,10 @@ def test_missing_file_and_catalog_listing(capsys):
 def test_no_command_prints_help(capsys):
     assert main([]) == 2
     assert "usage" in capsys.readouterr().out
+
+
+def test_output_cut_short_is_not_an_error():
+    # `pipeopt demo | head -1`: the reader closes the pipe; no traceback, no internal error
+    proc = subprocess.run(f"{sys.executable} -m pipeopt.cli demo | head -1", shell=True,
+                          capture_output=True, text=True)
+    assert "internal error" not in proc.stderr and "Traceback" not in proc.stderr
