@@ -221,8 +221,8 @@ def _colebrook_kernel(re: np.ndarray, rr: np.ndarray, out: np.ndarray) -> np.nda
     """Clamond's two-step solution of Colebrook-White, in place, block by block.
 
     ``re`` and ``rr`` are contiguous 1-D float64 arrays of one length with ``re`` >= 2000 (no
-    checks here). The arithmetic is Clamond (2009), eqs. (8)-(10) of the paper's algorithm,
-    rearranged to reuse six work arrays of :data:`_CHUNK` elements so that every pass stays in
+    checks here). The arithmetic is the algorithm of Clamond (2009), rearranged to reuse six work
+    arrays of :data:`_CHUNK` elements so that every pass stays in
     cache and no temporary is allocated per block.
     """
     n = re.size
@@ -356,7 +356,7 @@ def swamee_jain(reynolds: Any, relative_roughness: Any) -> Any:
     References
     ----------
     .. [1] P. K. Swamee, A. K. Jain, "Explicit equations for pipe-flow problems",
-       J. Hydraul. Div. ASCE 102(HY5), 657–664, 1976, eq. (14).
+       J. Hydraul. Div. ASCE 102(HY5), 657–664, 1976 (equation number not checked).
 
     Examples
     --------
@@ -397,7 +397,7 @@ def haaland(reynolds: Any, relative_roughness: Any) -> Any:
     References
     ----------
     .. [1] S. E. Haaland, "Simple and explicit formulas for the friction factor in turbulent
-       pipe flow", J. Fluids Eng. 105(1), 89–90, 1983, eq. (9).
+       pipe flow", J. Fluids Eng. 105(1), 89–90, 1983 (equation number not checked).
 
     Examples
     --------

@@ -72,7 +72,6 @@ def cost_curves(result, materials: list[str] | None = None, ax=None):
     for j, mat in enumerate(mats):
         colour = PALETTE[j % len(PALETTE)]
         rows = c[c["material"] == mat].sort_values("inner_diameter_m")
-        # one point per bore: the cheapest class of each inner diameter
         d_mm = rows["inner_diameter_m"] * 1e3
         capital = (rows["capex_pipe"] + rows["capex_pump_station"]) * crf
         energy = rows["pv_energy"] * crf

@@ -56,7 +56,7 @@ def wave_speed(bulk_modulus: Any, density: Any, diameter: Any, wall: Any, elasti
     References
     ----------
     .. [1] E. B. Wylie, V. L. Streeter, Fluid Transients in Systems, Prentice Hall, 1993,
-       eqs. (2.3.x) for c1 (from memory).
+       chapter 2, the factor c1 of the restraint cases (from memory).
     .. [2] D. J. Korteweg, "Ueber die Fortpflanzungsgeschwindigkeit des Schalles in elastischen
        Röhren", Ann. Phys. Chem. 241(12), 525–542, 1878.
 

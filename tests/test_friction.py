@@ -92,11 +92,11 @@ def test_colebrook_large_arrays_span_several_blocks():
 # ------------------------------------------------------------------------------------------
 
 
-def _mp_swamee_jain(re, rr):  # Swamee & Jain (1976), J. Hydraul. Div. 102(HY5), eq. (14)
+def _mp_swamee_jain(re, rr):  # Swamee & Jain (1976), J. Hydraul. Div. 102(HY5)
     return mp.mpf("0.25") / mp.log10(rr / mp.mpf("3.7") + mp.mpf("5.74") / re ** mp.mpf("0.9")) ** 2
 
 
-def _mp_haaland(re, rr):  # Haaland (1983), J. Fluids Eng. 105(1), eq. (9)
+def _mp_haaland(re, rr):  # Haaland (1983), J. Fluids Eng. 105(1)
     x = mp.mpf("-1.8") * mp.log10((rr / mp.mpf("3.7")) ** mp.mpf("1.11") + mp.mpf("6.9") / re)
     return 1 / x**2
 
