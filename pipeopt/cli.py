@@ -243,6 +243,12 @@ def _cmd_catalog(args: argparse.Namespace) -> int:
     return 0
 
 
+def _add_out(sub: argparse.ArgumentParser) -> None:
+    sub.add_argument("--out", help="folder for the report (HTML, Markdown, workbook, figures, "
+                                   "CSV tables)")
+    sub.add_argument("--force", action="store_true", help="overwrite a non-empty --out folder")
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="pipeopt",
@@ -257,9 +263,7 @@ def build_parser() -> argparse.ArgumentParser:
                          description="Run a sizing study (TOML) and print its summary.",
                          epilog="example: pipeopt run study.toml --out results")
     run.add_argument("study", help="the study file (TOML)")
-    run.add_argument("--out", help="folder for the report (HTML, Markdown, workbook, "
-                                   "figures, CSV tables)")
-    run.add_argument("--force", action="store_true", help="overwrite a non-empty --out folder")
+    _add_out(run)
     run.add_argument("--quiet", action="store_true", help="no progress bar")
     run.set_defaults(func=_cmd_run)
 
@@ -268,16 +272,13 @@ def build_parser() -> argparse.ArgumentParser:
                          description="Run an upgrade study (TOML) and print its comparison.",
                          epilog="example: pipeopt upgrade main.toml --out results")
     upg.add_argument("study", help="the upgrade study file (TOML)")
-    upg.add_argument("--out", help="folder for the report (HTML, Markdown, workbook, "
-                                   "figures, CSV tables)")
-    upg.add_argument("--force", action="store_true", help="overwrite a non-empty --out folder")
+    _add_out(upg)
     upg.set_defaults(func=_cmd_upgrade)
 
     demo = sub.add_parser("demo", help="run the bundled demonstration study",
                           description="Run the bundled demonstration (an invented scenario).",
                           epilog="example: pipeopt demo --out demo-results")
-    demo.add_argument("--out", help="folder for the demo reports")
-    demo.add_argument("--force", action="store_true", help="overwrite a non-empty --out folder")
+    _add_out(demo)
     demo.set_defaults(func=_cmd_demo)
 
     ini = sub.add_parser("init", help="write a starter study file to edit",
