@@ -128,8 +128,10 @@ class Scenario:
 class LifeCycle:
     """Results of :func:`evaluate`, arrays over candidates (C,) or candidates × years (C, N).
 
-    Hydraulic figures "at design" are those of the largest duty flow in year 1. Money is in the
-    study currency, present values at t = 0.
+    With :class:`Variations`, every array has a leading sample axis: (S, C) and (S, C, N). The
+    yearly arrays (``energy_kwh``, ``peak_kw``, ``energy_cost``, ``carbon_cost``) are None when
+    ``evaluate`` was called with ``yearly=False``. Hydraulic figures "at design" are those of the
+    largest duty flow in year 1. Money is in the study currency, present values at t = 0.
     """
 
     velocity_design: np.ndarray          # m/s, largest duty flow, year 1

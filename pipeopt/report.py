@@ -122,7 +122,8 @@ def _inputs_sizing(study) -> pd.DataFrame:
                  ("pump_station", "life", ps.life, "yr"),
                  ("pump_station", "maintenance", ps.maintenance, "1/yr")]
     for m in study.materials:
-        rows.append((f"material {m.name}", "cost", m.cost.describe(), f"{study.currency}/m"))
+        rows.append((f"material {m.name}", "cost", study.pipe_costs[m.name].describe(),
+                     f"{study.currency}/m"))
     con = study.constraints
     for name in ("velocity_min", "velocity_max"):
         v = getattr(con, name)

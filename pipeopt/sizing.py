@@ -348,6 +348,9 @@ class SizingStudy(StudyFileMixin):
             grid_factor=carbon.grid_factor if carbon else 0.0,
             carbon_price=carbon.price / 1000.0 if carbon else 0.0,
             friction_method=friction_method, constant_friction_factor=constant_friction_factor)
+        #: The pipe cost model of each material, resolved (a cost table given by designation
+        #: becomes a :class:`~pipeopt.costs.TablePipeCost` on the catalog's inner diameters).
+        self.pipe_costs: dict[str, PowerLawPipeCost | TablePipeCost] = {}
         self.candidates = self._build_candidates()
 
     # ----- construction ---------------------------------------------------------------------
@@ -376,7 +379,6 @@ class SizingStudy(StudyFileMixin):
             cost = choice.cost
             if isinstance(cost, dict):  # a table by designation
                 cost = self._cost_table(choice, cost["table"])
-                choice.cost = cost
             if not isinstance(cost, (PowerLawPipeCost, TablePipeCost)):
                 raise InputError(f"{where}: cost must be a power law {{coefficient, exponent}} "
                                  f"or a table")
@@ -385,6 +387,7 @@ class SizingStudy(StudyFileMixin):
                 cost_m = np.asarray(cost.per_metre(d), dtype=float)
             except InputError as exc:
                 raise InputError(f"{where}: {exc}") from None
+            self.pipe_costs[choice.name] = cost
             roughness = mat.roughness if choice.roughness is None else choice.roughness
             aging = (0.0 if choice.aging is None else
                      mat.aging_rate if choice.aging == "typical" else float(choice.aging))
@@ -635,7 +638,7 @@ class SizingStudy(StudyFileMixin):
 
         def scan(grids: np.ndarray) -> np.ndarray:  # EAC on an (M, n) grid, one evaluation
             n = grids.shape[1]
-            costs = np.concatenate([np.asarray(sp[0].cost.per_metre(g))
+            costs = np.concatenate([np.asarray(self.pipe_costs[sp[0].name].per_metre(g))
                                     for sp, g in zip(specs, grids, strict=True)])
             return evaluate(s, grids.ravel(), np.repeat(eps_all, n), np.repeat(alpha_all, n),
                             costs, eac_only=True).reshape(grids.shape)
@@ -659,7 +662,7 @@ class SizingStudy(StudyFileMixin):
         rows = []
         for (choice, sel, d_lo, d_hi, eps0, alpha), grid, values in zip(
                 specs, grids, scan_eac, strict=True):
-            cost = choice.cost
+            cost = self.pipe_costs[choice.name]
 
             def eac(x: float, cost=cost, eps0=eps0, alpha=alpha) -> float:
                 d = np.array([x])

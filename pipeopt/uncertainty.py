@@ -181,11 +181,9 @@ def _variations(study, values: dict[str, np.ndarray]) -> Variations:
 
 
 def _base_value(study, name: str) -> float:
-    s = study.scenario
-    base = {"energy_price": s.tariff.price, "escalation": s.tariff.escalation,
-            "demand_charge": s.tariff.demand_charge, "discount_rate": s.discount_rate,
-            "horizon": float(s.horizon), "efficiency": s.efficiency, "growth": s.duty.growth}
-    return float(base.get(name, 1.0))
+    """The study's own value of an input (1 for every factor), from the model's defaults."""
+    base = Variations().resolved(study.scenario)
+    return 1.0 if name.startswith("pipe_cost_factor") else float(base[name][0])
 
 
 def default_ranges(study) -> dict[str, tuple[float, float]]:
@@ -275,12 +273,14 @@ class TornadoResult:
                 + self.table.to_html(index=False, float_format=lambda x: f"{x:,.4g}", border=0))
 
 
-def _base_choice(study) -> int:
-    eac, feas = _evaluate(study, {"flow_factor": np.ones(1)})
-    best = int(_best(eac, feas)[0])
+def _base_choice(study) -> tuple[int, np.ndarray]:
+    """The best candidate at the study's own values, and every candidate's EAC there."""
+    lc = study.evaluate(yearly=False)
+    feas = study.feasibility(lc)["feasible"]
+    best = int(_best(lc.eac[None, :], feas[None, :])[0])
     if best < 0:
         raise InputError("sensitivity: no candidate is feasible at the base values")
-    return best
+    return best, lc.eac
 
 
 def tornado(study, ranges: dict[str, tuple[float, float]] | None = None) -> TornadoResult:
@@ -307,7 +307,7 @@ def tornado(study, ranges: dict[str, tuple[float, float]] | None = None) -> Torn
         col = np.full(n, _base_value(study, name))
         col[2 * j], col[2 * j + 1] = ranges[name]
         values[name] = col
-    chosen = _base_choice(study)
+    chosen, base = _base_choice(study)
     eac, feas = _evaluate(study, values)
     best = _best(eac, feas)
     rows = []
@@ -320,8 +320,7 @@ def tornado(study, ranges: dict[str, tuple[float, float]] | None = None) -> Torn
                      "best_high": _label(study, int(best[hi])),
                      "changes": bool(best[lo] != chosen or best[hi] != chosen)})
     table = pd.DataFrame(rows).sort_values("swing", ascending=False, kind="stable")
-    base_eac = float(_evaluate(study, {"flow_factor": np.ones(1)})[0][0, chosen])
-    return TornadoResult(_label(study, chosen), base_eac, table.reset_index(drop=True),
+    return TornadoResult(_label(study, chosen), float(base[chosen]), table.reset_index(drop=True),
                          study.currency)
 
 
@@ -374,7 +373,7 @@ def switching_values(study, ranges: dict[str, tuple[float, float]] | None = None
     ranges = dict(ranges or default_ranges(study))
     for name in ranges:
         _check_name(study, name)
-    chosen = _base_choice(study)
+    chosen, _ = _base_choice(study)
     rows = []
     for name, (lo, hi) in ranges.items():
         base = _base_value(study, name)
@@ -594,7 +593,7 @@ def monte_carlo(study, distributions: dict[str, _Distribution], n: int = 10000, 
     """
     for name in distributions:
         _check_name(study, name)
-    chosen = _base_choice(study)
+    chosen, _ = _base_choice(study)
     values = _samples(distributions, n, seed)
     size = _chunk_size(study, memory, any(k in HYDRAULIC_INPUTS for k in distributions))
     c = len(study.candidates)
