@@ -266,7 +266,7 @@ def write_report(result: Any, out: str | Path, extra: dict[str, Any] | None = No
     files["report.md"] = _markdown(title, summary_text, inputs, assumptions, provenance,
                                    status, figures, tables, sizing)
     files["report.html"] = _html(title, summary_text, inputs, assumptions, provenance, status,
-                                 figures, tables, sizing)
+                                 figures, tables, sizing, study.currency or "currency")
     files["workbook.xlsx"] = _workbook(tables)
     written = []
     for name, data in files.items():  # everything is built before the first file is written
@@ -291,7 +291,7 @@ def _markdown(title, summary_text, inputs, assumptions, provenance, status, figu
 
 
 def _html(title, summary_text, inputs, assumptions, provenance, status, figures, tables,
-          sizing) -> str:
+          sizing, currency) -> str:
     esc = html.escape
     fig_html = "".join(
         f"<figure><img alt='{esc(n)}' src='data:image/png;base64,"
@@ -315,7 +315,8 @@ def _html(title, summary_text, inputs, assumptions, provenance, status, figures,
             f"<div class='caution'><b>Cautions</b><ul>"
             + "".join(f"<li>{esc(c)}</li>" for c in CAUTIONS) + "</ul></div>"
             f"<h2>Summary</h2><pre>{esc(summary_text)}</pre>"
-            + (f"<h2>Best candidates</h2>{top}" if top else "")
+            + (f"<h2>Best candidates</h2><p>Money in {esc(currency)}; EAC per year.</p>{top}"
+               if top else "")
             + (f"<h2>{'Continuous optimum' if sizing else 'Options'}</h2>"
                + main.to_html(index=False, border=0, float_format=lambda x: f"{x:,.4g}")
                if not main.empty else "")

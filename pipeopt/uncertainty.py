@@ -541,7 +541,7 @@ class MonteCarloResult:
     def __repr__(self) -> str:
         top = self.candidates.head(6)
         lines = [f"Monte Carlo: {self.n} samples (seed {self.seed}); chosen at base: "
-                 f"{self.chosen}",
+                 f"{self.chosen}; EAC and regret in {self.currency or 'currency'}/yr",
                  f"{'candidate':<30}{'P(cheapest)':>12}{'EAC p05':>13}{'p50':>13}{'p95':>13}"
                  f"{'regret':>11}"]
         for _, r in top.iterrows():

@@ -453,7 +453,8 @@ class UpgradeStudy(StudyFileMixin):
             if not d > 0:
                 raise InputError(f"{where}: a liner of {o.liner_thickness * 1e3:g} mm is thicker "
                                  f"than the bore's radius ({self.bore / 2 * 1e3:.1f} mm)")
-            eps = (o.liner_roughness if o.liner_roughness is not None
+            eps = (o.roughness if o.roughness is not None
+                   else o.liner_roughness if o.liner_roughness is not None
                    else self.catalog.material("cement-mortar-lined").roughness)
             desc = f"liner {o.liner_thickness * 1e3:g} mm, bore {d * 1e3:.1f} mm"
         else:
@@ -468,8 +469,6 @@ class UpgradeStudy(StudyFileMixin):
                 d = float(self.catalog.lookup(o.material, o.size)["inner_diameter_m"])
                 desc = f"{o.material} {o.size} (bore {d * 1e3:.1f} mm)"
             eps = mat.roughness if o.roughness is None else o.roughness
-        if o.roughness is not None and o.kind == "reline":
-            eps = o.roughness
         if eps / d > fr.MAX_RELATIVE_ROUGHNESS:
             raise InputError(f"{where}: roughness is more than 0.05 of the bore")
         per_metre = (o.cost_per_metre if o.cost_per_metre is not None

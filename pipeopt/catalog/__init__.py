@@ -124,12 +124,17 @@ class Material:
 # --------------------------------------------------------------------------------------------
 # reading files
 # --------------------------------------------------------------------------------------------
+def _is_path(source: Any) -> bool:
+    """A path to a file, as opposed to CSV text or a DataFrame."""
+    return (isinstance(source, (str, Path)) and "\n" not in str(source)
+            and not str(source).lstrip().startswith("#"))
+
+
 def _read_csv(source: Any, what: str) -> pd.DataFrame:
     try:
         if isinstance(source, pd.DataFrame):
             return source.copy()
-        if isinstance(source, (str, Path)) and not str(source).lstrip().startswith("#") \
-                and "\n" not in str(source):
+        if _is_path(source):
             path = Path(source)
             if not path.is_file():
                 raise InputError(f"{what}: no such file {str(path)!r}")
@@ -592,11 +597,11 @@ def load_catalog(sizes: Any = None, materials: Any = None, material: str | None 
     """
     cat = default_catalog()
     if materials is not None:
-        cat = cat.with_materials(materials, name=str(materials) if isinstance(
-            materials, (str, Path)) and "\n" not in str(materials) else "materials file")
+        cat = cat.with_materials(materials, name=str(materials) if _is_path(materials)
+                                 else "materials file")
     if sizes is not None:
-        cat = cat.with_sizes(sizes, material=material, name=str(sizes) if isinstance(
-            sizes, (str, Path)) and "\n" not in str(sizes) else "sizes file")
+        cat = cat.with_sizes(sizes, material=material, name=str(sizes) if _is_path(sizes)
+                             else "sizes file")
     return cat
 
 
