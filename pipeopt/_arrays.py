@@ -4,6 +4,10 @@ The public functions accept scalars, lists, numpy arrays and pandas Series, broa
 numpy, and give back the same kind: a plain ``float`` when every input was a scalar, a
 ``pandas.Series`` (keeping the first Series' index and name) when any input was a Series, and an
 ``numpy.ndarray`` otherwise (lists come back as arrays, as numpy itself does).
+
+A :class:`pint.Quantity` is converted to the SI base units of its dimension (``420 m^3/h``
+becomes 0.11667 m³/s, ``15 degC`` becomes 288.15 K): the functions work in SI, so a Quantity
+in any unit gives the right answer instead of having its unit stripped.
 """
 
 from __future__ import annotations
@@ -24,6 +28,8 @@ def as_float_arrays(*values: Any) -> tuple[tuple[np.ndarray, ...], Any]:
     any_array = False
     converted = []
     for v in values:
+        if hasattr(v, "to_base_units") and hasattr(v, "magnitude"):  # a pint Quantity
+            v = v.to_base_units().magnitude
         if isinstance(v, pd.Series):
             if template is None or template == "array":
                 template = v

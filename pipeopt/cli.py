@@ -86,7 +86,8 @@ temperature = "12 degC"
 
 [existing]
 material = "cast-iron-aged"
-inner_diameter = "0.28 m"
+inner_diameter = "0.28 m"      # the bore now
+bore_as_laid = "0.30 m"        # the bore when laid (what cleaning before a reline restores)
 length = "3 km"
 static_head = "20 m"
 hazen_williams_c = 90       # or roughness = "1.5 mm", or an [existing.field_test] table
@@ -146,13 +147,13 @@ def _cmd_run(args: argparse.Namespace) -> int:
     study = SizingStudy.from_toml(args.study)
     result = study.run()
     extra: dict = {}
-    print(result.summary())
+    print(result.text())
     if study.uncertainty and result.success:
         extra = {"tornado": study.tornado(), "switching": study.switching_values(),
                  "monte_carlo": study.monte_carlo(progress=_progress(args))}
         for item in extra.values():
             print()
-            print(item)
+            print(item.text())
     if out is not None:
         from .report import write_report
 
@@ -165,12 +166,26 @@ def _cmd_upgrade(args: argparse.Namespace) -> int:
     from .upgrade import UpgradeStudy
 
     out = _prepare_out(args.out, args.force)
-    result = UpgradeStudy.from_toml(args.study).run()
+    study = UpgradeStudy.from_toml(args.study)
+    result = study.run()
     print(result.text())
+    extra: dict = {}
+    if args.best_year:
+        rows = [study.best_year(o.name) for o in study.options]
+        print()
+        print("Best year of action of each option (least present value of costs):")
+        for b in rows:
+            print(f"  {b.option:<20} year {b.year:>3}  PV {b.pv_cost:>14,.0f}  NPV vs keep "
+                  f"{b.keep_pv_cost - b.pv_cost:>14,.0f}")
+        extra["best_year"] = rows
+    if study.uncertainty:
+        extra["monte_carlo"] = study.monte_carlo(progress=_progress(args))
+        print()
+        print(extra["monte_carlo"].text())
     if out is not None:
         from .report import write_report
 
-        for p in write_report(result, out):
+        for p in write_report(result, out, extra):
             print(f"wrote {p}")
     return 0
 
@@ -183,7 +198,7 @@ def _cmd_demo(args: argparse.Namespace) -> int:
     print(DEMO_NOTE)
     print()
     result = SizingStudy.demo().run()
-    print(result.summary())
+    print(result.text())
     upgrade = UpgradeStudy.demo().run()
     print()
     print(upgrade.text())
@@ -272,7 +287,10 @@ def build_parser() -> argparse.ArgumentParser:
                          description="Run an upgrade study (TOML) and print its comparison.",
                          epilog="example: pipeopt upgrade main.toml --out results")
     upg.add_argument("study", help="the upgrade study file (TOML)")
+    upg.add_argument("--best-year", action="store_true",
+                     help="also scan every year of action of every option and print the best")
     _add_out(upg)
+    upg.add_argument("--quiet", action="store_true", help="no progress bar")
     upg.set_defaults(func=_cmd_upgrade)
 
     demo = sub.add_parser("demo", help="run the bundled demonstration study",

@@ -14,26 +14,13 @@ import numpy as np
 
 from ._arrays import as_float_arrays, restore
 from .errors import InputError
+from .fields import InputSection, number, numbers, whole
 
 __all__ = ["PowerLawPipeCost", "TablePipeCost", "PumpStationCost", "EnergyTariff"]
 
 
-def _positive(value: float, field: str) -> float:
-    v = float(value)
-    if not np.isfinite(v) or v <= 0:
-        raise InputError(f"{field} must be a positive number; got {value!r}")
-    return v
-
-
-def _fraction(value: float, field: str, upper: float = 1.0) -> float:
-    v = float(value)
-    if not np.isfinite(v) or v < 0 or v > upper:
-        raise InputError(f"{field} must be a fraction between 0 and {upper:g}; got {value!r}")
-    return v
-
-
 @dataclass(frozen=True)
-class PowerLawPipeCost:
+class PowerLawPipeCost(InputSection):
     """Pipe capital per metre of line, supplied and installed: c(D) = a · D^n, D in metres.
 
     Parameters
@@ -49,14 +36,9 @@ class PowerLawPipeCost:
     399.64
     """
 
-    coefficient: float
-    exponent: float
-
-    def __post_init__(self) -> None:
-        _positive(self.coefficient, "cost.coefficient")
-        e = float(self.exponent)
-        if not np.isfinite(e) or e <= 0 or e > 4:
-            raise InputError(f"cost.exponent must be between 0 and 4; got {self.exponent!r}")
+    SECTION = "cost"
+    coefficient: float = number(0.0, 1e9, low_open=True, example="1800.0")
+    exponent: float = number(0.0, 4.0, low_open=True, example="1.25")
 
     def per_metre(self, diameter: Any) -> Any:
         """Capital cost per metre [currency/m] at inner diameter(s) [m]."""
@@ -121,38 +103,44 @@ class TablePipeCost:
 
 
 @dataclass(frozen=True)
-class PumpStationCost:
-    """Pump-station capital a · P^b for installed electrical power P [kW], with standby and life.
+class PumpStationCost(InputSection):
+    """Pump-station capital a · P^b for installed electrical power P [kW], with standby, life
+    and stages.
 
     Parameters
     ----------
     coefficient : float
-        a [currency/kW^b].
+        a [currency/kW^b] (study file: ``pump_station.cost_coefficient``).
     exponent : float
-        b [-], typically 0.6–0.9 (economies of scale).
+        b [-], typically 0.6–0.9 (economies of scale) (``pump_station.cost_exponent``).
     standby_fraction : float
         s [-]: installed power is the peak demand times (1 + s).
-    life : float
-        T_s [yr]: the station is bought again every T_s years within the horizon.
+    life : int
+        T_s [yr], whole years: each stage is bought again every T_s years within the horizon.
     maintenance : float
-        m_s [1/yr]: yearly maintenance as a fraction of the station capital.
+        m_s [1/yr]: yearly maintenance as a fraction of the capital of the stages in service.
+    stages : sequence of int
+        Study years in which the station is built or extended, the first 0 (default ``(0,)``:
+        one stage, sized at year 0 for the largest peak of the horizon). Stage j is sized for
+        the largest peak demand before stage j + 1 (or the horizon) less what is installed.
     """
 
-    coefficient: float
-    exponent: float
-    standby_fraction: float = 0.0
-    life: float = 20.0
-    maintenance: float = 0.0
+    SECTION = "pump_station"
+    coefficient: float = number(0.0, 1e9, low_open=True, example="8000",
+                                key="cost_coefficient")
+    exponent: float = number(0.0, 2.0, low_open=True, example="0.7", key="cost_exponent")
+    standby_fraction: float = number(0.0, 10.0, default=0.0)
+    life: int = whole(1, 200, default=20)
+    maintenance: float = number(0.0, 1.0, default=0.0)
+    stages: tuple = numbers(0.0, 200.0, default=(0,))
 
-    def __post_init__(self) -> None:
-        _positive(self.coefficient, "pump_station.cost_coefficient")
-        e = float(self.exponent)
-        if not np.isfinite(e) or e <= 0 or e > 2:
-            raise InputError(f"pump_station.cost_exponent must be between 0 and 2; got "
-                             f"{self.exponent!r}")
-        _fraction(self.standby_fraction, "pump_station.standby_fraction", 10.0)
-        _positive(self.life, "pump_station.life")
-        _fraction(self.maintenance, "pump_station.maintenance")
+    def _check(self, path: str) -> None:
+        st = self.stages
+        if not st or st[0] != 0 or any(b <= a for a, b in zip(st, st[1:], strict=False)) \
+                or any(x != int(x) for x in st):
+            raise InputError(f"{path}.stages must be whole years, increasing, starting at 0 "
+                             f"(e.g. [0, 15]); got {list(st)}")
+        object.__setattr__(self, "stages", tuple(int(x) for x in st))
 
     def installed_power(self, peak_power_kw: Any) -> Any:
         """Installed power [kW] for a peak electrical demand [kW]."""
@@ -160,14 +148,14 @@ class PumpStationCost:
         return restore(p * (1.0 + self.standby_fraction), tpl)
 
     def capital(self, peak_power_kw: Any) -> Any:
-        """Station capital [currency] for a peak electrical demand [kW] (standby included)."""
+        """Capital [currency] of a stage for a peak electrical demand [kW] (standby included)."""
         (p,), tpl = as_float_arrays(peak_power_kw)
         return restore(self.coefficient * (p * (1.0 + self.standby_fraction)) ** self.exponent,
                        tpl)
 
 
 @dataclass(frozen=True)
-class EnergyTariff:
+class EnergyTariff(InputSection):
     """Electricity tariff: energy price with real escalation, and a demand charge.
 
     Parameters
@@ -180,24 +168,18 @@ class EnergyTariff:
         d [currency per kW of peak electrical demand per year].
     """
 
-    price: float
-    escalation: float = 0.0
-    demand_charge: float = 0.0
+    SECTION = "energy"
+    price: float = number(0.0, 100.0, low_open=True, example="0.12")
+    escalation: float = number(-0.5, 0.5, default=0.0)
+    demand_charge: float = number(0.0, 1e5, default=0.0)
 
-    def __post_init__(self) -> None:
-        _positive(self.price, "energy.price")
-        e = float(self.escalation)
-        if not np.isfinite(e) or e <= -1 or e > 1:
-            raise InputError(f"energy.escalation must be a fraction per year between -1 and 1 "
-                             f"(0.02 for 2 %); got {self.escalation!r}")
-        d = float(self.demand_charge)
-        if not np.isfinite(d) or d < 0:
-            raise InputError(f"energy.demand_charge must be >= 0; got {self.demand_charge!r}")
-
-    def price_by_year(self, years: int) -> np.ndarray:
-        """Energy price of years 1…N [currency/kWh]."""
-        t = np.arange(years)
-        return self.price * (1.0 + self.escalation) ** t
+    def price_by_year(self, years: int, price: Any = None, escalation: Any = None) -> Any:
+        """Energy price of years 1…N [currency/kWh], shape (N,), or (S, N) for per-sample
+        ``price`` and ``escalation`` arrays (S,)."""
+        p = np.asarray(self.price if price is None else price, dtype=float)
+        e = np.asarray(self.escalation if escalation is None else escalation, dtype=float)
+        t = np.arange(years, dtype=float)
+        return p[..., None] * np.exp(t * np.log1p(e)[..., None])
 
     def yearly_cost(self, energy_kwh: Any, peak_kw: Any) -> np.ndarray:
         """Energy cost of each year, C_E,t = E_t p (1+e)^(t−1) + d P̂_t, along the last axis.

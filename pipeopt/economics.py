@@ -31,6 +31,7 @@ __all__ = [
     "net_present_value",
     "internal_rate_of_return",
     "IRRResult",
+    "straight_line_residual",
 ]
 
 
@@ -105,6 +106,34 @@ def discount_factor(rate: Any, year: Any) -> Any:
     (i, t), tpl = as_float_arrays(rate, year)
     _check_rate(i)
     return restore(np.exp(-t * np.log1p(i)), tpl)
+
+
+def straight_line_residual(age: Any, life: Any) -> Any:
+    """Share of an asset's capital still owed to it at ``age``: max(0, 1 − age / life).
+
+    Parameters
+    ----------
+    age : float or array_like
+        Years the asset has served at the end of the analysis [yr].
+    life : float or array_like
+        Its service life [yr], positive.
+
+    Returns
+    -------
+    float, ndarray or Series
+        Residual value as a fraction of its capital [-].
+
+    Examples
+    --------
+    >>> straight_line_residual(40, 80)
+    0.5
+    >>> straight_line_residual(30, 20)
+    0.0
+    """
+    (a, life_), tpl = as_float_arrays(age, life)
+    if not np.all(life_ > 0):
+        raise InputError(f"life must be positive; got {life_.ravel()[np.argmin(life_)]!r}")
+    return restore(np.maximum(0.0, 1.0 - a / life_), tpl)
 
 
 def present_worth_of_series(first_amount: Any, rate: Any, years: Any, growth: Any = 0.0) -> Any:

@@ -17,7 +17,6 @@ import numpy as np
 import pandas as pd
 
 from . import friction as fr
-from .economics import capital_recovery_factor
 
 __all__ = ["PALETTE", "cost_curves", "cost_breakdown", "velocity_head", "friction_chart",
            "tornado_chart", "probability_cheapest", "eac_distributions", "cumulative_cash_flow"]
@@ -66,15 +65,13 @@ def cost_curves(result, materials: list[str] | None = None, ax=None):
     """
     ax = _axes(ax)
     c = result.candidates
-    s = result.scenario
-    crf = float(capital_recovery_factor(s.discount_rate, s.horizon))
     mats = materials or list(dict.fromkeys(c["material"]))
     for j, mat in enumerate(mats):
         colour = PALETTE[j % len(PALETTE)]
         rows = c[c["material"] == mat].sort_values("inner_diameter_m")
         d_mm = rows["inner_diameter_m"] * 1e3
-        capital = (rows["capex_pipe"] + rows["capex_pump_station"]) * crf
-        energy = rows["pv_energy"] * crf
+        capital = rows["eac_capital"]
+        energy = rows["eac_energy"]
         ax.plot(d_mm, capital, color=colour, linewidth=0.9, linestyle=":",
                 label=f"{mat}: capital charge")
         ax.plot(d_mm, energy, color=colour, linewidth=0.9, linestyle="--",
@@ -210,7 +207,7 @@ def friction_chart(result=None, relative_roughness=(0.0, 1e-5, 1e-4, 1e-3, 5e-3,
 
 
 def tornado_chart(tornado_result, ax=None):
-    """Bars of the chosen design's EAC at each input's low and high value.
+    """Bars of the chosen design's EAC (or present value) at each input's low and high value.
 
     Returns
     -------
@@ -218,15 +215,18 @@ def tornado_chart(tornado_result, ax=None):
     """
     t = tornado_result.table.iloc[::-1]
     ax = _axes(ax, (7.5, 0.35 * len(t) + 1.5))
-    base = tornado_result.base_eac
+    base = tornado_result.base_value
+    m = tornado_result.metric
     y = np.arange(len(t))
-    ax.barh(y, t["eac_low"] - base, left=base, color=PALETTE[0], label="at the low value")
-    ax.barh(y, t["eac_high"] - base, left=base, color=PALETTE[1], label="at the high value")
+    ax.barh(y, t[f"{m}_low"] - base, left=base, color=PALETTE[0], label="at the low value")
+    ax.barh(y, t[f"{m}_high"] - base, left=base, color=PALETTE[1], label="at the high value")
     labels = [f"{r['input']} ({r['low']:.3g} – {r['high']:.3g})"
               + ("  *" if r["changes"] else "") for _, r in t.iterrows()]
     ax.set_yticks(y, labels, fontsize=8)
     ax.axvline(base, color="#000000", linewidth=1)
-    ax.set_xlabel(f"EAC of {tornado_result.chosen} [{tornado_result.currency or 'currency'}/yr]")
+    money = tornado_result.currency or "currency"
+    ax.set_xlabel(f"EAC of {tornado_result.chosen} [{money}/yr]" if m == "eac" else
+                  f"present value of costs of {tornado_result.chosen} [{money}]")
     _style(ax, "Sensitivity (* the best candidate changes within the range)")
     ax.legend(fontsize=7, frameon=False)
     return ax
@@ -260,8 +260,9 @@ def eac_distributions(mc_result, n: int = 5, ax=None):
     ax = _axes(ax)
     top = mc_result.candidates.head(n)
     for j, (_, r) in enumerate(top.iterrows()):
-        ax.hist(mc_result.eac[:, int(r["candidate"])], bins=50, histtype="step", linewidth=1.4,
-                color=PALETTE[j % len(PALETTE)], label=f"{r['material']} {r['size']}")
+        ax.hist(mc_result.eac[:, int(r["candidate_index"])], bins=50, histtype="step",
+                linewidth=1.4, color=PALETTE[j % len(PALETTE)],
+                label=f"{r['material']} {r['size']}")
     ax.set_xlabel(f"equivalent annual cost [{mc_result.currency or 'currency'}/yr]")
     ax.set_ylabel("samples [-]")
     _style(ax, "Distribution of the EAC")

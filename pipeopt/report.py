@@ -226,7 +226,7 @@ def write_report(result: Any, out: str | Path, extra: dict[str, Any] | None = No
     figures: dict[str, bytes] = {}
     tables: dict[str, pd.DataFrame] = {}
     if sizing:
-        summary_text = result.summary()
+        summary_text = result.text()
         inputs = _inputs_sizing(study)
         assumptions = ASSUMPTIONS_SIZING
         tables["candidates"] = result.candidates
@@ -253,6 +253,12 @@ def write_report(result: Any, out: str | Path, extra: dict[str, Any] | None = No
         tables["summary"] = result.summary
         tables["cash_flows"] = result.cash_flows
         figures["cumulative_cash_flow"] = _png(plots.cumulative_cash_flow(result))
+        if "best_year" in extra:
+            tables["best_year"] = pd.DataFrame(
+                [{"option": b.option, "best_year": b.year, "pv_cost": b.pv_cost,
+                  "npv_vs_keep": b.keep_pv_cost - b.pv_cost} for b in extra["best_year"]])
+        if "monte_carlo" in extra:
+            tables["monte_carlo"] = extra["monte_carlo"].summary
     tables["inputs"] = inputs
     status, checks = (_verification() if verification
                       else ("verification not run", pd.DataFrame()))

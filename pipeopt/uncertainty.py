@@ -1,32 +1,31 @@
 """Uncertainty and sensitivity (study layer): how robust is the choice?
 
-Three analyses of a :class:`~pipeopt.sizing.SizingStudy`, all evaluated with arrays across the
-varied values (every candidate, every sample at once, in chunks that bound memory):
+Three analyses of a :class:`~pipeopt.sizing.SizingStudy` (the choice: the feasible candidate
+with the least EAC) or an :class:`~pipeopt.upgrade.UpgradeStudy` (the choice: the option with
+the least present value of costs, keeping the line included), all evaluated with arrays across
+the varied values:
 
-- :func:`tornado`: one input at a time at a low and a high value; the EAC of the chosen design
-  there, and whether the best candidate changes.
-- :func:`switching_values`: the value of each input at which the best candidate changes, found
-  by root finding on the EAC difference of the two candidates (or on the feasibility limit).
-- :func:`monte_carlo`: N samples of the inputs from their distributions; the EAC distribution
-  of every candidate, the probability that each is the cheapest feasible one, the expected
-  regret of each choice, and the rank correlation of each input with the EAC of the chosen
-  design. The same seed gives the same results to the bit.
+- :func:`tornado`: one input at a time at a low and a high value; the chosen design's figure
+  there, and whether the best choice changes.
+- :func:`switching_values` (sizing): the value of each input at which the best candidate
+  changes, found by root finding on the EAC difference of the two candidates (or on the
+  feasibility limit).
+- :func:`monte_carlo` (sizing) and :func:`upgrade_monte_carlo`: N samples of the inputs from
+  their distributions; the distribution of every candidate's EAC (or every option's NPV
+  against keeping the line), the probability that each is the best, the expected regret. The
+  same seed gives the same results to the bit, whatever the chunking.
 
-For an :class:`~pipeopt.upgrade.UpgradeStudy`, :func:`upgrade_monte_carlo` gives the
-distribution of each option's NPV against keeping the line and the probability it is positive.
-
-Inputs that can vary (names used in Python and in a study file's ``[uncertainty]`` section):
-``energy_price`` [currency/kWh], ``escalation`` [1/yr], ``demand_charge``, ``discount_rate``
-[1/yr], ``horizon`` [yr], ``efficiency`` [-], ``flow_factor`` (multiplies every duty flow),
-``hours_factor`` (multiplies every duty's hours), ``growth`` [1/yr], ``aging_factor`` (multiplies
-every aging rate), ``pipe_cost_factor`` (all materials) or ``pipe_cost_factor:<material>``,
-``station_cost_factor``.
+Inputs are the named inputs of :data:`pipeopt.variations.INPUTS` (plus
+``pipe_cost_factor:<material>`` in a sizing study). Every sample, and every value of a scan, is
+evaluated with its own horizon. A distribution is one of :class:`Uniform`, :class:`Triangular`,
+:class:`Normal`, :class:`LogNormal`, or any object with a ``ppf`` method (a frozen
+``scipy.stats`` distribution) or an ``rvs`` method.
 """
 
 from __future__ import annotations
 
 import abc
-import html
+import math
 import sys
 from dataclasses import dataclass, field
 from typing import Any
@@ -36,22 +35,42 @@ import pandas as pd
 from scipy import optimize, stats
 
 from .errors import InputError
-from .lifecycle import VARIABLE_INPUTS, Variations
+from .results import StudyResult
+from .variations import INPUTS, check_input_name
 
-__all__ = ["Uniform", "Triangular", "Normal", "LogNormal", "DISTRIBUTIONS", "tornado",
-           "switching_values", "monte_carlo", "upgrade_monte_carlo", "TornadoResult",
-           "SwitchingResult", "MonteCarloResult", "UpgradeMonteCarloResult",
-           "read_uncertainty_section"]
+__all__ = ["Uniform", "Triangular", "Normal", "LogNormal", "DISTRIBUTIONS", "MAX_SAMPLES",
+           "tornado", "switching_values", "monte_carlo", "upgrade_monte_carlo",
+           "default_ranges", "TornadoResult", "SwitchingResult", "MonteCarloResult",
+           "UpgradeMonteCarloResult", "read_uncertainty_section"]
+
+#: The most samples a Monte Carlo may take. Its results hold about 9 bytes per sample and
+#: candidate (EAC and feasibility): 1,000,000 samples of 400 candidates need about 3.6 GB.
+MAX_SAMPLES = 1_000_000
+#: The most (samples x candidates) a Monte Carlo may hold (about 450 MB of results).
+MAX_CELLS = 50_000_000
 
 
 # --------------------------------------------------------------------------------------------
 # distributions
 # --------------------------------------------------------------------------------------------
+def _number(value: Any, what: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, int | float | np.integer | np.floating):
+        raise InputError(f"{what} must be a number; got {value!r}")
+    v = float(value)
+    if not math.isfinite(v):
+        raise InputError(f"{what} must be finite; got {value!r}")
+    return v
+
+
 class _Distribution(abc.ABC):
-    """Base of the input distributions: ``sample(rng, n)``, ``cdf(x)``, ``support``."""
+    """Base of the input distributions: ``ppf``, ``cdf``, ``support``, ``sample``."""
 
     def sample(self, rng: np.random.Generator, n: int) -> np.ndarray:
-        return self._frozen().ppf(rng.random(n))
+        return self.ppf(rng.random(n))
+
+    def ppf(self, q: Any) -> Any:
+        """Percent point function (inverse of the CDF)."""
+        return self._frozen().ppf(q)
 
     def cdf(self, x: Any) -> Any:
         """Cumulative distribution function."""
@@ -76,7 +95,8 @@ class Uniform(_Distribution):
     high: float
 
     def __post_init__(self) -> None:
-        if not self.low < self.high:
+        lo, hi = _number(self.low, "uniform: low"), _number(self.high, "uniform: high")
+        if not lo < hi:
             raise InputError(f"uniform: low ({self.low}) must be below high ({self.high})")
 
     def _frozen(self):
@@ -92,6 +112,8 @@ class Triangular(_Distribution):
     high: float
 
     def __post_init__(self) -> None:
+        for k in ("low", "mode", "high"):
+            _number(getattr(self, k), f"triangular: {k}")
         if not (self.low <= self.mode <= self.high and self.low < self.high):
             raise InputError(f"triangular: need low <= mode <= high and low < high; got "
                              f"{self.low}, {self.mode}, {self.high}")
@@ -111,9 +133,10 @@ class Normal(_Distribution):
     high: float = np.inf
 
     def __post_init__(self) -> None:
-        if not self.sd > 0:
+        _number(self.mean, "normal: mean")
+        if not _number(self.sd, "normal: sd") > 0:
             raise InputError(f"normal: sd must be positive; got {self.sd}")
-        if not self.low < self.high:
+        if not float(self.low) < float(self.high):
             raise InputError("normal: low must be below high")
 
     def _frozen(self):
@@ -130,7 +153,8 @@ class LogNormal(_Distribution):
     sigma: float
 
     def __post_init__(self) -> None:
-        if not (self.median > 0 and self.sigma > 0):
+        if not (_number(self.median, "lognormal: median") > 0
+                and _number(self.sigma, "lognormal: sigma") > 0):
             raise InputError("lognormal: median and sigma must be positive")
 
     def _frozen(self):
@@ -141,154 +165,262 @@ DISTRIBUTIONS = {"uniform": Uniform, "triangular": Triangular, "normal": Normal,
                  "lognormal": LogNormal}
 
 
+def _draw(dist: Any, name: str, rng: np.random.Generator, n: int) -> np.ndarray:
+    """n values of ``dist``: by its ppf at uniform numbers, or its rvs with this generator."""
+    if hasattr(dist, "ppf"):
+        out = dist.ppf(rng.random(n))
+    elif hasattr(dist, "rvs"):
+        out = dist.rvs(size=n, random_state=rng)
+    else:
+        raise InputError(f"uncertainty.{name}: expected a distribution (Uniform, Triangular, "
+                         f"Normal, LogNormal, or a scipy.stats frozen distribution); got "
+                         f"{dist!r} ({type(dist).__name__})")
+    out = np.asarray(out, dtype=float).reshape(-1)
+    if out.size != n or not np.all(np.isfinite(out)):
+        raise InputError(f"uncertainty.{name}: the distribution gave values that are not "
+                         f"finite numbers")
+    return out
+
+
+def _check_distributions(distributions: Any) -> dict[str, Any]:
+    if not isinstance(distributions, dict) or not distributions:
+        raise InputError("uncertainty: give at least one input distribution as a mapping "
+                         "{name: distribution}")
+    for name, dist in distributions.items():
+        if not (hasattr(dist, "ppf") or hasattr(dist, "rvs")):
+            raise InputError(f"uncertainty.{name}: expected a distribution (Uniform, "
+                             f"Triangular, Normal, LogNormal, or a scipy.stats frozen "
+                             f"distribution); got {dist!r} ({type(dist).__name__})")
+    return distributions
+
+
 # --------------------------------------------------------------------------------------------
-# mapping named inputs onto Variations
+# the decision each study makes, seen from here
 # --------------------------------------------------------------------------------------------
-def _check_name(study, name: str) -> None:
-    if name in VARIABLE_INPUTS:
-        return
-    if name.startswith("pipe_cost_factor:"):
-        mat = name.split(":", 1)[1]
-        if mat not in {m.name for m in study.materials}:
-            raise InputError(f"uncertainty: {name!r} names no material of the study "
-                             f"({', '.join(m.name for m in study.materials)})")
-        return
-    raise InputError(f"uncertainty: unknown input {name!r}; inputs: "
-                     f"{', '.join(VARIABLE_INPUTS)}, pipe_cost_factor:<material>")
+class _Decision(abc.ABC):
+    """What a study chooses among and by which figure (the least is best)."""
+
+    kind: str
+    metric: str          # column stem: "eac" or "pv"
+    metric_words: str    # "EAC" or "present value of costs"
+    per_year: str        # "/yr" or ""
+
+    def __init__(self, study: Any) -> None:
+        self.study = study
+
+    @property
+    def currency(self) -> str:
+        return self.study.currency
+
+    @property
+    @abc.abstractmethod
+    def labels(self) -> list[str]:
+        """Names of the choices (candidates or options)."""
+
+    @abc.abstractmethod
+    def evaluate(self, values: dict[str, np.ndarray], n_years: int | None = None,
+                 ) -> tuple[np.ndarray, np.ndarray]:
+        """The figure (S, C) and feasibility (S, C) of every choice in every sample."""
+
+    def check_name(self, name: str) -> str:
+        mats = tuple(m.name for m in getattr(self.study, "materials", ()))
+        return check_input_name(name, self.kind, mats)
+
+    def base_value(self, name: str) -> float:
+        return self.study.base_value(name)
+
+    def base_choice(self) -> tuple[int, np.ndarray]:
+        """The best choice at the study's own values, and every choice's figure there."""
+        value, feas = self.evaluate({})
+        best = int(_best(value, feas)[0])
+        if best < 0:
+            raise InputError("sensitivity: no candidate is feasible at the base values")
+        return best, value[0]
 
 
-def _variations(study, values: dict[str, np.ndarray]) -> Variations:
-    """Variations of a sizing study from named arrays of samples (S,)."""
-    kwargs: dict[str, Any] = {}
-    n = len(next(iter(values.values())))
-    mats = study.candidates["material"].to_numpy()
-    pipe = None
-    for name, arr in values.items():
-        arr = np.asarray(arr, dtype=float)
-        if name == "horizon":
-            arr = np.round(arr)
-        if name == "pipe_cost_factor" or name.startswith("pipe_cost_factor:"):
-            if pipe is None:
-                pipe = np.ones((n, mats.size))
-            cols = (slice(None) if name == "pipe_cost_factor"
-                    else mats == name.split(":", 1)[1])
-            pipe[:, cols] *= arr[:, None]
-        else:
-            kwargs[name] = arr
-    if pipe is not None:
-        kwargs["pipe_cost_factor"] = pipe
-    return Variations(**kwargs)
+class _SizingDecision(_Decision):
+    kind, metric, metric_words, per_year = "sizing", "eac", "EAC", "/yr"
+
+    @property
+    def labels(self) -> list[str]:
+        c = self.study.candidates
+        return (c["material"] + " " + c["size"]).tolist()
+
+    def evaluate(self, values, n_years=None):
+        var = self.study.variations(values) if values else None
+        if var is not None and n_years is not None:
+            var = _with_years(var, n_years)
+        lc = self.study.evaluate(variations=var, yearly=False)
+        eac = np.atleast_2d(lc.eac)
+        feas = np.atleast_2d(self.study.check(lc)["feasible"])
+        return eac, feas
 
 
-def _base_value(study, name: str) -> float:
-    """The study's own value of an input (1 for every factor), from the model's defaults."""
-    base = Variations().resolved(study.scenario)
-    return 1.0 if name.startswith("pipe_cost_factor") else float(base[name][0])
+class _UpgradeDecision(_Decision):
+    kind, metric, metric_words, per_year = "upgrade", "pv", "present value of costs", ""
+
+    @property
+    def labels(self) -> list[str]:
+        return ["keep", *[o.name for o in self.study.states]]
+
+    def evaluate(self, values, n_years=None):
+        var = self.study.variations(values)
+        if n_years is not None:
+            var = _with_years(var, n_years)
+        pv = self.study.sample_pv(var).to_numpy()
+        return pv, np.ones(pv.shape, dtype=bool)
 
 
-def default_ranges(study) -> dict[str, tuple[float, float]]:
+def _with_years(var: Any, n_years: int) -> Any:
+    from dataclasses import replace
+
+    return replace(var, n_years=int(n_years))
+
+
+def _decision(study: Any) -> _Decision:
+    from .sizing import SizingStudy
+    from .upgrade import UpgradeStudy
+
+    if isinstance(study, SizingStudy):
+        return _SizingDecision(study)
+    if isinstance(study, UpgradeStudy):
+        return _UpgradeDecision(study)
+    raise InputError(f"expected a SizingStudy or an UpgradeStudy; got {type(study).__name__}")
+
+
+def _best(value: np.ndarray, feas: np.ndarray) -> np.ndarray:
+    """Index of the best (least) feasible choice per sample, −1 where none is feasible."""
+    masked = np.where(feas, value, np.inf)
+    best = np.argmin(masked, axis=1)
+    return np.where(np.isfinite(masked[np.arange(masked.shape[0]), best]), best, -1)
+
+
+def _label(d: _Decision, idx: int | None) -> str:
+    if idx is None or idx < 0:
+        return "none feasible"
+    return d.labels[idx]
+
+
+def default_ranges(study: Any) -> dict[str, tuple[float, float]]:
     """Low and high values of each input for a tornado when none are given (common practice
     spreads for a screening study; state your own in a real one)."""
-    s = study.scenario
+    d = _decision(study)
+    b = d.base_value
+    price, esc, rate, horizon = (b("energy_price"), b("escalation"), b("discount_rate"),
+                                 b("horizon"))
     r = {
-        "energy_price": (0.7 * s.tariff.price, 1.3 * s.tariff.price),
-        "escalation": (s.tariff.escalation - 0.01, s.tariff.escalation + 0.01),
-        "discount_rate": (max(0.0, s.discount_rate - 0.02), s.discount_rate + 0.02),
-        "horizon": (max(1.0, round(0.75 * s.horizon)), round(1.25 * s.horizon)),
-        "efficiency": (max(0.1, s.efficiency - 0.10), min(1.0, s.efficiency + 0.05)),
+        "energy_price": (0.7 * price, 1.3 * price),
+        "escalation": (esc - 0.01, esc + 0.01),
+        "discount_rate": (max(0.0, rate - 0.02), rate + 0.02),
+        "horizon": (max(1.0, round(0.75 * horizon)), min(200.0, round(1.25 * horizon))),
+        "efficiency": (max(0.1, b("efficiency") - 0.10), min(1.0, b("efficiency") + 0.05)),
         "flow_factor": (0.8, 1.2),
-        "hours_factor": (0.8, min(1.2, 8760.0 / sum(s.duty.hours))),
-        "growth": (s.duty.growth - 0.01, s.duty.growth + 0.01),
+        "hours_factor": (0.8, min(1.2, 8760.0 / sum(study.duty.hours))),
+        "growth": (b("growth") - 0.01, b("growth") + 0.01),
     }
-    if np.any(study.candidates["aging_m_per_year"] > 0):
-        r["aging_factor"] = (0.0, 2.0)
-    for m in study.materials:
-        r[f"pipe_cost_factor:{m.name}"] = (0.8, 1.2)
-    if s.pump_station is not None:
+    if d.kind == "sizing":
+        if np.any(study.candidates["aging_m_per_year"] > 0):
+            r["aging_factor"] = (0.0, 2.0)
+        for m in study.materials:
+            r[f"pipe_cost_factor:{m.name}"] = (0.8, 1.2)
+    else:
+        last_action = max((o.year for o in study.options), default=0)
+        r["horizon"] = (max(float(last_action + 1), r["horizon"][0]), r["horizon"][1])
+        if study.existing.aging > 0:
+            r["aging_factor"] = (0.0, 2.0)
+        r["capital_factor"] = (0.8, 1.2)
+        if study.existing.breaks_per_year > 0:
+            r["break_cost_factor"] = (0.5, 1.5)
+            r["break_growth"] = (b("break_growth") - 0.02, b("break_growth") + 0.02)
+        if study.existing.leakage_cost > 0:
+            r["leakage_cost_factor"] = (0.5, 1.5)
+    if study.pump_station is not None:
         r["station_cost_factor"] = (0.8, 1.2)
     return r
 
 
-def _label(study, idx: int | None) -> str:
-    if idx is None or idx < 0:
-        return "none feasible"
-    c = study.candidates.iloc[idx]
-    return f"{c['material']} {c['size']}"
-
-
-def _evaluate(study, values: dict[str, np.ndarray]):
-    """EAC and feasibility (S, C) of a sizing study for named sample arrays."""
-    lc = study.evaluate(variations=_variations(study, values), yearly=False)
-    feas = study.feasibility(lc)["feasible"]
-    return lc.eac, feas
-
-
-def _best(eac: np.ndarray, feas: np.ndarray) -> np.ndarray:
-    """Index of the cheapest feasible candidate per sample, −1 where none is feasible."""
-    masked = np.where(feas, eac, np.inf)
-    best = np.argmin(masked, axis=1)
-    return np.where(np.isfinite(masked[np.arange(masked.shape[0]), best]), best, -1)
+def _check_ranges(d: _Decision, ranges: Any) -> dict[str, tuple[float, float]]:
+    if not isinstance(ranges, dict) or not ranges:
+        raise InputError("ranges: give a mapping {input: (low, high)}")
+    out = {}
+    for name, pair in ranges.items():
+        d.check_name(name)
+        if not isinstance(pair, list | tuple | np.ndarray) or len(pair) != 2:
+            raise InputError(f"ranges.{name}: needs (low, high) values; got {pair!r}")
+        lo = _number(pair[0], f"ranges.{name}: low")
+        hi = _number(pair[1], f"ranges.{name}: high")
+        spec = INPUTS[name.split(":")[0]]
+        for x in (lo, hi):
+            spec.check(np.array([x]), f"ranges.{name}: ")
+        out[name] = (lo, hi)
+    return out
 
 
 # --------------------------------------------------------------------------------------------
 # tornado
 # --------------------------------------------------------------------------------------------
-@dataclass
-class TornadoResult:
-    """One-way sensitivity of the chosen design's EAC.
+@dataclass(repr=False)
+class TornadoResult(StudyResult):
+    """One-way sensitivity of the chosen design's figure (EAC, or present value of costs).
 
     Attributes
     ----------
     chosen : str
-        The best candidate at the base values.
-    base_eac : float
-        Its EAC at the base values [currency/yr].
+        The best choice at the base values.
+    base_value : float
+        Its figure at the base values [currency/yr for an EAC, currency for a PV].
     table : pandas.DataFrame
-        Per input: ``low``, ``high``, ``eac_low``, ``eac_high`` (of the chosen design),
-        ``swing`` (their difference in magnitude), ``best_low``, ``best_high`` and
-        ``changes`` (whether the best candidate differs at either end); sorted by swing.
+        Per input: ``low``, ``high``, ``<metric>_low``, ``<metric>_high`` (of the chosen
+        design; metric ``eac`` or ``pv``), ``swing`` (their difference in magnitude),
+        ``best_low``, ``best_high`` and ``changes`` (whether the best choice differs at either
+        end); sorted by swing.
+    metric : str
+        ``"eac"`` or ``"pv"``.
     currency : str
         Label of money figures.
     """
 
     chosen: str
-    base_eac: float
+    base_value: float
     table: pd.DataFrame
+    metric: str = "eac"
     currency: str = ""
+    success: bool = True
+    message: str = "each input at its low and high value, the others at base"
 
-    def __repr__(self) -> str:
-        lines = [f"Tornado: EAC of {self.chosen} (base {self.base_eac:,.0f} {self.currency}/yr)",
-                 f"{'input':<32}{'low':>10}{'high':>10}{'EAC low':>14}{'EAC high':>14}"
+    @property
+    def base_eac(self) -> float:
+        """The chosen design's EAC at the base values (sizing)."""
+        return self.base_value
+
+    def headline(self) -> str:
+        changes = int(self.table["changes"].sum())
+        return (f"{len(self.table)} inputs; the best changes at an end of {changes} of them "
+                f"(chosen at base: {self.chosen})")
+
+    def tables(self) -> dict[str, pd.DataFrame]:
+        return {"Tornado": self.table}
+
+    def text(self) -> str:
+        m = "EAC" if self.metric == "eac" else "PV"
+        unit = f"{self.currency}/yr" if self.metric == "eac" else self.currency
+        lines = [f"Tornado: {m} of {self.chosen} (base {self.base_value:,.0f} {unit})",
+                 f"{'input':<32}{'low':>10}{'high':>10}{m + ' low':>14}{m + ' high':>14}"
                  f"{'swing':>12}  best changes?"]
         for _, r in self.table.iterrows():
             ch = f"yes ({r['best_low']} / {r['best_high']})" if r["changes"] else "no"
             lines.append(f"{r['input']:<32}{r['low']:>10.4g}{r['high']:>10.4g}"
-                         f"{r['eac_low']:>14,.0f}{r['eac_high']:>14,.0f}{r['swing']:>12,.0f}"
-                         f"  {ch}")
+                         f"{r[self.metric + '_low']:>14,.0f}{r[self.metric + '_high']:>14,.0f}"
+                         f"{r['swing']:>12,.0f}  {ch}")
         return "\n".join(lines)
 
-    def _repr_html_(self) -> str:
-        return (f"<p><b>Tornado</b>: EAC of {html.escape(self.chosen)} (base "
-                f"{self.base_eac:,.0f} {html.escape(self.currency)}/yr)</p>"
-                + self.table.to_html(index=False, float_format=lambda x: f"{x:,.4g}", border=0))
 
-
-def _base_choice(study) -> tuple[int, np.ndarray]:
-    """The best candidate at the study's own values, and every candidate's EAC there."""
-    lc = study.evaluate(yearly=False)
-    feas = study.feasibility(lc)["feasible"]
-    best = int(_best(lc.eac[None, :], feas[None, :])[0])
-    if best < 0:
-        raise InputError("sensitivity: no candidate is feasible at the base values")
-    return best, lc.eac
-
-
-def tornado(study, ranges: dict[str, tuple[float, float]] | None = None) -> TornadoResult:
+def tornado(study: Any, ranges: dict[str, tuple[float, float]] | None = None) -> TornadoResult:
     """One-way sensitivity: each input at its low and high value, the others at base.
 
     Parameters
     ----------
-    study : SizingStudy
+    study : SizingStudy or UpgradeStudy
     ranges : dict of str to (low, high), optional
         Inputs and their values (see the module notes for the names); default
         :func:`default_ranges`.
@@ -297,38 +429,38 @@ def tornado(study, ranges: dict[str, tuple[float, float]] | None = None) -> Torn
     -------
     TornadoResult
     """
-    ranges = dict(ranges or default_ranges(study))
-    for name in ranges:
-        _check_name(study, name)
+    d = _decision(study)
+    ranges = _check_ranges(d, ranges if ranges is not None else default_ranges(study))
     names = list(ranges)
     n = 2 * len(names)
     values = {}
     for j, name in enumerate(names):
-        col = np.full(n, _base_value(study, name))
+        col = np.full(n, d.base_value(name))
         col[2 * j], col[2 * j + 1] = ranges[name]
         values[name] = col
-    chosen, base = _base_choice(study)
-    eac, feas = _evaluate(study, values)
-    best = _best(eac, feas)
+    chosen, base = d.base_choice()
+    value, feas = d.evaluate(values)
+    best = _best(value, feas)
+    m = d.metric
     rows = []
     for j, name in enumerate(names):
         lo, hi = 2 * j, 2 * j + 1
         rows.append({"input": name, "low": ranges[name][0], "high": ranges[name][1],
-                     "eac_low": eac[lo, chosen], "eac_high": eac[hi, chosen],
-                     "swing": abs(eac[hi, chosen] - eac[lo, chosen]),
-                     "best_low": _label(study, int(best[lo])),
-                     "best_high": _label(study, int(best[hi])),
+                     f"{m}_low": value[lo, chosen], f"{m}_high": value[hi, chosen],
+                     "swing": abs(value[hi, chosen] - value[lo, chosen]),
+                     "best_low": _label(d, int(best[lo])),
+                     "best_high": _label(d, int(best[hi])),
                      "changes": bool(best[lo] != chosen or best[hi] != chosen)})
     table = pd.DataFrame(rows).sort_values("swing", ascending=False, kind="stable")
-    return TornadoResult(_label(study, chosen), float(base[chosen]), table.reset_index(drop=True),
-                         study.currency)
+    return TornadoResult(_label(d, chosen), float(base[chosen]), table.reset_index(drop=True),
+                         m, d.currency)
 
 
 # --------------------------------------------------------------------------------------------
 # switching values
 # --------------------------------------------------------------------------------------------
-@dataclass
-class SwitchingResult:
+@dataclass(repr=False)
+class SwitchingResult(StudyResult):
     """Values of each input at which the best candidate changes.
 
     Attributes
@@ -344,23 +476,28 @@ class SwitchingResult:
 
     chosen: str
     table: pd.DataFrame
+    success: bool = True
+    message: str = "each input scanned from its base value outwards"
 
-    def __repr__(self) -> str:
+    def headline(self) -> str:
+        n = int(self.table["switching_value"].notna().sum())
+        return f"{n} switching value(s) found (chosen at base: {self.chosen})"
+
+    def tables(self) -> dict[str, pd.DataFrame]:
+        return {"Switching values": self.table}
+
+    def text(self) -> str:
         lines = [f"Switching values (chosen at base: {self.chosen})"]
         lines += [f"  {r['input']:<32} {r['statement']}" for _, r in self.table.iterrows()]
         return "\n".join(lines)
 
-    def _repr_html_(self) -> str:
-        return (f"<p><b>Switching values</b> (chosen at base: {html.escape(self.chosen)})</p>"
-                + self.table.to_html(index=False, float_format=lambda x: f"{x:,.6g}", border=0))
 
-
-def switching_values(study, ranges: dict[str, tuple[float, float]] | None = None,
+def switching_values(study: Any, ranges: dict[str, tuple[float, float]] | None = None,
                      grid: int = 41) -> SwitchingResult:
     """For each input, the value at which the best candidate changes, within its range.
 
-    Each input is scanned on ``grid`` values from its low to its high value (all inputs and
-    values in one evaluation); from the base value outwards in each direction, the first value
+    Each input is scanned on ``grid`` values from its low to its high value (all values of an
+    input in one evaluation); from the base value outwards in each direction, the first value
     where another candidate is best brackets the switch. When the chosen and the new candidate
     are both feasible there, :func:`scipy.optimize.brentq` finds where their EACs are equal
     (to a relative gap below 1e-9); otherwise bisection finds where the chosen one stops being
@@ -370,26 +507,28 @@ def switching_values(study, ranges: dict[str, tuple[float, float]] | None = None
     -------
     SwitchingResult
     """
-    ranges = dict(ranges or default_ranges(study))
-    for name in ranges:
-        _check_name(study, name)
-    chosen, _ = _base_choice(study)
+    d = _decision(study)
+    if d.kind != "sizing":
+        raise InputError("switching_values: for a sizing study (use tornado or monte_carlo for "
+                         "an upgrade study)")
+    ranges = _check_ranges(d, ranges if ranges is not None else default_ranges(study))
+    chosen, _ = d.base_choice()
     rows = []
     for name, (lo, hi) in ranges.items():
-        base = _base_value(study, name)
+        base = d.base_value(name)
         if name == "horizon":
             xs = np.arange(int(round(lo)), int(round(hi)) + 1, dtype=float)
         else:
             xs = np.linspace(lo, hi, grid)
-        eac, feas = _evaluate(study, {name: xs})
-        best = _best(eac, feas)
+        value, feas = d.evaluate({name: xs})
+        best = _best(value, feas)
         for direction, order in (("below", np.flatnonzero(xs <= base)[::-1]),
                                  ("above", np.flatnonzero(xs >= base))):
-            rows.append(_switch_one(study, name, direction, xs, order, best, chosen, base))
-    return SwitchingResult(_label(study, chosen), pd.DataFrame(rows))
+            rows.append(_switch_one(d, name, direction, xs, order, best, chosen, base))
+    return SwitchingResult(_label(d, chosen), pd.DataFrame(rows))
 
 
-def _switch_one(study, name: str, direction: str, xs: np.ndarray, order: np.ndarray,
+def _switch_one(d: _Decision, name: str, direction: str, xs: np.ndarray, order: np.ndarray,
                 best: np.ndarray, chosen: int, base: float) -> dict[str, Any]:
     row = {"input": name, "direction": direction, "base": base, "switching_value": np.nan,
            "switches_to": None, "how": None, "relative_eac_gap": np.nan}
@@ -406,11 +545,11 @@ def _switch_one(study, name: str, direction: str, xs: np.ndarray, order: np.ndar
     x_new = xs[i_new]
     x_old = xs[i_old] if i_old is not None else base
     other = int(best[i_new])
-    row["switches_to"] = _label(study, other)
+    row["switches_to"] = _label(d, other)
 
     def at(x: float):
-        eac, feas = _evaluate(study, {name: np.array([x])})
-        return int(_best(eac, feas)[0]), eac[0], feas[0]
+        value, feas = d.evaluate({name: np.array([x])})
+        return int(_best(value, feas)[0]), value[0], feas[0]
 
     if name == "horizon":  # whole years: the first year of the scan where the choice differs
         row.update(switching_value=x_new, how="first whole year with another best candidate")
@@ -439,11 +578,11 @@ def _switch_one(study, name: str, direction: str, xs: np.ndarray, order: np.ndar
             if abs(hi - lo) <= 1e-12 * max(1.0, abs(hi)):
                 break
         other = at(hi)[0]
-        row["switches_to"] = _label(study, other)
+        row["switches_to"] = _label(d, other)
         _, e_lo, f_lo = at(lo)
         _, e_hi, f_hi = at(hi)
         if not (both_feasible(f_lo) and both_feasible(f_hi)):
-            lost = _label(study, chosen) if not f_hi[chosen] else row["switches_to"]
+            lost = _label(d, chosen) if not f_hi[chosen] else row["switches_to"]
             verb = "becomes infeasible" if not f_hi[chosen] else "becomes feasible"
             row.update(switching_value=hi, how=f"{lost} {verb}")
             row["statement"] = (f"switches to {row['switches_to']} at {hi:.6g}, where {lost} "
@@ -460,7 +599,7 @@ def _switch_one(study, name: str, direction: str, xs: np.ndarray, order: np.ndar
 
 
 # --------------------------------------------------------------------------------------------
-# Monte Carlo
+# Monte Carlo machinery
 # --------------------------------------------------------------------------------------------
 def _progress(total: int, progress: bool | None, desc: str):
     show = sys.stderr.isatty() if progress is None else bool(progress)
@@ -471,20 +610,68 @@ def _progress(total: int, progress: bool | None, desc: str):
     return tqdm(total=total, desc=desc, unit="sample", file=sys.stderr)
 
 
-def _samples(distributions: dict[str, _Distribution], n: int, seed: int) -> dict[str, np.ndarray]:
-    if not isinstance(n, int | np.integer) or n < 2:
-        raise InputError(f"monte_carlo: n must be a whole number >= 2; got {n!r}")
-    if not distributions:
-        raise InputError("monte_carlo: give at least one input distribution")
-    rng = np.random.default_rng(seed)
-    return {name: d.sample(rng, int(n)) for name, d in distributions.items()}
+def _samples(d: _Decision, distributions: dict[str, Any], n: Any,
+             seed: Any) -> dict[str, np.ndarray]:
+    if isinstance(n, bool) or not isinstance(n, int | np.integer) or not 2 <= n <= MAX_SAMPLES:
+        raise InputError(f"monte_carlo: n must be a whole number from 2 to {MAX_SAMPLES:,}; "
+                         f"got {n!r}")
+    cells = int(n) * len(d.labels)
+    if cells > MAX_CELLS:
+        raise InputError(f"monte_carlo: {int(n):,} samples of {len(d.labels)} choices would "
+                         f"hold {cells * 9 / 1e9:.1f} GB of results; at most {MAX_CELLS:,} "
+                         f"samples x choices (fewer samples or candidates)")
+    if isinstance(seed, bool) or not isinstance(seed, int | np.integer) \
+            or not 0 <= seed < 2**63:
+        raise InputError(f"monte_carlo: seed must be a whole number from 0 to 2**63 - 1; got "
+                         f"{seed!r}")
+    for name in _check_distributions(distributions):
+        d.check_name(name)
+    rng = np.random.default_rng(int(seed))
+    values = {name: _draw(dist, name, rng, int(n)) for name, dist in distributions.items()}
+    if "horizon" in values:  # whole years: a sampled horizon is rounded to the nearest year
+        values["horizon"] = np.round(values["horizon"])
+    for name, arr in values.items():
+        INPUTS[name.split(":")[0]].check(arr, f"uncertainty.{name}: sampled ")
+    return values
 
 
 #: Inputs that change the hydraulics of a sample (the rest only scale money).
 HYDRAULIC_INPUTS = ("flow_factor", "growth", "aging_factor")
 
 
-def _chunk_size(study, memory_bytes: float, hydraulic: bool) -> int:
+def _evaluate_samples(d: _Decision, values: dict[str, np.ndarray], n: int, size: int,
+                      workers: int, bar: Any) -> tuple[np.ndarray, np.ndarray]:
+    """Every sample's figure and feasibility, in chunks of ``size`` samples (one year axis)."""
+    n_years = int(values["horizon"].max()) if "horizon" in values else None
+    c = len(d.labels)
+    value = np.empty((n, c))
+    feas = np.empty((n, c), dtype=bool)
+
+    def run_chunk(start: int) -> int:
+        stop = min(start + size, n)
+        v, f = d.evaluate({k: x[start:stop] for k, x in values.items()}, n_years)
+        value[start:stop], feas[start:stop] = v, f  # disjoint slices: no two chunks share rows
+        return stop - start
+
+    starts = range(0, n, size)
+    if workers > 1:  # numpy releases the GIL inside its loops; chunks are independent
+        from concurrent.futures import ThreadPoolExecutor
+
+        with ThreadPoolExecutor(max_workers=workers) as pool:
+            for done in pool.map(run_chunk, starts):
+                if bar is not None:
+                    bar.update(done)
+    else:
+        for start in starts:
+            done = run_chunk(start)
+            if bar is not None:
+                bar.update(done)
+    if bar is not None:
+        bar.close()
+    return value, feas
+
+
+def _chunk_size(study: Any, memory_bytes: float, hydraulic: bool) -> int:
     """Samples per chunk: about sixteen (C, N, K) arrays per sample are alive at once when the
     hydraulics vary, about thirty (C,) arrays when they are shared by every sample."""
     c = len(study.candidates)
@@ -497,8 +684,11 @@ def _chunk_size(study, memory_bytes: float, hydraulic: bool) -> int:
     return int(max(1, min(50_000, memory_bytes // per_sample)))
 
 
-@dataclass
-class MonteCarloResult:
+# --------------------------------------------------------------------------------------------
+# Monte Carlo of a sizing study
+# --------------------------------------------------------------------------------------------
+@dataclass(repr=False)
+class MonteCarloResult(StudyResult):
     """Monte Carlo of a sizing study.
 
     Attributes
@@ -514,11 +704,12 @@ class MonteCarloResult:
     feasible : numpy.ndarray, shape (n, C)
         Feasibility of every candidate in every sample.
     candidates : pandas.DataFrame
-        Per candidate: ``candidate`` (its row in the study's candidates and the column of
-        ``eac``), ``material``, ``size``, EAC ``mean`` and quantiles ``p05``, ``p25``,
-        ``p50``, ``p75``, ``p95``, ``prob_cheapest`` (cheapest feasible), ``prob_infeasible``,
-        ``expected_regret`` (mean EAC above the cheapest feasible, over the samples where the
-        candidate is feasible); sorted by probability of being cheapest, then mean EAC.
+        Per candidate: ``candidate_index`` (its row in the study's candidates and the column of
+        ``eac``), ``material``, ``size``, ``eac_mean`` and quantiles ``eac_p05``, ``eac_p25``,
+        ``eac_p50``, ``eac_p75``, ``eac_p95``, ``prob_cheapest`` (cheapest feasible),
+        ``prob_infeasible``, ``expected_regret`` (mean EAC above the cheapest feasible, over the
+        samples where the candidate is feasible); sorted by probability of being cheapest, then
+        mean EAC.
     chosen : str
         The base-case best candidate.
     correlation : pandas.DataFrame
@@ -537,8 +728,18 @@ class MonteCarloResult:
     correlation: pd.DataFrame = field(default_factory=pd.DataFrame, repr=False)
     prob_none_feasible: float = 0.0
     currency: str = ""
+    success: bool = True
+    message: str = ""
 
-    def __repr__(self) -> str:
+    def headline(self) -> str:
+        top = self.candidates.iloc[0]
+        return (f"{self.n} samples (seed {self.seed}); most often cheapest "
+                f"{top['material']} {top['size']} (P = {top['prob_cheapest']:.3f})")
+
+    def tables(self) -> dict[str, pd.DataFrame]:
+        return {"Monte Carlo": self.candidates.head(10), "Rank correlation": self.correlation}
+
+    def text(self) -> str:
         top = self.candidates.head(6)
         lines = [f"Monte Carlo: {self.n} samples (seed {self.seed}); chosen at base: "
                  f"{self.chosen}; EAC and regret in {self.currency or 'currency'}/yr",
@@ -546,7 +747,7 @@ class MonteCarloResult:
                  f"{'regret':>11}"]
         for _, r in top.iterrows():
             lines.append(f"{r['material'] + ' ' + r['size']:<30}{r['prob_cheapest']:>12.3f}"
-                         f"{r['p05']:>13,.0f}{r['p50']:>13,.0f}{r['p95']:>13,.0f}"
+                         f"{r['eac_p05']:>13,.0f}{r['eac_p50']:>13,.0f}{r['eac_p95']:>13,.0f}"
                          f"{r['expected_regret']:>11,.0f}")
         lines.append("Rank correlation of the inputs with the chosen design's EAC:")
         lines += [f"  {r['input']:<30}{r['spearman']:+.3f}"
@@ -555,15 +756,8 @@ class MonteCarloResult:
             lines.append(f"No candidate feasible in {self.prob_none_feasible:.1%} of samples.")
         return "\n".join(lines)
 
-    def _repr_html_(self) -> str:
-        return (f"<p><b>Monte Carlo</b>: {self.n} samples, seed {self.seed}; chosen at base "
-                f"{html.escape(self.chosen)}</p>"
-                + self.candidates.head(10).to_html(index=False,
-                                                   float_format=lambda x: f"{x:,.4g}", border=0)
-                + self.correlation.to_html(index=False, border=0))
 
-
-def monte_carlo(study, distributions: dict[str, _Distribution], n: int = 10000, seed: int = 0,
+def monte_carlo(study: Any, distributions: dict[str, Any], n: int = 10000, seed: int = 0,
                 progress: bool | None = None, memory: float = 64e6,
                 workers: int = 1) -> MonteCarloResult:
     """Monte Carlo of a sizing study: every candidate, every sample, in chunks of samples.
@@ -572,10 +766,11 @@ def monte_carlo(study, distributions: dict[str, _Distribution], n: int = 10000, 
     ----------
     study : SizingStudy
     distributions : dict of str to distribution
-        Input name to :class:`Uniform`, :class:`Triangular`, :class:`Normal` or
-        :class:`LogNormal`; the inputs are sampled in the order given.
+        Input name to :class:`Uniform`, :class:`Triangular`, :class:`Normal`,
+        :class:`LogNormal` or a frozen scipy.stats distribution; the inputs are sampled in the
+        order given.
     n : int
-        Number of samples.
+        Number of samples, 2 to :data:`MAX_SAMPLES`.
     seed : int
         Seed of :func:`numpy.random.default_rng`; the same seed gives the same results.
     progress : bool, optional
@@ -584,43 +779,22 @@ def monte_carlo(study, distributions: dict[str, _Distribution], n: int = 10000, 
         Rough bound on the working memory of one chunk [bytes] (a few samples per chunk keep
         the arrays in cache).
     workers : int
-        Threads evaluating chunks side by side (2 on a 2-core machine roughly halves the time
-        when flows, growth or aging vary); results do not depend on it.
+        Threads evaluating chunks side by side; results do not depend on it.
 
     Returns
     -------
     MonteCarloResult
     """
-    for name in distributions:
-        _check_name(study, name)
-    chosen, _ = _base_choice(study)
-    values = _samples(distributions, n, seed)
+    d = _decision(study)
+    if d.kind != "sizing":
+        raise InputError("monte_carlo: for a sizing study (upgrade studies: "
+                         "upgrade_monte_carlo)")
+    values = _samples(d, distributions, n, seed)
+    chosen, _ = d.base_choice()
     size = _chunk_size(study, memory, any(k in HYDRAULIC_INPUTS for k in distributions))
-    c = len(study.candidates)
-    eac = np.empty((n, c))
-    feas = np.empty((n, c), dtype=bool)
     bar = _progress(n, progress if n > 2000 or progress else False, "Monte Carlo")
-    def run_chunk(start: int) -> int:
-        stop = min(start + size, n)
-        e, f = _evaluate(study, {k: v[start:stop] for k, v in values.items()})
-        eac[start:stop], feas[start:stop] = e, f  # disjoint slices: no two chunks share rows
-        return stop - start
-
-    starts = range(0, n, size)
-    if workers > 1:  # numpy releases the GIL inside its loops; chunks are independent
-        from concurrent.futures import ThreadPoolExecutor
-
-        with ThreadPoolExecutor(max_workers=workers) as pool:
-            for done in pool.map(run_chunk, starts):
-                if bar is not None:
-                    bar.update(done)
-    else:
-        for start in starts:
-            done = run_chunk(start)
-            if bar is not None:
-                bar.update(done)
-    if bar is not None:
-        bar.close()
+    eac, feas = _evaluate_samples(d, values, n, size, workers, bar)
+    c = eac.shape[1]
     best = _best(eac, feas)
     none = best < 0
     masked = np.where(feas, eac, np.nan)
@@ -633,33 +807,29 @@ def monte_carlo(study, distributions: dict[str, _Distribution], n: int = 10000, 
     exp_regret = np.where(n_finite > 0, np.where(finite, regret, 0.0).sum(axis=0)
                           / np.maximum(n_finite, 1), np.nan)
     table = pd.DataFrame({
-        "candidate": np.arange(c), "material": study.candidates["material"],
-        "size": study.candidates["size"], "mean": eac.mean(axis=0), "p05": q[0], "p25": q[1],
-        "p50": q[2], "p75": q[3], "p95": q[4], "prob_cheapest": counts / n,
-        "prob_infeasible": 1.0 - feas.mean(axis=0), "expected_regret": exp_regret})
-    table = table.sort_values(["prob_cheapest", "mean"], ascending=[False, True],
+        "candidate_index": np.arange(c), "material": study.candidates["material"],
+        "size": study.candidates["size"], "eac_mean": eac.mean(axis=0), "eac_p05": q[0],
+        "eac_p25": q[1], "eac_p50": q[2], "eac_p75": q[3], "eac_p95": q[4],
+        "prob_cheapest": counts / n, "prob_infeasible": 1.0 - feas.mean(axis=0),
+        "expected_regret": exp_regret})
+    table = table.sort_values(["prob_cheapest", "eac_mean"], ascending=[False, True],
                               kind="stable").reset_index(drop=True)
-    inputs = pd.DataFrame(values)
     corr = []
     for name, col in values.items():
         rho = stats.spearmanr(col, eac[:, chosen]).statistic if np.ptp(col) > 0 else np.nan
         corr.append({"input": name, "spearman": float(rho)})
     corr_df = pd.DataFrame(corr).sort_values("spearman", key=np.abs, ascending=False,
                                              kind="stable").reset_index(drop=True)
-    return MonteCarloResult(n, seed, inputs, eac, feas, table, _label(study, chosen), corr_df,
-                            float(none.mean()), study.currency)
+    return MonteCarloResult(int(n), int(seed), pd.DataFrame(values), eac, feas, table,
+                            _label(d, chosen), corr_df, float(none.mean()), study.currency,
+                            message=f"{int(n)} samples of {len(distributions)} input(s)")
 
 
 # --------------------------------------------------------------------------------------------
-# upgrade study
+# Monte Carlo of an upgrade study
 # --------------------------------------------------------------------------------------------
-UPGRADE_INPUTS = ("energy_price", "escalation", "discount_rate", "flow_factor", "growth",
-                  "aging_factor", "break_cost_factor", "break_growth", "capital_factor",
-                  "leakage_factor")
-
-
-@dataclass
-class UpgradeMonteCarloResult:
+@dataclass(repr=False)
+class UpgradeMonteCarloResult(StudyResult):
     """Monte Carlo of an upgrade study.
 
     Attributes
@@ -671,8 +841,9 @@ class UpgradeMonteCarloResult:
     npv : pandas.DataFrame
         NPV against keeping the line, one column per option, one row per sample.
     summary : pandas.DataFrame
-        Per option: mean and quantiles of the NPV, ``prob_positive`` (the option saves money)
-        and ``prob_best`` (it has the least PV of all options, keep included).
+        Per option: mean and quantiles of the NPV (``npv_mean``, ``npv_p05``, ``npv_p50``,
+        ``npv_p95``), ``prob_positive`` (the option saves money) and ``prob_best`` (it has
+        the least PV of all options, keep included).
     """
 
     n: int
@@ -680,69 +851,72 @@ class UpgradeMonteCarloResult:
     inputs: pd.DataFrame
     npv: pd.DataFrame = field(repr=False)
     summary: pd.DataFrame = field(repr=False)
+    currency: str = ""
+    success: bool = True
+    message: str = ""
 
-    def __repr__(self) -> str:
-        lines = [f"Upgrade Monte Carlo: {self.n} samples (seed {self.seed})",
+    def headline(self) -> str:
+        top = self.summary.sort_values("prob_best", ascending=False).iloc[0]
+        return (f"{self.n} samples (seed {self.seed}); most often best {top['option']} "
+                f"(P = {top['prob_best']:.3f})")
+
+    def tables(self) -> dict[str, pd.DataFrame]:
+        return {"Upgrade Monte Carlo": self.summary}
+
+    def text(self) -> str:
+        lines = [f"Upgrade Monte Carlo: {self.n} samples (seed {self.seed}); NPV against "
+                 f"keeping the line in {self.currency or 'currency'}",
                  f"{'option':<20}{'NPV p05':>14}{'p50':>14}{'p95':>14}{'P(NPV>0)':>10}"
                  f"{'P(best)':>9}"]
         for _, r in self.summary.iterrows():
-            lines.append(f"{r['option']:<20}{r['p05']:>14,.0f}{r['p50']:>14,.0f}"
-                         f"{r['p95']:>14,.0f}{r['prob_positive']:>10.3f}{r['prob_best']:>9.3f}")
+            lines.append(f"{r['option']:<20}{r['npv_p05']:>14,.0f}{r['npv_p50']:>14,.0f}"
+                         f"{r['npv_p95']:>14,.0f}{r['prob_positive']:>10.3f}"
+                         f"{r['prob_best']:>9.3f}")
         return "\n".join(lines)
 
-    def _repr_html_(self) -> str:
-        return (f"<p><b>Upgrade Monte Carlo</b>: {self.n} samples, seed {self.seed}</p>"
-                + self.summary.to_html(index=False, float_format=lambda x: f"{x:,.4g}",
-                                       border=0))
 
-
-def upgrade_monte_carlo(study, distributions: dict[str, _Distribution], n: int = 10000,
-                        seed: int = 0, progress: bool | None = None) -> UpgradeMonteCarloResult:
+def upgrade_monte_carlo(study: Any, distributions: dict[str, Any], n: int = 10000,
+                        seed: int = 0, progress: bool | None = None,
+                        chunk: int = 5000) -> UpgradeMonteCarloResult:
     """Monte Carlo of an upgrade study: the NPV of each option against keeping the line.
 
-    Inputs: ``energy_price``, ``escalation``, ``discount_rate``, ``flow_factor``, ``growth``,
-    ``aging_factor`` (of the existing line), ``break_cost_factor``, ``break_growth``,
-    ``capital_factor`` (every option's capital), ``leakage_factor`` (the leakage cost).
-    All samples are evaluated at once per option (the hydraulics of an upgrade study are small).
+    Inputs: the names of :data:`pipeopt.variations.UPGRADE_INPUTS`. Samples are evaluated in
+    chunks of ``chunk`` (every option and keep at once per chunk), each with its own horizon.
     """
-    for name in distributions:
-        if name not in UPGRADE_INPUTS:
-            raise InputError(f"uncertainty: unknown upgrade input {name!r}; inputs: "
-                             f"{', '.join(UPGRADE_INPUTS)}")
-    values = _samples(distributions, n, seed)
-    bar = _progress(len(study.states) + 1, progress, "Upgrade Monte Carlo")
-    keep = study.sampled_pv(None, values)
-    pvs = {"keep": keep}
-    for st in study.states:
-        pvs[st.name] = study.sampled_pv(st, values)
-        if bar is not None:
-            bar.update(1)
-    if bar is not None:
-        bar.close()
-    npv = pd.DataFrame({k: keep - v for k, v in pvs.items() if k != "keep"})
-    all_pv = np.column_stack(list(pvs.values()))
-    best = np.argmin(all_pv, axis=1)
+    d = _decision(study)
+    if d.kind != "upgrade":
+        raise InputError("upgrade_monte_carlo: for an upgrade study")
+    values = _samples(d, distributions, n, seed)
+    bar = _progress(n, progress if n > 2000 or progress else False, "Upgrade Monte Carlo")
+    pv, _ = _evaluate_samples(d, values, n, max(1, int(chunk)), 1, bar)
+    labels = d.labels
+    npv = pd.DataFrame({name: pv[:, 0] - pv[:, j] for j, name in enumerate(labels) if j > 0})
+    best = np.argmin(pv, axis=1)
     rows = []
-    for j, name in enumerate(pvs):
-        if name == "keep":
+    for j, name in enumerate(labels):
+        if j == 0:
             continue
         col = npv[name].to_numpy()
         q = np.quantile(col, [0.05, 0.5, 0.95])
-        rows.append({"option": name, "mean": col.mean(), "p05": q[0], "p50": q[1],
-                     "p95": q[2], "prob_positive": float((col > 0).mean()),
+        rows.append({"option": name, "npv_mean": col.mean(), "npv_p05": q[0], "npv_p50": q[1],
+                     "npv_p95": q[2], "prob_positive": float((col > 0).mean()),
                      "prob_best": float((best == j).mean())})
-    rows.append({"option": "keep", "mean": 0.0, "p05": 0.0, "p50": 0.0, "p95": 0.0,
-                 "prob_positive": 0.0, "prob_best": float((best == 0).mean())})
-    return UpgradeMonteCarloResult(n, seed, pd.DataFrame(values), npv, pd.DataFrame(rows))
+    rows.append({"option": "keep", "npv_mean": 0.0, "npv_p05": 0.0, "npv_p50": 0.0,
+                 "npv_p95": 0.0, "prob_positive": 0.0, "prob_best": float((best == 0).mean())})
+    return UpgradeMonteCarloResult(int(n), int(seed), pd.DataFrame(values), npv,
+                                   pd.DataFrame(rows), study.currency,
+                                   message=f"{int(n)} samples of {len(distributions)} input(s)")
 
 
 # --------------------------------------------------------------------------------------------
 # study-file section
 # --------------------------------------------------------------------------------------------
-def read_uncertainty_section(sec) -> dict[str, Any]:
-    """Read an ``[uncertainty]`` section: ``samples``, ``seed`` and one table per input.
+def read_uncertainty_section(data: Any, study: str, materials: tuple[str, ...] = ()
+                             ) -> dict[str, Any]:
+    """Read an ``[uncertainty]`` table: ``samples``, ``seed`` and one table per input.
 
-    Example::
+    ``study`` is ``"sizing"`` or ``"upgrade"`` (which inputs are allowed); ``materials`` the
+    materials ``pipe_cost_factor:<material>`` may name. Example::
 
         [uncertainty]
         samples = 5000
@@ -753,15 +927,23 @@ def read_uncertainty_section(sec) -> dict[str, Any]:
     """
     from .studyfile import Section, StudyFileError
 
-    out: dict[str, Any] = {"samples": int(sec.number("samples", 2000, low=2, integer=True)),
-                           "seed": int(sec.number("seed", 0, low=0, integer=True)),
-                           "distributions": {}}
+    if not isinstance(data, dict):
+        raise StudyFileError("uncertainty: expected a table ([uncertainty])")
+    sec = Section(data, "uncertainty", tuple(data))
+    out: dict[str, Any] = {
+        "samples": int(sec.number("samples", 2000, low=2, high=MAX_SAMPLES, integer=True)),
+        "seed": int(sec.number("seed", 0, low=0, high=2**53, integer=True)),
+        "distributions": {}}
     params = {"uniform": ("low", "high"), "triangular": ("low", "mode", "high"),
               "normal": ("mean", "sd", "low", "high"), "lognormal": ("median", "sigma")}
-    for name, spec in sec.data.items():
+    for name, spec in data.items():
         if name in ("samples", "seed"):
             continue
         key = sec.key(name)
+        try:
+            check_input_name(name, study, materials)
+        except InputError as exc:
+            raise StudyFileError(f"{key}: {exc}") from None
         kind_sec = Section(spec, key, ("distribution", "low", "mode", "high", "mean", "sd",
                                        "median", "sigma"))
         kind = kind_sec.text("distribution", None, tuple(DISTRIBUTIONS))

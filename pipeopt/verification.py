@@ -79,7 +79,7 @@ def _shamir_howard(n0: float, a: float, cb: float, cr: float, r: float) -> Calla
         opt = UpgradeOption("replace", name="replace", material="ductile-iron",
                             inner_diameter="0.3 m", roughness="0.1 mm",
                             cost_per_metre=cr / 2000.0, life=1e9)
-        st = UpgradeStudy(Fluid.water("15 degC"), ex, DutyProfile((0.08,), (6000,)), 0.7,
+        st = UpgradeStudy(Fluid.water("15 degC"), ex, DutyProfile(("0.08 m^3/s",), (6000,)), 0.7,
                           EnergyTariff(0.1), Economics(r, 120, 80), [opt])
         return float(st.best_year("replace").year)
     return f
@@ -131,9 +131,9 @@ def _closed_form_diameter() -> float:
 
 def _r12(t_k: float, rho: float) -> Callable[[], float]:
     def f() -> float:
-        from .fluid import _coolprop
+        import CoolProp.CoolProp as CP  # the formulation as CoolProp implements it
 
-        return float(_coolprop().PropsSI("V", "T", t_k, "Dmass", rho, "Water") * 1e6)
+        return float(CP.PropsSI("V", "T", t_k, "Dmass", rho, "Water") * 1e6)
     return f
 
 

@@ -11,18 +11,15 @@ from __future__ import annotations
 
 import abc
 import asyncio
-import dataclasses
 import html
 import time
 from typing import Any
 
 import ipywidgets as w
 import matplotlib.pyplot as plt
-import numpy as np
 from IPython.display import display
 
 from . import plots
-from .costs import EnergyTariff
 
 __all__ = ["explore", "SizingExplorer", "UpgradeExplorer"]
 
@@ -164,18 +161,12 @@ class SizingExplorer(_Explorer):
         self.widget = self._layout()
         self.update_now()
 
-    def scenario(self):
-        """The study's scenario with the controls' values."""
-        s = self.study.scenario
-        c = {k: v.value for k, v in self.controls.items()}
-        return dataclasses.replace(
-            s, tariff=EnergyTariff(c["energy_price"], c["escalation"], s.tariff.demand_charge),
-            discount_rate=c["discount_rate"], horizon=int(c["horizon"]),
-            efficiency=c["efficiency"],
-            duty=s.duty.scaled(c["flow_factor"], c["hours_factor"]))
+    def inputs(self) -> dict[str, float]:
+        """The named inputs the controls set (see :data:`pipeopt.variations.INPUTS`)."""
+        return {k: float(v.value) for k, v in self.controls.items() if k != "materials"}
 
     def _update(self) -> None:
-        result = self.study.run(self.scenario())
+        result = self.study.run(inputs=self.inputs())
         self.result = result
         chosen = list(self.controls["materials"].value) or [m.name for m in self.study.materials]
         cand = result.candidates
@@ -224,8 +215,8 @@ class UpgradeExplorer(_Explorer):
         self.update_now()
 
     def _update(self) -> None:
-        inputs = {k: np.array([v.value]) for k, v in self.controls.items()}
-        result = self.study.run(inputs)
+        inputs = {k: float(v.value) for k, v in self.controls.items()}
+        result = self.study.run(inputs=inputs)
         self.result = result
         self.ax.clear()
         plots.cumulative_cash_flow(result, ax=self.ax)

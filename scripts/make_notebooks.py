@@ -18,6 +18,8 @@ CAUTION = ("**Caution.** pipeopt supports studies; it does not produce a design.
 
 
 def nb(cells: list) -> nbformat.NotebookNode:
+    for k, cell in enumerate(cells):  # stable ids: regenerating changes only what changed
+        cell["id"] = f"cell-{k:02d}"
     book = new_notebook(cells=cells)
     book.metadata["kernelspec"] = {"name": "python3", "display_name": "Python 3",
                                    "language": "python"}
@@ -247,6 +249,7 @@ study = UpgradeStudy.from_dict({
               "illustrative": True},
     "fluid": {"kind": "water", "temperature": "9 degC"},
     "existing": {"material": "cast-iron-aged", "inner_diameter": "0.235 m",
+                     "bore_as_laid": "0.25 m",
                  "length": "2.7 km", "static_head": "16 m", "minor_loss_k": 5.0,
                  "aging": "0.04 mm/yr", "breaks_per_year": 2.5, "break_growth": 0.07,
                  "break_cost": 8500.0, "leakage_cost": 9000.0, "leakage_growth": 0.03,
@@ -299,6 +302,7 @@ BROWSER = nb([
     md("Explorer of the bundled demo study (used by the browser test; illustrative numbers)."),
     code("""
 import pipeopt
+
 explorer = pipeopt.explore(pipeopt.SizingStudy.demo(), debounce=0)
 explorer
 """),

@@ -11,9 +11,9 @@ def test_power_law():
     c = PowerLawPipeCost(1800.0, 1.25)
     assert c.per_metre(0.3) == pytest.approx(1800 * 0.3**1.25)
     np.testing.assert_allclose(c.per_metre([0.2, 0.4]), 1800 * np.array([0.2, 0.4]) ** 1.25)
-    with pytest.raises(InputError, match="cost.coefficient must be a positive number"):
+    with pytest.raises(InputError, match=r"cost\.coefficient: must be positive; got -1\.0"):
         PowerLawPipeCost(-1.0, 1.2)
-    with pytest.raises(InputError, match="cost.exponent"):
+    with pytest.raises(InputError, match=r"cost\.exponent: must be <= 4"):
         PowerLawPipeCost(100.0, 9.0)
 
 
@@ -33,8 +33,12 @@ def test_pump_station():
     ps = PumpStationCost(8000.0, 0.7, standby_fraction=0.5, life=20, maintenance=0.01)
     assert ps.installed_power(100.0) == pytest.approx(150.0)
     assert ps.capital(100.0) == pytest.approx(8000 * 150**0.7)
-    with pytest.raises(InputError, match="pump_station.life"):
+    with pytest.raises(InputError, match=r"pump_station\.life: must be >= 1"):
         PumpStationCost(8000.0, 0.7, life=0)
+    with pytest.raises(InputError, match=r"pump_station\.life: expected a whole number"):
+        PumpStationCost(8000.0, 0.7, life=20.5)
+    with pytest.raises(InputError, match=r"pump_station\.stages must be whole years, increasing"):
+        PumpStationCost(8000.0, 0.7, stages=[5, 10])
 
 
 def test_tariff():
@@ -42,5 +46,8 @@ def test_tariff():
     np.testing.assert_allclose(t.price_by_year(3), [0.12, 0.1224, 0.124848])
     cost = t.yearly_cost(np.array([[1000.0, 1000.0]]), np.array([[10.0, 20.0]]))
     np.testing.assert_allclose(cost, [[120.0 + 500.0, 122.4 + 1000.0]])
-    with pytest.raises(InputError, match="energy.price"):
+    with pytest.raises(InputError, match=r"energy\.price: must be positive"):
         EnergyTariff(0.0)
+    # per-sample prices: (S, N)
+    np.testing.assert_allclose(t.price_by_year(2, np.array([0.1, 0.2]), np.array([0.0, 0.5])),
+                               [[0.1, 0.1], [0.2, 0.3]], rtol=1e-15)

@@ -27,9 +27,9 @@ G = 9.80665
 def small_scenario(**over) -> Scenario:
     base = dict(
         density=999.1, viscosity=1.1376e-3, length=2000.0, static_head=15.0, minor_loss_k=4.0,
-        parallel=1, duty=DutyProfile((0.05, 0.08), (3000.0, 1500.0), growth=0.02),
+        parallel=1, duty=DutyProfile(("0.05 m^3/s", "0.08 m^3/s"), (3000.0, 1500.0), growth=0.02),
         efficiency=0.7, tariff=EnergyTariff(0.10, escalation=0.01, demand_charge=40.0),
-        pump_station=PumpStationCost(5000.0, 0.7, standby_fraction=0.5, life=2.0,
+        pump_station=PumpStationCost(5000.0, 0.7, standby_fraction=0.5, life=2,
                                      maintenance=0.02),
         discount_rate=0.06, horizon=3, pipe_life=50.0, pipe_maintenance=0.01)
     base.update(over)
@@ -78,7 +78,7 @@ def test_present_value_and_eac_by_hand():
 
 
 def test_years_collapse_equals_full_evaluation():
-    s = small_scenario(duty=DutyProfile((0.05, 0.08), (3000.0, 1500.0)), horizon=25)
+    s = small_scenario(duty=DutyProfile(("0.05 m^3/s", "0.08 m^3/s"), (3000.0, 1500.0)), horizon=25)
     d = np.linspace(0.15, 0.5, 12)
     fast = evaluate(s, d, 1e-4, 0.0, 400.0 * d**1.3)
     full = evaluate(s, d, 1e-4, 0.0, 400.0 * d**1.3, years_mode="full")
@@ -117,9 +117,40 @@ def test_constant_friction_and_errors():
 def test_monotone_in_diameter(d1, d2, eps, growth):
     # Laws of the model: pipe capital rises with D, pumping energy falls with D; EAC finite > 0.
     lo, hi = sorted((d1, d2))
-    s = small_scenario(duty=DutyProfile((0.05, 0.08), (3000.0, 1500.0), growth=growth),
-                       horizon=20)
+    s = small_scenario(duty=DutyProfile(("0.05 m^3/s", "0.08 m^3/s"), (3000.0, 1500.0),
+                                        growth=growth), horizon=20)
     lc = evaluate(s, np.array([lo, hi]), eps, 1e-5, 900.0 * np.array([lo, hi]) ** 1.3)
     assert lc.capex_pipe[0] <= lc.capex_pipe[1]
     assert np.all(lc.energy_kwh[0] >= lc.energy_kwh[1] - 1e-9)
     assert np.all(np.isfinite(lc.eac)) and np.all(lc.eac > 0)
+
+
+@settings(max_examples=40, deadline=None)
+@given(horizons=st.lists(st.integers(1, 30), min_size=1, max_size=6),
+       growth=st.floats(-0.03, 0.05), rate=st.floats(0.0, 0.12))
+def test_each_sample_uses_its_own_horizon(horizons, growth, rate):
+    # A batch of samples with different horizons equals the same inputs evaluated one sample
+    # at a time: present values, station sizing and renewals, residuals and the feasibility
+    # figures (largest velocity and pump head of the years within the sample's horizon).
+    import dataclasses
+
+    from pipeopt.variations import Variations
+
+    s = small_scenario(duty=DutyProfile(("0.05 m^3/s", "0.08 m^3/s"), (3000.0, 1500.0),
+                                        growth=growth), horizon=10,
+                       pump_station=PumpStationCost(5000.0, 0.7, standby_fraction=0.5, life=7,
+                                                    maintenance=0.02, stages=[0, 9]))
+    d = np.array([0.2, 0.3, 0.45])
+    args = (d, 1e-4, 3e-5, 900.0 * d**1.3)
+    var = Variations(horizon=np.array(horizons, dtype=float),
+                     discount_rate=np.full(len(horizons), rate))
+    batch = evaluate(s, *args, variations=var)
+    for j, n in enumerate(horizons):
+        one = evaluate(dataclasses.replace(s, horizon=n, discount_rate=rate), *args)
+        for name in ("pv_total", "eac", "velocity_max", "pump_head_max", "installed_power",
+                     "pv_replacement", "pv_residual", "capex_pump_station"):
+            np.testing.assert_allclose(getattr(batch, name)[j], getattr(one, name),
+                                       rtol=1e-12, atol=1e-9, err_msg=name)
+        # every cash-flow table reconciles to its present value
+        np.testing.assert_allclose(batch.cash_flows.present_value[j], one.pv_total,
+                                   rtol=1e-12)

@@ -121,10 +121,14 @@ def test_demo_result_structure():
     assert set(res.optimum["material"]) == {"ductile-iron", "pe100", "steel"}
     for _, o in res.optimum.iterrows():  # bracketing sizes really bracket the optimum
         assert o["lower_inner_diameter_m"] <= o["inner_diameter_m"] <= o["upper_inner_diameter_m"]
-    text = repr(res)
+    text = res.text()
     assert "ILLUSTRATIVE" in text and "Caution" in text and "Best:" in text
+    assert str(res) == text and "\n" not in repr(res) and "best pe100" in repr(res)
     assert "<table" in res._repr_html_()
-    assert len(res.yearly()) == 40
+    y = res.yearly()
+    assert len(y) == 41 and list(y["year"]) == list(range(41))  # years 0 ... N
+    # the yearly table reconciles to the present value (a sum of its discounted rows)
+    assert y["discounted"].sum() == pytest.approx(res.best["pv_total"], rel=1e-12)
     assert (res.breakdown()["eac"].diff().dropna() >= 0).all()
 
 
@@ -157,7 +161,7 @@ def test_no_feasible_candidate_is_reported_not_raised():
     res = study_from(constraints={"velocity_max": "0.05 m/s"}).run()
     assert not res.success and res.best is None
     assert "no candidate meets every constraint" in res.message
-    assert "No feasible candidate" in res.summary()
+    assert "No feasible candidate" in res.text()
 
 
 def test_toml_study_with_cost_table():
@@ -230,7 +234,7 @@ def test_python_constructor_matches_study_file():
     from pipeopt.sizing import Economics, Line, MaterialChoice
 
     st_ = SizingStudy(
-        Fluid.water("15 degC"), Line("2 km", "0 m"), DutyProfile((0.2,), (8000,)), 0.75,
+        Fluid.water("15 degC"), Line("2 km", "0 m"), DutyProfile(("0.2 m^3/s",), (8000,)), 0.75,
         EnergyTariff(0.1), Economics(0.06, 30, 30),
         [MaterialChoice("pe100", {"coefficient": 1500.0, "exponent": 1.4}, classes=["SDR 17"])])
     a = st_.run().candidates["eac"].to_numpy()
@@ -238,6 +242,12 @@ def test_python_constructor_matches_study_file():
     np.testing.assert_allclose(a, b, rtol=1e-13)
     with pytest.raises(InputError, match=r"line\.length: expected a length"):
         Line(2000.0, "0 m")
+    # the same rule and message from Python and from a study file
+    with pytest.raises(InputError, match=r"pumping\.efficiency: must be <= 1; got 1\.5"):
+        SizingStudy(Fluid.water("15 degC"), Line("2 km", "0 m"),
+                    DutyProfile(("0.2 m^3/s",), (8000,)), 1.5, EnergyTariff(0.1),
+                    Economics(0.06, 30, 30), [MaterialChoice("pe100", {"coefficient": 1500.0,
+                                                                        "exponent": 1.4})])
 
 
 def test_study_rich_display():

@@ -11,6 +11,8 @@ import copy
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st_
 from scipy import stats
 
 from pipeopt import SizingStudy, UpgradeStudy
@@ -39,7 +41,7 @@ def two_study(**over) -> SizingStudy:
 def break_even_price(study) -> float:
     """EAC is linear in the energy price p (MODEL.md): EAC_c(p) = A_c + B_c p. Two evaluations
     give A and B of each candidate; the break-even price is (A_1 - A_0) / (B_0 - B_1)."""
-    e1 = study.evaluate(study.scenario).eac
+    e1 = study.evaluate().eac
     s2 = study.scenario.__class__(**{**study.scenario.__dict__,
                                      "tariff": type(study.scenario.tariff)(0.24)})
     e2 = study.evaluate(s2).eac
@@ -101,10 +103,10 @@ def test_monte_carlo_result_contents():
     mc = st.monte_carlo({"discount_rate": Uniform(0.03, 0.08),
                          "pipe_cost_factor:pe100": LogNormal(1.0, 0.1)}, n=300, seed=1)
     assert mc.candidates["prob_cheapest"].sum() + mc.prob_none_feasible == pytest.approx(1.0)
-    assert (mc.candidates["p05"] <= mc.candidates["p95"]).all()
+    assert (mc.candidates["eac_p05"] <= mc.candidates["eac_p95"]).all()
     assert set(mc.correlation["input"]) == {"discount_rate", "pipe_cost_factor:pe100"}
     assert (mc.candidates["expected_regret"].dropna() >= 0).all()
-    assert "Monte Carlo" in repr(mc) and "<table" in mc._repr_html_()
+    assert "Monte Carlo" in mc.text() and "<table" in mc._repr_html_()
     # the chosen design's EAC rises with the pipe cost factor of its material
     rho = mc.correlation.set_index("input").loc["pipe_cost_factor:pe100", "spearman"]
     assert rho > 0
@@ -117,7 +119,7 @@ def test_tornado_table():
     assert list(t["input"]) == ["energy_price", "pipe_cost_factor:steel"]  # sorted by swing
     assert t["swing"].iloc[0] > 0 and t["swing"].iloc[1] == 0  # steel is not the choice
     assert t["eac_high"].iloc[0] > t["eac_low"].iloc[0]
-    assert "Tornado" in repr(tr)
+    assert "Tornado" in tr.text()
 
 
 def test_distributions_and_errors():
@@ -171,5 +173,137 @@ def test_upgrade_monte_carlo():
     det = st.run().summary.set_index("option")["npv_vs_keep"]
     for opt in mc1.npv.columns:
         np.testing.assert_allclose(mc1.npv[opt], det[opt], rtol=1e-9)
-    with pytest.raises(InputError, match="unknown upgrade input"):
-        st.monte_carlo({"hours_factor": Uniform(0.9, 1.1)}, n=10)
+    with pytest.raises(InputError, match="unknown upgrade input 'pipe_cost_factor'"):
+        st.monte_carlo({"pipe_cost_factor": Uniform(0.9, 1.1)}, n=10)
+
+
+# ------------------------------------------------------------------------------------------
+# every sample with its own horizon: a batch equals the samples evaluated one at a time
+# ------------------------------------------------------------------------------------------
+GROWING = {
+    "study": {"name": "growing rising main (test, illustrative)", "currency": "EUR"},
+    "fluid": {"kind": "water", "temperature": "15 degC"},
+    "line": {"length": "5 km", "static_head": "30 m", "minor_loss_k": 6.0},
+    "duty": [{"flow": "300 m^3/h", "hours": 5000}, {"flow": "420 m^3/h", "hours": 2000}],
+    "growth": {"flow_per_year": 0.02},
+    "pumping": {"efficiency": 0.7},
+    "energy": {"price": 0.12, "demand_charge": 40.0},
+    "pump_station": {"cost_coefficient": 8000.0, "cost_exponent": 0.7, "life": 15},
+    "economics": {"discount_rate": 0.05, "horizon": 30, "pipe_life": 60},
+    "material": [{"name": "pe100", "sizes": ["355 SDR 17", "400 SDR 17", "450 SDR 17",
+                                             "500 SDR 17", "560 SDR 17", "630 SDR 17"],
+                  "cost": {"coefficient": 1500.0, "exponent": 1.4}}],
+    "constraints": {"velocity_max": "1.25 m/s"},
+}
+
+
+def growing_study() -> SizingStudy:
+    return SizingStudy.from_dict(copy.deepcopy(GROWING))
+
+
+def _one_at_a_time(st, inputs):
+    res = st.run(inputs=inputs, optimum=False)
+    return res.candidates["eac"].to_numpy(), res.candidates["feasible"].to_numpy(), res
+
+
+@settings(max_examples=200, deadline=None)
+@given(seed=st_.integers(0, 2**32 - 1), lo=st_.integers(5, 40), span=st_.integers(0, 40))
+def test_monte_carlo_with_horizon_equals_one_sample_at_a_time(seed, lo, span):
+    st = GROWING_STUDY
+    d = {"horizon": Uniform(lo - 0.5, lo + span + 0.49), "energy_price": Uniform(0.08, 0.2)}
+    mc = monte_carlo(st, d, n=3, seed=seed)
+    for k in range(mc.n):
+        inputs = {name: float(mc.inputs[name].iloc[k]) for name in d}
+        eac, feas, _ = _one_at_a_time(st, inputs)
+        np.testing.assert_allclose(mc.eac[k], eac, rtol=1e-12)
+        assert np.array_equal(mc.feasible[k], feas)
+
+
+def test_tornado_and_switching_with_horizon_equal_one_sample_at_a_time():
+    st = growing_study()
+    tr = st.tornado({"horizon": (10, 45), "energy_price": (0.06, 0.3),
+                     "station_cost_factor": (0.8, 1.2)})
+    chosen = tr.chosen
+    for _, row in tr.table.iterrows():
+        for end in ("low", "high"):
+            eac, feas, res = _one_at_a_time(st, {row["input"]: row[end]})
+            labels = (res.candidates["material"] + " " + res.candidates["size"]).tolist()
+            assert row[f"eac_{end}"] == pytest.approx(eac[labels.index(chosen)], rel=1e-12)
+            best = res.best
+            want = "none feasible" if best is None else f"{best['material']} {best['size']}"
+            assert row[f"best_{end}"] == want
+    # a row whose swing is zero cannot change the best unless feasibility does
+    sw = st.switching_values({"horizon": (10, 45)})
+    for _, row in sw.table[sw.table["switching_value"].notna()].iterrows():
+        n = int(row["switching_value"])
+        _, _, res = _one_at_a_time(st, {"horizon": n})
+        got = "none feasible" if res.best is None else f"{res.best['material']} " \
+                                                        f"{res.best['size']}"
+        assert got == row["switches_to"]
+        prev = n - 1 if row["direction"] == "above" else n + 1
+        _, _, res = _one_at_a_time(st, {"horizon": prev})
+        assert f"{res.best['material']} {res.best['size']}" == sw.chosen
+
+
+def test_monte_carlo_chunking_with_horizon_sampled():
+    # the guide promises results independent of chunking; with the horizon sampled too
+    st = growing_study()
+    d = {"horizon": Uniform(9.5, 45.49), "flow_factor": Normal(1.0, 0.1, 0.7, 1.3),
+         "energy_price": Triangular(0.08, 0.12, 0.2)}
+    a = monte_carlo(st, d, n=40, seed=3)
+    b = monte_carlo(st, d, n=40, seed=3, memory=1.0)   # one sample per chunk
+    c = monte_carlo(st, d, n=40, seed=3, workers=2, memory=5e5)
+    assert np.array_equal(a.eac, b.eac) and np.array_equal(a.eac, c.eac)
+    assert a.candidates.equals(b.candidates) and a.candidates.equals(c.candidates)
+
+
+def test_uncertainty_inputs_are_checked_with_clear_messages():
+    st = two_study()
+    with pytest.raises(InputError, match=r"uncertainty\.energy_price: expected a distribution"):
+        monte_carlo(st, {"energy_price": 0.13}, n=10)
+    with pytest.raises(InputError, match=r"ranges\.energy_price: needs \(low, high\) values"):
+        st.tornado({"energy_price": (0.1,)})
+    with pytest.raises(InputError, match=r"ranges\.discount_rate: discount_rate must be >= 0 "
+                                         r"and <= 1; got -0\.1$"):
+        st.tornado({"discount_rate": (-0.1, 0.1)})
+    with pytest.raises(InputError, match=r"n must be a whole number from 2 to 1,000,000"):
+        monte_carlo(st, {"energy_price": Uniform(0.1, 0.2)}, n=10_000_001)
+    with pytest.raises(InputError, match=r"sampled horizon must be a whole number from 1 to 200"):
+        monte_carlo(st, {"horizon": Uniform(100, 1e6)}, n=10)
+    with pytest.raises(InputError, match="seed must be a whole number"):
+        monte_carlo(st, {"energy_price": Uniform(0.1, 0.2)}, n=10, seed=2**64)
+    # any frozen scipy.stats distribution is accepted (sampled through its ppf)
+    mc = monte_carlo(st, {"energy_price": stats.uniform(0.1, 0.1)}, n=50, seed=1)
+    assert mc.inputs["energy_price"].between(0.1, 0.2).all()
+    ours = monte_carlo(st, {"energy_price": Uniform(0.1, 0.2)}, n=50, seed=1)
+    np.testing.assert_array_equal(mc.eac, ours.eac)   # the same draws through the same ppf
+
+
+def test_upgrade_study_file_takes_an_uncertainty_section():
+    import tomllib
+    from pathlib import Path
+
+    base = tomllib.loads((Path(__file__).parents[1] / "pipeopt" / "data" /
+                          "demo_upgrade.toml").read_text())
+    base["uncertainty"] = {"samples": 50, "seed": 4,
+                           "energy_price": {"distribution": "uniform", "low": 0.1,
+                                            "high": 0.2},
+                           "horizon": {"distribution": "uniform", "low": 30, "high": 50}}
+    st = UpgradeStudy.from_dict(base)
+    mc = st.monte_carlo()
+    assert mc.n == 50
+    # each sample's NPV equals the deterministic run with that sample's inputs
+    for k in (0, 17):
+        inputs = {"energy_price": float(mc.inputs["energy_price"].iloc[k]),
+                  "horizon": float(mc.inputs["horizon"].iloc[k])}
+        det = st.run(inputs=inputs).summary.set_index("option")["npv_vs_keep"]
+        for opt in mc.npv.columns:
+            assert mc.npv[opt].iloc[k] == pytest.approx(det[opt], rel=1e-11)
+    bad = copy.deepcopy(base)
+    bad["uncertainty"]["pipe_cost_factor"] = {"distribution": "uniform", "low": 0.9,
+                                              "high": 1.1}
+    with pytest.raises(InputError, match="unknown upgrade input 'pipe_cost_factor'"):
+        UpgradeStudy.from_dict(bad)
+
+
+GROWING_STUDY = growing_study()

@@ -1,0 +1,657 @@
+"""Study inputs (edge layer): the sections of a study file as frozen dataclasses, and readers.
+
+Each section is an :class:`~pipeopt.fields.InputSection`: units are parsed once on entry, every
+rule is checked once with one message (naming the key path, the rule and the value), and the
+section cannot be changed afterwards (``study.economics.discount_rate = 0.02`` raises). For a
+what-if, build a new study with :meth:`pipeopt.sizing.SizingStudy.replace` or pass named inputs
+to ``run(inputs=...)``.
+
+The readers (:func:`read_sizing`, :func:`read_upgrade`) turn a study-file mapping into these
+sections; every section is read and checked before any fluid property or physics call, so a bad
+file is answered at once.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from . import friction as fr
+from .catalog import Catalog, default_catalog, load_catalog
+from .costs import EnergyTariff, PowerLawPipeCost, PumpStationCost
+from .duty import DutyProfile
+from .errors import InputError
+from .fields import (
+    SI,
+    InputSection,
+    flag,
+    number,
+    quantity,
+    section,
+    text,
+    texts,
+    to_quantity,
+    whole,
+)
+from .fluid import Fluid
+from .studyfile import Section, StudyFileError
+from .surge import RESTRAINTS
+
+__all__ = ["StudyInfo", "FluidSpec", "Line", "Pumping", "Economics", "Constraints", "Carbon",
+           "Hydraulics", "MaterialChoice", "CostTable", "FieldTest", "ExistingLine",
+           "UpgradeOption", "OPTION_KINDS", "read_common", "read_sizing", "read_upgrade"]
+
+
+# --------------------------------------------------------------------------------------------
+# sections every study shares
+# --------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class StudyInfo(InputSection):
+    """Labels of a study: name, currency, whether its numbers are invented, a description."""
+
+    SECTION = "study"
+    name: str = text(default="study")
+    currency: str = text(default="")
+    illustrative: bool = flag(default=False)
+    description: str = text(default="")
+
+
+@dataclass(frozen=True)
+class FluidSpec(InputSection):
+    """The ``[fluid]`` section: which liquid, at which state (properties are computed by
+    :meth:`build`, after every section has been checked).
+
+    Parameters
+    ----------
+    kind : {"water", "coolprop", "custom"}
+    temperature : str or Quantity
+        Required for water and CoolProp fluids, e.g. ``"15 degC"``.
+    pressure : str or Quantity, optional
+        Absolute pressure at which properties are evaluated (default 1 atm).
+    name : str, optional
+        CoolProp fluid name (``kind = "coolprop"``) or a label (``"custom"``).
+    density, viscosity, vapour_pressure, bulk_modulus : str or Quantity, optional
+        The properties of a custom fluid.
+    """
+
+    SECTION = "fluid"
+    kind: str = text(("water", "coolprop", "custom"), default="water")
+    temperature: float | None = quantity("temperature", low=0.0, low_open=True, default=None)
+    pressure: float | None = quantity("pressure", low=0.0, low_open=True, default=None)
+    name: str | None = text(default=None)
+    density: float | None = quantity("density", low=0.0, low_open=True, default=None)
+    viscosity: float | None = quantity("viscosity", low=0.0, low_open=True, default=None)
+    vapour_pressure: float | None = quantity("pressure", low=0.0, default=None)
+    bulk_modulus: float | None = quantity("pressure", low=0.0, low_open=True, default=None)
+
+    def _check(self, path: str) -> None:
+        if self.kind == "custom":
+            for key in ("density", "viscosity"):
+                if getattr(self, key) is None:
+                    raise InputError(f"{path}.{key}: required with kind = \"custom\" (write it "
+                                     f"with a unit)")
+        else:
+            if self.temperature is None:
+                raise InputError(f"{path}.temperature: required key is missing (write it with "
+                                 f"a unit, e.g. temperature = \"15 degC\")")
+            if self.kind == "coolprop" and not self.name:
+                raise InputError(f"{path}.name: required with kind = \"coolprop\" (e.g. "
+                                 f"name = \"INCOMP::MEG-30%\")")
+
+    def build(self) -> Fluid:
+        """The :class:`~pipeopt.fluid.Fluid` (property calls happen here)."""
+        def q(v: float | None, unit: str) -> str | None:
+            return None if v is None else f"{float(v)!r} {unit}"
+
+        if self.kind == "custom":
+            return Fluid(q(self.density, "kg/m^3"), q(self.viscosity, "Pa*s"),
+                         q(self.vapour_pressure, "Pa"), q(self.bulk_modulus, "Pa"),
+                         name=self.name or "custom fluid")
+        t = q(self.temperature, "K")
+        p = q(self.pressure, "Pa") or "1 atm"
+        if self.kind == "water":
+            return Fluid.water(t, p)
+        return Fluid.coolprop(self.name, t, p)
+
+
+@dataclass(frozen=True)
+class Pumping(InputSection):
+    """Pumping: the wire-to-water efficiency η (pump × motor × drive), 0 < η <= 1."""
+
+    SECTION = "pumping"
+    efficiency: float = number(0.0, 1.0, low_open=True, example="0.70")
+
+
+@dataclass(frozen=True)
+class Economics(InputSection):
+    """Discounting and lives.
+
+    Parameters
+    ----------
+    discount_rate : float
+        Real discount rate per year (0.05 for 5 %), 0 to 1.
+    horizon : int
+        Analysis horizon [yr], whole years from 1 to 200.
+    pipe_life : float
+        Pipe service life [yr] (straight-line residual value at the horizon), 1 to 500.
+    pipe_maintenance : float
+        Yearly pipe maintenance as a fraction of pipe capital, 0 to 1.
+    """
+
+    SECTION = "economics"
+    discount_rate: float = number(0.0, 1.0, example="0.05")
+    horizon: int = whole(1, 200, example="30")
+    pipe_life: float = number(1.0, 500.0, example="60")
+    pipe_maintenance: float = number(0.0, 1.0, default=0.0)
+
+
+@dataclass(frozen=True)
+class Line(InputSection):
+    """The line: length, static head, minor losses, number of parallel lines.
+
+    Parameters
+    ----------
+    length : str or Quantity
+        Line length, e.g. ``"3.2 km"``.
+    static_head : str or Quantity
+        Lift from suction level to delivery level plus the residual head required at delivery,
+        e.g. ``"24 m"``; may be zero or negative (a falling line that is still pumped).
+    minor_loss_k : float
+        Sum of minor-loss coefficients, referred to the line velocity.
+    parallel : int
+        Identical lines in parallel sharing the flow.
+    """
+
+    SECTION = "line"
+    length: float = quantity("length", low=0.0, low_open=True)
+    static_head: float = quantity("head")
+    minor_loss_k: float = number(0.0, 1e4, default=0.0)
+    parallel: int = whole(1, 100, default=1)
+
+
+@dataclass(frozen=True)
+class Constraints(InputSection):
+    """Feasibility limits.
+
+    Parameters
+    ----------
+    velocity_min, velocity_max : str or Quantity, optional
+        Velocity limits, e.g. ``"0.5 m/s"``. velocity_max is checked against the largest flow of
+        the years within the horizon; velocity_min against the largest duty flow in year 1.
+    surge_allowance : str or Quantity, optional
+        A head added to the highest pump head in the pressure check, e.g. ``"40 m"``. When not
+        given, the Joukowsky head rise of stopping the largest flow is used, with the
+        candidate's Korteweg wave speed.
+    restraint : str
+        Axial restraint for the wave speed (:data:`pipeopt.surge.RESTRAINTS`); default
+        ``"anchored-throughout"`` (buried, restrained pipe).
+    """
+
+    SECTION = "constraints"
+    velocity_min: float | None = quantity("velocity", low=0.0, default=None)
+    velocity_max: float | None = quantity("velocity", low=0.0, low_open=True, default=None)
+    surge_allowance: float | None = quantity("head", low=0.0, default=None)
+    restraint: str = text(RESTRAINTS, default="anchored-throughout")
+
+    def _check(self, path: str) -> None:
+        if (self.velocity_min is not None and self.velocity_max is not None
+                and self.velocity_min >= self.velocity_max):
+            raise InputError(f"{path}.velocity_min ({self.velocity_min:g} m/s) must be below "
+                             f"velocity_max ({self.velocity_max:g} m/s)")
+
+
+@dataclass(frozen=True)
+class Carbon(InputSection):
+    """Carbon cost: operational emissions of the pumping energy and embodied emissions of pipe.
+
+    Parameters
+    ----------
+    grid_factor : float
+        Emission factor of the electricity [kg CO2e per kWh].
+    price : float
+        Carbon price [currency per tonne CO2e].
+    embodied : bool
+        Charge the embodied emissions of the pipe (mass × material factor) at t = 0.
+    """
+
+    SECTION = "carbon"
+    grid_factor: float = number(0.0, 5.0, example="0.25")
+    price: float = number(0.0, 1e5, example="80")
+    embodied: bool = flag(default=True)
+
+
+@dataclass(frozen=True)
+class Hydraulics(InputSection):
+    """The friction method: ``"colebrook"`` (default), another of
+    :data:`pipeopt.friction.METHODS`, or ``"constant"`` with a Darcy ``friction_factor``."""
+
+    SECTION = "hydraulics"
+    friction_method: str = text((*fr.METHODS, "constant"), default="colebrook")
+    friction_factor: float | None = number(0.0, 1.0, low_open=True, default=None,
+                                           example="0.02")
+
+    def _check(self, path: str) -> None:
+        if self.friction_method == "constant" and self.friction_factor is None:
+            raise InputError(f"{path}.friction_factor: required key is missing with "
+                             f"friction_method = \"constant\" (e.g. friction_factor = 0.02)")
+
+
+@dataclass(frozen=True)
+class CostTable:
+    """Pipe capital per metre listed by designation: ``((designation, cost), ...)``."""
+
+    rows: tuple
+
+    @classmethod
+    def parse(cls, value: Any, where: str) -> CostTable:
+        """From a list of ``[designation, cost]`` pairs or a table ``{designation = cost}``."""
+        pairs = list(value.items()) if isinstance(value, dict) else value
+        if not isinstance(pairs, list | tuple) or len(pairs) < 1:
+            raise InputError(f"{where} must list [designation, cost per metre] rows")
+        rows = []
+        for j, row in enumerate(pairs):
+            if not (isinstance(row, list | tuple) and len(row) == 2):
+                raise InputError(f"{where}[{j}] must be [designation, cost per metre]")
+            label, cost = row
+            if not isinstance(label, str) or not label.strip():
+                raise InputError(f"{where}[{j}]: the designation must be text; got {label!r}")
+            if isinstance(cost, bool) or not isinstance(cost, int | float) \
+                    or not math.isfinite(cost) or not 0 < cost < 1e9:
+                raise InputError(f"{where}[{j}]: cost must be a positive number; got {cost!r}")
+            rows.append((label.strip(), float(cost)))
+        return cls(tuple(rows))
+
+
+def _cost_model(value: Any, where: str) -> Any:
+    """A material's cost: a power law (table or object) or a cost table by designation."""
+    if isinstance(value, PowerLawPipeCost | CostTable):
+        return value
+    if isinstance(value, dict):
+        if "table" in value:
+            extra = set(value) - {"table"}
+            if extra:
+                raise InputError(f"{where}.{sorted(extra)[0]}: unknown key with a cost table")
+            return CostTable.parse(value["table"], f"{where}.table")
+        sec = Section(value, where, PowerLawPipeCost.keys() + ("table",))
+        return PowerLawPipeCost.read(sec)
+    raise InputError(f"{where}: expected a power law {{coefficient, exponent}} or a table, got "
+                     f"{type(value).__name__}")
+
+
+@dataclass(frozen=True)
+class MaterialChoice(InputSection):
+    """A candidate material, its size filter, cost model and aging.
+
+    Parameters
+    ----------
+    name : str
+        A catalog material key (``"ductile-iron"``).
+    cost : PowerLawPipeCost, CostTable or dict
+        Pipe capital per metre, supplied and installed; a dict ``{"coefficient": a,
+        "exponent": n}`` means a·D^n with D in m; ``{"table": [[designation, cost], ...]}`` a
+        table by size.
+    min_diameter, max_diameter : str or Quantity, optional
+        Inner-diameter range of the candidates.
+    sizes : list of str, optional
+        Candidate designations (instead of the range).
+    classes : list of str, optional
+        Pressure classes to consider (``["C40"]``, ``["SDR 17", "SDR 11"]``).
+    aging : str, Quantity or None
+        Roughness growth, e.g. ``"0.02 mm/yr"``, or ``"typical"`` for the catalog's typical rate;
+        None (default) means no aging.
+    roughness : str or Quantity, optional
+        New-pipe roughness instead of the catalog's, e.g. ``"0.05 mm"``.
+    """
+
+    SECTION = "material"
+    name: str = text()
+    cost: Any = field(default=None, metadata={})
+    min_diameter: float | None = quantity("diameter", low=0.0, low_open=True, default=None)
+    max_diameter: float | None = quantity("diameter", low=0.0, low_open=True, default=None)
+    sizes: tuple | None = texts(default=None)
+    classes: tuple | None = texts(default=None)
+    aging: Any = field(default=None, metadata={})
+    roughness: float | None = quantity("roughness", low=0.0, default=None)
+
+    def _check(self, path: str) -> None:
+        if not self.name:
+            raise InputError(f"{path}.name must be a catalog material key such as "
+                             f"'ductile-iron'")
+        if self.cost is None:
+            raise InputError(f"{path}.cost: required key is missing (e.g. cost = {{ coefficient "
+                             f"= 1800.0, exponent = 1.25 }})")
+        object.__setattr__(self, "cost", _cost_model(self.cost, f"{path}.cost"))
+        if (self.min_diameter is not None and self.max_diameter is not None
+                and self.min_diameter > self.max_diameter):
+            raise InputError(f"{path}: min_diameter is larger than max_diameter")
+        if self.aging is not None and self.aging != "typical":
+            object.__setattr__(self, "aging", to_quantity(self.aging, "aging_rate",
+                                                          f"{path}.aging", low=0.0))
+
+    @classmethod
+    def read(cls, sec: Any, **given: Any) -> MaterialChoice:
+        cost = sec.raw("cost") if sec.has("cost") else None
+        aging = sec.raw("aging") if sec.has("aging") else None
+        return super().read(sec, cost=cost, aging=aging, **given)
+
+    @classmethod
+    def keys(cls) -> tuple[str, ...]:
+        return (*super().keys(), "cost", "aging")
+
+
+# --------------------------------------------------------------------------------------------
+# upgrade study sections
+# --------------------------------------------------------------------------------------------
+OPTION_KINDS = ("reline", "replace", "duplicate")
+
+
+@dataclass(frozen=True)
+class FieldTest(InputSection):
+    """A field test of the existing line: a flow and two pressures along it.
+
+    Parameters
+    ----------
+    flow : str or Quantity
+        Measured flow, e.g. ``"310 m^3/h"``.
+    upstream_pressure, downstream_pressure : str or Quantity
+        Gauge pressures at the two taps, e.g. ``"5.2 bar"``.
+    upstream_elevation, downstream_elevation : str or Quantity
+        Elevations of the gauges, e.g. ``"42 m"``.
+    length : str or Quantity
+        Pipe length between the taps.
+    minor_loss_k : float
+        Loss coefficients of fittings between the taps.
+    """
+
+    SECTION = "existing.field_test"
+    flow: float = quantity("flow", low=0.0, low_open=True)
+    upstream_pressure: float = quantity("pressure")
+    downstream_pressure: float = quantity("pressure")
+    upstream_elevation: float = quantity("head")
+    downstream_elevation: float = quantity("head")
+    length: float = quantity("length", low=0.0, low_open=True)
+    minor_loss_k: float = number(0.0, 1e4, default=0.0)
+
+    def friction_loss(self, density: float) -> float:
+        """Friction head loss between the taps [m]: Δp / (ρ g) + Δz (equal velocity heads)."""
+        return ((self.upstream_pressure - self.downstream_pressure) / (density * fr.GRAVITY)
+                + (self.upstream_elevation - self.downstream_elevation))
+
+
+@dataclass(frozen=True)
+class ExistingLine(InputSection):
+    """The existing line and its condition.
+
+    Parameters
+    ----------
+    length, static_head : str or Quantity
+        As in a sizing study.
+    material : str
+        Catalog material key (for the wave speed and the description), e.g.
+        ``"cast-iron-aged"``.
+    inner_diameter : str or Quantity, optional
+        The bore as it is now. Or give ``size`` (a catalog designation of ``material``) and
+        ``bore_loss`` (reduction of the diameter by tuberculation or deposits).
+    size : str, optional
+        Catalog designation of the line as laid.
+    bore_loss : str or Quantity, optional
+        Loss of diameter since it was laid, e.g. ``"8 mm"``.
+    bore_as_laid : str or Quantity, optional
+        The bore when new (what cleaning restores before a reline); from ``size`` when given.
+    minor_loss_k : float
+        Sum of minor-loss coefficients.
+    roughness : str or Quantity, optional
+        Effective roughness now. Exactly one of ``roughness``, ``hazen_williams_c`` and
+        ``field_test`` describes the condition.
+    hazen_williams_c : float, optional
+        Hazen–Williams C now; converted to an equivalent roughness at the largest year-1 duty.
+    field_test : FieldTest, optional
+        A field test from which the roughness is back-calculated.
+    aging : str or Quantity, optional
+        Roughness growth from now on, e.g. ``"0.08 mm/yr"``.
+    age : float, optional
+        Years in service (for reports).
+    breaks_per_year, break_growth, break_cost : float
+        Breaks per year now, their exponential growth rate A [1/yr] and the cost of a repair.
+    leakage_cost, leakage_growth : float
+        Cost of lost water per year now and its growth per year.
+    """
+
+    SECTION = "existing"
+    length: float = quantity("length", low=0.0, low_open=True)
+    static_head: float = quantity("head")
+    material: str = text()
+    inner_diameter: float | None = quantity("diameter", low=0.0, low_open=True, default=None)
+    size: str | None = text(default=None)
+    bore_loss: float | None = quantity("diameter", low=0.0, default=None)
+    bore_as_laid: float | None = quantity("diameter", low=0.0, low_open=True, default=None)
+    minor_loss_k: float = number(0.0, 1e4, default=0.0)
+    roughness: float | None = quantity("roughness", low=0.0, default=None)
+    hazen_williams_c: float | None = number(20.0, 160.0, default=None)
+    field_test: FieldTest | None = section(FieldTest, default=None)
+    aging: float | None = quantity("aging_rate", low=0.0, default=None)
+    age: float | None = number(0.0, 300.0, default=None)
+    breaks_per_year: float = number(0.0, 1e5, default=0.0)
+    break_growth: float = number(-0.5, 0.5, default=0.0)
+    break_cost: float = number(0.0, 1e9, default=0.0)
+    leakage_cost: float = number(0.0, 1e10, default=0.0)
+    leakage_growth: float = number(-0.5, 0.5, default=0.0)
+
+    def _check(self, path: str) -> None:
+        if self.inner_diameter is None and self.size is None:
+            raise InputError(f"{path}: give inner_diameter, or size (and bore_loss)")
+        given = [x is not None for x in (self.roughness, self.hazen_williams_c, self.field_test)]
+        if sum(given) != 1:
+            raise InputError(f"{path}: give exactly one of roughness, hazen_williams_c and "
+                             f"field_test to describe the line's condition")
+        if self.aging is None:
+            object.__setattr__(self, "aging", SI(0.0))
+        if self.bore_loss is None:
+            object.__setattr__(self, "bore_loss", SI(0.0))
+
+
+@dataclass(frozen=True)
+class UpgradeOption(InputSection):
+    """One way to act on the line.
+
+    Parameters
+    ----------
+    kind : {"reline", "replace", "duplicate"}
+        What is done.
+    name : str, optional
+        Label (default: the kind).
+    year : int
+        Year of action a (0 = now); the new state serves from year a + 1.
+    cost_per_metre : float, optional
+        Capital per metre of line. Or give ``cost`` (a power law in the new inner diameter).
+    cost : PowerLawPipeCost or dict, optional
+        ``{"coefficient": a, "exponent": n}``.
+    liner_thickness : str or Quantity
+        ``reline``: liner thickness; the new bore is the cleaned bore minus twice this.
+    liner_roughness : str or Quantity
+        ``reline``: roughness of the liner (default: the catalog's cement-mortar lining).
+    cleaned_bore : str or Quantity, optional
+        ``reline``: the bore after cleaning (default: the line's bore as laid).
+    cleaning_cost_per_metre : float
+        ``reline``: capital per metre of cleaning the bore before lining (reported apart).
+    material : str
+        ``replace``/``duplicate``: catalog material of the new pipe.
+    size : str
+        ``replace``/``duplicate``: catalog designation, or ``"same"`` (``replace``: the bore of
+        the line as laid).
+    inner_diameter : str or Quantity, optional
+        ``replace``/``duplicate``: the new bore, instead of ``size``.
+    roughness, aging : str or Quantity, optional
+        New roughness and its growth (defaults: the catalog material's roughness, no aging).
+    life : float, optional
+        Life of the new asset [yr] for its residual value (default: economics.pipe_life).
+    maintenance : float
+        Yearly maintenance of the new asset as a fraction of its capital.
+    break_factor : float, optional
+        Share of the old line's breaks that continue after the action (defaults: reline 1,
+        replace 0, duplicate 1).
+    leakage_factor : float, optional
+        Share of the leakage cost that continues (defaults: reline 1, replace 0, duplicate 1).
+    minor_loss_k : float, optional
+        ``duplicate``: ΣK of the new line (default: that of the existing line).
+    """
+
+    SECTION = "option"
+    kind: str = text(OPTION_KINDS)
+    name: str | None = text(default=None)
+    year: int = whole(0, 199, default=0)
+    cost_per_metre: float | None = number(0.0, 1e9, default=None)
+    cost: PowerLawPipeCost | None = section(PowerLawPipeCost, default=None)
+    cleaning_cost_per_metre: float = number(0.0, 1e9, default=0.0)
+    liner_thickness: float | None = quantity("length", low=0.0, low_open=True, default=None)
+    liner_roughness: float | None = quantity("roughness", low=0.0, default=None)
+    cleaned_bore: float | None = quantity("diameter", low=0.0, low_open=True, default=None)
+    material: str | None = text(default=None)
+    size: str | None = text(default=None)
+    inner_diameter: float | None = quantity("diameter", low=0.0, low_open=True, default=None)
+    roughness: float | None = quantity("roughness", low=0.0, default=None)
+    aging: float | None = quantity("aging_rate", low=0.0, default=None)
+    life: float | None = number(0.0, 1e12, low_open=True, default=None)
+    maintenance: float = number(0.0, 1.0, default=0.0)
+    break_factor: float | None = number(0.0, 1.0, default=None)
+    leakage_factor: float | None = number(0.0, 1.0, default=None)
+    minor_loss_k: float | None = number(0.0, 1e4, default=None)
+
+    def _check(self, path: str) -> None:
+        where = f"option {self.name or self.kind!r}"
+        if isinstance(self.cost, dict):
+            object.__setattr__(self, "cost", _cost_model(self.cost, f"{path}.cost"))
+        if (self.cost_per_metre is None) == (self.cost is None):
+            raise InputError(f"{where}: give cost_per_metre or cost (one of them)")
+        if self.kind == "reline":
+            if self.liner_thickness is None:
+                raise InputError(f"{where}: liner_thickness is required for a reline")
+            for key in ("material", "size", "inner_diameter"):
+                if getattr(self, key) is not None:
+                    raise InputError(f"{where}: {key} is not used by a reline (it keeps the "
+                                     f"line and lines it); give cleaned_bore for the bore after "
+                                     f"cleaning")
+        else:
+            for key in ("liner_thickness", "liner_roughness", "cleaned_bore"):
+                if getattr(self, key) is not None:
+                    raise InputError(f"{where}: {key} is for a reline, not a {self.kind}")
+            if self.cleaning_cost_per_metre:
+                raise InputError(f"{where}: cleaning_cost_per_metre is for a reline")
+            if self.material is None:
+                raise InputError(f"{where}: material is required for a {self.kind}")
+            if (self.size is None) == (self.inner_diameter is None):
+                raise InputError(f"{where}: give size or inner_diameter (one of them)")
+            if self.size == "same" and self.kind != "replace":
+                raise InputError(f"{where}: size 'same' is for a replace")
+        defaults = {"reline": (1.0, 1.0), "replace": (0.0, 0.0), "duplicate": (1.0, 1.0)}
+        bf, lf = defaults[self.kind]
+        object.__setattr__(self, "name", self.name or self.kind)
+        if self.break_factor is None:
+            object.__setattr__(self, "break_factor", bf)
+        if self.leakage_factor is None:
+            object.__setattr__(self, "leakage_factor", lf)
+        if self.aging is None:
+            object.__setattr__(self, "aging", SI(0.0))
+
+
+# --------------------------------------------------------------------------------------------
+# readers
+# --------------------------------------------------------------------------------------------
+_COMMON = ("study", "fluid", "duty", "growth", "pumping", "energy", "pump_station",
+           "economics", "catalog", "uncertainty")
+
+
+def _read_duty(top: Section) -> DutyProfile:
+    flows, hours, names = [], [], []
+    for d in top.tables("duty", ("flow", "hours", "name")):
+        for key in ("flow", "hours"):
+            d.required(key)
+        flows.append(d.raw("flow"))
+        hours.append(d.raw("hours"))
+        names.append(d.raw("name", f"duty {len(names) + 1}"))
+    gr = top.table("growth", ("flow_per_year", "design_year", "flow_cap"))
+    g = {} if gr is None else {"growth": gr.raw("flow_per_year", 0.0),
+                               "design_year": gr.raw("design_year"),
+                               "flow_cap": gr.raw("flow_cap")}
+    return DutyProfile(tuple(flows), tuple(hours), names=tuple(names), **g)
+
+
+def _read_catalog(top: Section, base: Path) -> Catalog:
+    cat = top.table("catalog", ("sizes", "materials"))
+    if not cat:
+        return default_catalog()
+    sizes_path = cat.text("sizes")
+    mats_path = cat.text("materials")
+    return load_catalog(sizes=base / sizes_path if sizes_path else None,
+                        materials=base / mats_path if mats_path else None)
+
+
+def read_common(top: Section, base: Path) -> dict[str, Any]:
+    """The sections a sizing and an upgrade study share, checked, as input sections.
+
+    ``[study]``, ``[fluid]`` (a :class:`FluidSpec`, not yet evaluated), ``[[duty]]`` and
+    ``[growth]``, ``[pumping]``, ``[energy]``, ``[pump_station]``, ``[economics]``,
+    ``[catalog]`` (paths relative to ``base``) and the raw ``[uncertainty]`` table.
+    """
+    station = top.table("pump_station", PumpStationCost.keys())
+    return {
+        "info": StudyInfo.read(top.table("study", StudyInfo.keys())),
+        "fluid": FluidSpec.read(top.table("fluid", FluidSpec.keys(), required=True)),
+        "duty": _read_duty(top),
+        "pumping": Pumping.read(top.table("pumping", Pumping.keys(), required=True)),
+        "energy": EnergyTariff.read(top.table("energy", EnergyTariff.keys(), required=True)),
+        "pump_station": None if station is None else PumpStationCost.read(station),
+        "economics": Economics.read(top.table("economics", Economics.keys(), required=True)),
+        "catalog": _read_catalog(top, base),
+        "uncertainty": top.raw("uncertainty"),
+    }
+
+
+def _materials_known(materials: list[MaterialChoice], secs: list[Section],
+                     catalog: Catalog) -> None:
+    for m, sec in zip(materials, secs, strict=True):
+        try:
+            catalog.material(m.name)
+        except InputError as exc:
+            raise StudyFileError(f"{sec.key('name')}: {exc}") from None
+
+
+def read_sizing(mapping: dict, base: Path) -> dict[str, Any]:
+    """Every section of a sizing study file, checked; the fluid not yet evaluated."""
+    top = Section(mapping, "", (*_COMMON, "line", "material", "constraints", "carbon",
+                                "hydraulics"))
+    out = read_common(top, base)
+    out["line"] = Line.read(top.table("line", Line.keys(), required=True))
+    secs = top.tables("material", MaterialChoice.keys())
+    out["materials"] = tuple(MaterialChoice.read(s) for s in secs)
+    _materials_known(list(out["materials"]), secs, out["catalog"])
+    out["constraints"] = Constraints.read(top.table("constraints", Constraints.keys()))
+    carbon = top.table("carbon", Carbon.keys())
+    out["carbon"] = None if carbon is None else Carbon.read(carbon)
+    out["hydraulics"] = Hydraulics.read(top.table("hydraulics", Hydraulics.keys()))
+    return out
+
+
+def read_upgrade(mapping: dict, base: Path) -> dict[str, Any]:
+    """Every section of an upgrade study file, checked; the fluid not yet evaluated."""
+    top = Section(mapping, "", (*_COMMON, "existing", "option"))
+    out = read_common(top, base)
+    ex = top.table("existing", ExistingLine.keys(), required=True)
+    out["existing"] = ExistingLine.read(ex)
+    try:
+        out["catalog"].material(out["existing"].material)
+    except InputError as exc:
+        raise StudyFileError(f"existing.material: {exc}") from None
+    options = []
+    for sec in top.tables("option", UpgradeOption.keys()):
+        opt = UpgradeOption.read(sec)
+        if opt.material is not None:
+            try:
+                out["catalog"].material(opt.material)
+            except InputError as exc:
+                raise StudyFileError(f"{sec.key('material')}: {exc}") from None
+        options.append(opt)
+    out["options"] = tuple(options)
+    return out
