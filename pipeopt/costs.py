@@ -13,6 +13,7 @@ from typing import Any
 import numpy as np
 
 from ._arrays import as_float_arrays, restore
+from .economics import growth_factors
 from .errors import InputError
 from .fields import InputSection, number, numbers, whole
 
@@ -177,9 +178,8 @@ class EnergyTariff(InputSection):
         """Energy price of years 1…N [currency/kWh], shape (N,), or (S, N) for per-sample
         ``price`` and ``escalation`` arrays (S,)."""
         p = np.asarray(self.price if price is None else price, dtype=float)
-        e = np.asarray(self.escalation if escalation is None else escalation, dtype=float)
-        t = np.arange(years, dtype=float)
-        return p[..., None] * np.exp(t * np.log1p(e)[..., None])
+        e = self.escalation if escalation is None else escalation
+        return p[..., None] * growth_factors(e, years)
 
     def yearly_cost(self, energy_kwh: Any, peak_kw: Any) -> np.ndarray:
         """Energy cost of each year, C_E,t = E_t p (1+e)^(t−1) + d P̂_t, along the last axis.

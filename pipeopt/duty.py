@@ -20,6 +20,7 @@ from typing import Any
 
 import numpy as np
 
+from .economics import growth_factors
 from .errors import InputError
 from .fields import InputSection, number, numbers, quantities, quantity, texts, whole
 
@@ -58,12 +59,11 @@ def flow_multipliers(years: int, growth: Any, flow_factor: Any = 1.0,
     >>> flow_multipliers(4, 0.1, cap_ratio=1.15).round(3).tolist()
     [1.0, 1.1, 1.15, 1.15]
     """
-    g = np.asarray(growth, dtype=float)
     f = np.asarray(flow_factor, dtype=float)
-    t = np.arange(years, dtype=float)
-    if design_year is not None:
-        t = np.minimum(t, design_year - 1)
-    m = f[..., None] * np.exp(t * np.log1p(g)[..., None])
+    grown = growth_factors(growth, years)
+    if design_year is not None and design_year < years:  # the flows stay after T_d
+        grown = grown[..., np.minimum(np.arange(years), design_year - 1)]
+    m = f[..., None] * grown
     if cap_ratio is not None:
         m = np.minimum(m, cap_ratio)
     return m

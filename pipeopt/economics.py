@@ -32,6 +32,7 @@ __all__ = [
     "internal_rate_of_return",
     "IRRResult",
     "straight_line_residual",
+    "growth_factors",
 ]
 
 
@@ -106,6 +107,31 @@ def discount_factor(rate: Any, year: Any) -> Any:
     (i, t), tpl = as_float_arrays(rate, year)
     _check_rate(i)
     return restore(np.exp(-t * np.log1p(i)), tpl)
+
+
+def growth_factors(rate: Any, years: int) -> np.ndarray:
+    """(1 + r)^(t − 1) for study years t = 1 … N: an amount of year 1 escalating at ``rate``.
+
+    Parameters
+    ----------
+    rate : float or array_like, shape (S,)
+        Yearly growth or escalation r [1/yr], greater than −1; an array gives one row per value.
+    years : int
+        Number of study years N.
+
+    Returns
+    -------
+    ndarray, shape (N,) or (S, N)
+        Factors on the year-1 amount [-].
+
+    Examples
+    --------
+    >>> growth_factors(0.1, 3).round(4).tolist()
+    [1.0, 1.1, 1.21]
+    """
+    r = np.asarray(rate, dtype=float)
+    _check_rate(r, "rate")
+    return np.exp(np.arange(years, dtype=float) * np.log1p(r)[..., None])
 
 
 def straight_line_residual(age: Any, life: Any) -> Any:

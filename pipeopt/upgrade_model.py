@@ -29,7 +29,7 @@ from typing import Any
 import numpy as np
 
 from .cashflow import CashFlows, Timeline, station_stages
-from .economics import straight_line_residual
+from .economics import growth_factors, straight_line_residual
 from .hydraulics import parallel_split, pipe_hydraulics, pumping
 from .renewal import break_counts
 
@@ -175,7 +175,7 @@ def upgrade_cash_flows(s: Any, ex: ExistingCondition, state: LineState | None,
     old_breaks = (break_counts(ex.breaks_per_year, v["break_growth"], n)
                   * ex.break_cost * v["break_cost_factor"][:, None])            # (S, N)
     old_leak = (ex.leakage_cost * v["leakage_cost_factor"][:, None]
-                * np.exp(np.arange(n) * np.log1p(ex.leakage_growth))[None, :])  # (S, N)
+                * growth_factors(ex.leakage_growth, n)[None, :])                # (S, N)
     t = timeline.years[None, None, :]
     at_action = t == a[None, :, None]                                           # (1, A, N+1)
     at_end = t == timeline.horizon[:, None, None]                               # (S, 1, N+1)

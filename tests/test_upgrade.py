@@ -235,3 +235,35 @@ def test_upgrade_rich_display():
     html = st._repr_html_()
     assert "Upgrade study" in html and "<table" in html and "back-calculated" in html
     assert "<table" in st.run()._repr_html_()
+
+
+def test_cash_flow_tables_reconcile_and_reline_cleans_first():
+    res = UpgradeStudy.demo().run()
+    cf = res.cash_flows
+    rows = ["capital", "cleaning", "station", "energy_cost", "breaks", "leakage",
+            "maintenance", "residual"]
+    for _, r in res.summary.iterrows():
+        t = cf[cf["option"] == r["option"]]
+        # every table reconciles: rows add up to the total, discounted rows to the PV
+        np.testing.assert_allclose(t[rows].sum(axis=1), t["total"], rtol=1e-12, atol=1e-6)
+        assert t["discounted"].sum() == pytest.approx(r["pv_cost"], rel=1e-9)
+        np.testing.assert_allclose(t["discounted"], t["total"] / 1.04 ** t["year"], rtol=1e-13)
+    # the reline cleans back to the bore as laid (300 mm in the demo file), then lines it:
+    # 300 - 2 x 6 = 288 mm, not the tuberculated 280 - 12 = 268 mm
+    st = res.study
+    reline = [o for o in st.states if o.kind == "reline"][0]
+    assert reline.state.diameter == pytest.approx(0.300 - 2 * 0.006, abs=1e-12)
+    t = cf[cf["option"] == "reline"].set_index("year")
+    assert t.loc[0, "capital"] == pytest.approx(260.0 * 3800.0)
+    assert t.loc[0, "cleaning"] == pytest.approx(35.0 * 3800.0)
+
+
+def test_cli_best_year_of_every_option(capsys):
+    from pipeopt.cli import main
+
+    assert main(["upgrade", str(DATA / "upgrade_small.toml"), "--best-year"]) == 0
+    out = capsys.readouterr().out
+    st = UpgradeStudy.from_toml(DATA / "upgrade_small.toml")
+    for opt in st.states:
+        b = st.best_year(opt.name)
+        assert f"{opt.name:<20} year {b.year:>3}" in out
