@@ -275,7 +275,7 @@ def ductile_rows(tables: dict, k_classes: bool = False) -> list[dict]:
             for c in DUCTILE_CLASSES]
         k_rows = [(f"K{k}", None, k_class_wall_mm(dn, k), (
             "wall rule: ISO 2531:1998 K (0.5 + 0.001 DN), >= 6.0 mm, rounded up to 0.1 mm "
-            "(from memory); no rating bundled: pressure not checked")) for k in K_CLASSES]
+            "(from memory)")) for k in K_CLASSES]
         if k_classes:
             classes = k_rows
         for label, pfa, wall, wall_src in classes:
@@ -288,6 +288,8 @@ def ductile_rows(tables: dict, k_classes: bool = False) -> list[dict]:
                     "; equals the rule" if rule == wall else f"; the rule gives {fmt(rule)}")
             if pfa is not None and DUCTILE_PREFERRED[dn] == pfa:
                 wall_src += "; preferred class"
+            if pfa is None:
+                wall_src += "; no rating bundled: pressure not checked"
             rows.append({
                 "designation": f"DN {dn} {label}", "nominal": f"DN {dn}",
                 "pressure_class": label, "outside_diameter_mm": fmt(od), "wall_mm": fmt(wall),
