@@ -25,9 +25,6 @@ __all__ = ["Check", "CHECKS", "run_checks", "half_unit", "COLEBROOK_ROOTS", "WAT
            "R12_08_VERIFICATION", "CRF_VALUES", "WAVE_SPEED_CASES", "HAZEN_WILLIAMS",
            "PVC_PN_BY_SDR", "standard_tables", "catalog_reference_values"]
 
-REFERENCES_DOC = "docs/references.md"
-
-
 def half_unit(text: str) -> float:
     """Half a unit in the last digit of a number as printed: ``"0.0802426"`` -> 5e-8."""
     exponent = Decimal(text).as_tuple().exponent

@@ -270,8 +270,8 @@ def ductile_rows(tables: dict, k_classes: bool = False) -> list[dict]:
         od_src = f"outside diameter {_table_note(od_entry)}"
         lin_src = "lining EN 545:2010 / ISO 4179 by DN range (from memory)"
         classes = [(f"C{c}", c, ductile_wall_mm(dn, od, c), (
-            f"wall rule: EN 545:2010 e_min = PFA SF DE/(20 Rm + PFA SF), SF 3, Rm 420 MPa, "
-            f">= 3.0 mm, + (1.3 + 0.001 DN), rounded up to 0.1 mm (from memory)"))
+            "wall rule: EN 545:2010 e_min = PFA SF DE/(20 Rm + PFA SF), SF 3, Rm 420 MPa, "
+            ">= 3.0 mm, + (1.3 + 0.001 DN), rounded up to 0.1 mm (from memory)"))
             for c in DUCTILE_CLASSES]
         k_rows = [(f"K{k}", None, k_class_wall_mm(dn, k), (
             "wall rule: ISO 2531:1998 K (0.5 + 0.001 DN), >= 6.0 mm, rounded up to 0.1 mm "

@@ -1,6 +1,7 @@
 """Tests of pipeopt.uncertainty: tornado, switching values, Monte Carlo.
 
-Checks with known answers (sources: the model's linearity in the energy price, MODEL.md; the
+Checks with known answers (sources: the model's linearity in the energy price,
+DEVELOPERS.md#the-sizing-model-in-words; the
 distributions' CDFs from scipy.stats; the 1/sqrt(N) law of Monte Carlo error, any statistics
 text, common practice).
 """
@@ -37,7 +38,7 @@ def two_study(**over) -> SizingStudy:
 
 
 def break_even_price(study) -> float:
-    """EAC is linear in the energy price p (MODEL.md): EAC_c(p) = A_c + B_c p. Two evaluations
+    """EAC is linear in the energy price p (DEVELOPERS.md): EAC_c(p) = A_c + B_c p. Two evaluations
     give A and B of each candidate; the break-even price is (A_1 - A_0) / (B_0 - B_1)."""
     e1 = study.evaluate(study.scenario).eac
     s2 = study.scenario.__class__(**{**study.scenario.__dict__,
