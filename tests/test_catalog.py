@@ -102,6 +102,7 @@ def test_steel_covers_nps_half_to_48_in_the_schedules():
     assert {"Sch 10", "STD", "Sch 40", "XS", "Sch 80"} <= classes
 
 
+@pytest.mark.reference
 def test_stainless_b36_19m():
     # ASME B36.19M Table 1 (from memory): NPS 4 Sch 10S wall 3.05 mm, OD 114.3 mm as B36.10M.
     row = catalog.lookup("stainless-steel", "NPS 4 Sch 10S")
@@ -299,6 +300,7 @@ def test_filters_and_units():
         catalog.list_sizes("pe100", pressure_class="SDR 99")
 
 
+@pytest.mark.reference
 def test_steel_rating_by_barlow_and_override():
     row = catalog.lookup("steel", "NPS 4 Sch 40")
     # Barlow with the defaults (S 137.9 MPa, E 1, c 1.5 mm, 12.5 % mill tolerance), by hand:

@@ -43,6 +43,7 @@ def test_crf_zero_rate_and_small_rates():
     assert ec.capital_recovery_factor(1e-9, 25) == pytest.approx(1 / 25 + 0.5e-9, rel=1e-9)
 
 
+@pytest.mark.reference
 def test_crf_kinds():
     s = pd.Series([0.05, 0.08], index=["a", "b"])
     out = ec.capital_recovery_factor(s, 20)
@@ -50,6 +51,27 @@ def test_crf_kinds():
     assert isinstance(ec.capital_recovery_factor(0.05, 20), float)
     np.testing.assert_allclose(ec.capital_recovery_factor([0.05, 0.0], [20, 20]),
                                [_mp_crf(0.05, 20), 0.05], rtol=1e-14)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("i", "n", "a_p", "p_a"), [
+    # compound-interest tables of engineering-economy texts, 4 or 5 decimals (from memory)
+    (0.06, 10, "0.13587", "7.3601"), (0.10, 10, "0.16275", "6.1446"),
+    (0.08, 20, "0.10185", "9.8181")])
+def test_interest_table_values(i, n, a_p, p_a):
+    assert abs(ec.capital_recovery_factor(i, n) - float(a_p)) <= ref.half_unit(a_p)
+    assert abs(ec.present_worth_of_series(1.0, i, n) - float(p_a)) <= ref.half_unit(p_a)
+
+
+@pytest.mark.reference
+def test_numpy_financial_documentation_example():
+    # numpy-financial's documented example (from memory): npv(0.281, [-100, 39, 59, 55, 20])
+    # is -0.0084785916384548798 and irr of the same flows 0.28094842115996066
+    flows = [-100.0, 39.0, 59.0, 55.0, 20.0]
+    assert ec.net_present_value(flows, 0.281) == pytest.approx(-0.0084785916384548798,
+                                                               rel=1e-9)
+    assert ec.internal_rate_of_return(flows).rate == pytest.approx(0.28094842115996066,
+                                                                   rel=1e-12)
 
 
 @pytest.mark.reference

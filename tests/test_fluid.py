@@ -59,10 +59,25 @@ def test_water_bulk_modulus_is_rho_w_squared():
     assert Fluid.water("20 degC").bulk_modulus == pytest.approx(ref95.rho * ref95.w**2, rel=1e-5)
 
 
+@pytest.mark.reference
+def test_water_steam_table_points():
+    # steam tables (IAPWS-95; values from memory): saturation pressure at 100 degC 101.418 kPa
+    # (printed to 3 decimals), density maximum near 4 degC 999.975 kg/m3 (3 decimals), kinematic
+    # viscosity at 20 degC 1.0034e-6 m2/s (5 significant digits)
+    w100 = Fluid.water("99 degC")  # liquid at 1 atm just below boiling
+    assert w100.vapour_pressure < 101325.0
+    assert Fluid.water("100 degC", "2 bar").vapour_pressure == pytest.approx(101418, abs=0.5)
+    assert Fluid.water("4 degC").density == pytest.approx(999.975, abs=0.0005)
+    assert Fluid.water("20 degC").kinematic_viscosity == pytest.approx(1.0034e-6, abs=5e-11)
+
+
+@pytest.mark.reference
 def test_water_refuses_vapour_and_bare_numbers():
     with pytest.raises(FluidStateError, match=r"not liquid at 150\.00 degC"):
         Fluid.water("150 degC")
-    assert Fluid.water("150 degC", "10 bar").density > 900  # liquid under pressure
+    # liquid under pressure: IAPWS-95 through the independent iapws package (to 2e-6)
+    assert Fluid.water("150 degC", "10 bar").density == pytest.approx(
+        iapws.IAPWS95(T=423.15, P=1.0).rho, rel=2e-6)
     with pytest.raises(InputError, match=r"fluid\.temperature: expected a temperature such as"):
         Fluid.water(15)
     with pytest.raises(InputError, match=r"fluid\.temperature: expected a temperature .* kg"):
