@@ -349,6 +349,15 @@ def test_hazen_williams_engineering_toolbox_example():
 
 
 @pytest.mark.reference
+def test_hazen_williams_is_the_published_si_form():
+    # h = 10.67 L Q^1.852 / (C^1.852 D^4.8704), the SI form as printed (docs/references.md#
+    # friction), evaluated here by hand: pipeopt must be exactly this form, constant included
+    for q, d, length, c in [(0.1, 0.3, 1000.0, 130.0), (0.02, 0.1, 250.0, 150.0)]:
+        want = 10.67 * length * q**1.852 / (c**1.852 * d**4.8704)
+        assert fr.hazen_williams_head_loss(q, d, length, c) == pytest.approx(want, rel=1e-14)
+
+
+@pytest.mark.reference
 def test_hazen_williams_si_matches_us_customary_form():
     # US customary form h = 4.727 L Q^1.852 / (C^1.852 D^4.8704), ft and ft^3/s (Williams &
     # Hazen's form as quoted in water-supply handbooks, docs/references.md#friction). 10.67 is
