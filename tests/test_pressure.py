@@ -45,6 +45,14 @@ def test_pn_from_sdr_pe100(sdr, pn):
     assert pn_from_sdr(sdr, 10e6) / 1e5 == pytest.approx(pn, rel=1e-14)
 
 
+@pytest.mark.reference
+def test_pn_from_sdr_pe80():
+    # PE 80 (MRS 8 MPa), C = 1.25: 20 * 8 / (1.25 * 10) = 12.8 bar for SDR 11, which the
+    # standard's R10 series rounds down to PN 12.5 (ISO 4427-1, from memory); SDR 17: 8.0
+    assert pn_from_sdr(11, 8e6) / 1e5 == pytest.approx(12.8, rel=1e-14)
+    assert pn_from_sdr(17, 8e6) / 1e5 == pytest.approx(8.0, rel=1e-14)
+
+
 def test_pn_errors():
     with pytest.raises(InputError, match="sdr must be greater than 1"):
         pn_from_sdr(1.0, 10e6)

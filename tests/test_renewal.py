@@ -41,6 +41,19 @@ def test_shamir_howard_closed_form():
     assert shamir_howard_replacement_time(50.0, 0.08, 1e4, 1e5, 0.05) == 0.0
 
 
+@pytest.mark.reference
+def test_shamir_howard_by_brute_force():
+    # The present value of repairs until T plus the replacement at T, with continuous
+    # discounting at r = ln(1+R) (Shamir & Howard 1979): PV(T) = int_0^T Cb N0 e^{(A-r)t} dt
+    # + Cr e^{-rT}, here in closed form and minimised over a 0.001-year grid by enumeration
+    n0, a, cb, cr, rate = 2.0, 0.08, 1e4, 1.5e6, 0.05
+    r = math.log1p(rate)
+    grid = [k / 1000 for k in range(0, 40001)]
+    pv = [cb * n0 * math.expm1((a - r) * t) / (a - r) + cr * math.exp(-r * t) for t in grid]
+    best = grid[pv.index(min(pv))]
+    assert shamir_howard_replacement_time(n0, a, cb, cr, rate) == pytest.approx(best, abs=1e-3)
+
+
 def test_errors():
     with pytest.raises(InputError, match="breaks_per_year"):
         break_counts(-1.0, 0.05, 3)
