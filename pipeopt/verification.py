@@ -1,26 +1,167 @@
-"""Verification record: every published reference check pipeopt relies on, in one list.
+"""Verification record: every published reference value pipeopt is checked against, in one place.
 
-``pipeopt verify`` prints the table (check, source, expected, computed, tolerance, pass) and
-exits non-zero when any check fails; the test suite asserts the same table from the same
-definitions (:data:`CHECKS`). Values that a source gives only "from memory" say so.
+This module is the single home of the reference data: the tests parametrise from the tables
+below (and from ``pipeopt/data/standard_tables.csv`` for the pipe standards), and
+``pipeopt verify`` prints :data:`CHECKS` (check, source, expected, computed, tolerance, pass)
+and exits non-zero when any check fails. Each value names its source, recorded with the values
+in the repository's ``docs/references.md`` (the anchor is given with each table); values a
+source gives only "from memory" say so. A tolerance is never looser than the precision of the
+source: a value printed to n decimals is held to half a unit of its last digit
+(:func:`half_unit`), unless a stated reason (the rounding of a published constant) says more.
 """
 
 from __future__ import annotations
 
+import io
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
+from decimal import Decimal
+from importlib import resources
 
 import pandas as pd
 
-__all__ = ["Check", "CHECKS", "run_checks"]
+__all__ = ["Check", "CHECKS", "run_checks", "half_unit", "COLEBROOK_ROOTS", "WATER_AMBIENT",
+           "R12_08_VERIFICATION", "CRF_VALUES", "WAVE_SPEED_CASES", "HAZEN_WILLIAMS",
+           "PVC_PN_BY_SDR", "standard_tables", "catalog_reference_values"]
+
+def half_unit(text: str) -> float:
+    """Half a unit in the last digit of a number as printed: ``"0.0802426"`` -> 5e-8."""
+    exponent = Decimal(text).as_tuple().exponent
+    return 0.5 * 10.0 ** int(exponent)
 
 
+# ------------------------------------------------------------------------------------------
+# reference data (docs/references.md, one section each)
+# ------------------------------------------------------------------------------------------
+#: Colebrook-White roots (3.7 / 2.51 form), as (Re, eps/D, f printed to 10 decimals): the root
+#: of Colebrook's (1939) equation to 40 digits with mpmath, rounded (docs/references.md#friction).
+#: A check of the solver, not of the equation.
+COLEBROOK_ROOTS = [(4e3, 0.0, "0.0399070141"), (1e4, 0.0, "0.0308829504"),
+                   (1e4, 1e-3, "0.0323818064"), (1e5, 0.0, "0.0179897731"),
+                   (1e5, 1e-4, "0.0185138661"), (1e5, 1e-2, "0.0385035435"),
+                   (1e6, 1e-4, "0.0134414377"), (1e6, 1e-3, "0.0199434658"),
+                   (1e7, 1e-3, "0.0196670524"), (1e8, 0.05, "0.0715509041")]
+COLEBROOK_SOURCE = ("Colebrook (1939) equation, 40-digit mpmath root rounded to 10 decimals "
+                    "(docs/references.md#friction)")
+
+#: Liquid water at 0.101325 MPa, IAPWS-95 density and IAPWS R12-08 viscosity, as
+#: (t [degC], density [kg/m3] to 4 decimals, viscosity [Pa s] to 6 significant digits)
+#: (docs/references.md#water-properties).
+WATER_AMBIENT = [(15.0, "999.1026", "1.13757e-3"), (20.0, "998.2072", "1.00160e-3"),
+                 (25.0, "997.0476", "0.890022e-3")]
+WATER_SOURCE = "IAPWS-95 and IAPWS R12-08 at 1 atm (docs/references.md#water-properties)"
+
+#: IAPWS R12-08 verification values for liquid states, as (T [K], rho [kg/m3], mu [uPa s]).
+R12_08_VERIFICATION = [(298.15, 998.0, "889.735100"), (298.15, 1200.0, "1437.649467"),
+                       (373.15, 1000.0, "307.883622"), (433.15, 1000.0, "217.685358")]
+R12_08_SOURCE = "IAPWS R12-08 (2008), verification table (docs/references.md#water-properties)"
+
+#: Capital recovery factor i(1+i)^n/((1+i)^n - 1), as (i, n, CRF to 7 decimals)
+#: (docs/references.md#economics).
+CRF_VALUES = [(0.05, 20, "0.0802426"), (0.08, 30, "0.0888274"), (0.03, 50, "0.0388655")]
+CRF_SOURCE = ("CRF = i(1+i)^n/((1+i)^n - 1), DeGarmo, Sullivan & Canada, Engineering Economy, "
+              "values to 7 decimals (docs/references.md#economics)")
+
+#: Korteweg wave speed, K = 2.19 GPa, rho = 998.2 kg/m3, expansion joints (psi = 1), as
+#: (case, D_m/e, E [Pa], nu, thin-wall a [m/s], thick-wall a [m/s]); each a evaluated from the
+#: formula in mpmath at 30 digits and printed to 12 significant digits
+#: (docs/references.md#surge).
+WAVE_SPEED_CASES = [("steel", 30.0, 207e9, 0.30, "1290.49366936", "1287.22429704"),
+                    ("ductile iron", 43.0, 170e9, 0.28, "1188.21761736", "1185.35532348"),
+                    ("PVC-U SDR 21", 20.0, 3.3e9, 0.40, "392.066549924", "384.541208944"),
+                    ("PE 100 SDR 11", 10.0, 1.1e9, 0.45, "323.925918747", "309.524858325")]
+WAVE_SOURCE = ("Korteweg (1878) thin-wall formula; Wylie & Streeter (1993) thick-wall factor "
+               "(from memory); K 2.19 GPa, rho 998.2 kg/m3, evaluated in mpmath "
+               "(docs/references.md#surge)")
+K_WATER, RHO_WAVE = 2.19e9, 998.2
+
+#: Hazen-Williams forms (docs/references.md#friction): the US customary form h = 4.727 L
+#: Q^1.852 / (C^1.852 D^4.8704) (ft, ft3/s) and the SI velocity form V = 0.849 C R^0.63 S^0.54
+#: (m, m/s). pipeopt's SI constant 10.67 is a rounding of the exact conversion of 4.727 (10.674);
+#: the tolerances are the sums of the roundings of the published constants.
+HAZEN_WILLIAMS = {
+    "us_k": 4.727,
+    "si_velocity_k": 0.849,
+    # 10.67 +-0.005 (4.7e-4) plus 4.727 +-0.0005 (1.1e-4)
+    "us_tolerance": 5.8e-4,
+    # 0.849 +-0.0005 (5.9e-4 in V, 1.1e-3 in h), 10.67 (4.7e-4), exponents 1.852 vs 1/0.54 and
+    # 4.8704 vs 2.63/0.54 over 0.01-1 m3/s and 0.1-1 m (up to 8.5e-4 and 1e-4)
+    "si_tolerance": 2.5e-3,
+}
+
+#: PN of PVC-U pipe by SDR, ISO 1452-2 (from memory): design stress 10 MPa (C = 2.5) up to
+#: 90 mm, 12.5 MPa (C = 2.0) above; PN = 10 sigma / S to the nearest R10 value.
+PE_SDR = (26.0, 21.0, 17.0, 13.6, 11.0, 9.0, 7.4)  # the PE series bundled (ISO 4427)
+PVC_PN_BY_SDR = {"up to 90 mm": {41: 5.0, 33: 6.0, 26: 8.0, 21: 10.0, 17: 12.5, 13.6: 16.0},
+                 "above 90 mm": {41: 6.0, 33: 8.0, 26: 10.0, 21: 12.5, 17: 16.0, 13.6: 20.0}}
+
+
+def standard_tables() -> pd.DataFrame:
+    """Recorded published table values of pipe dimensions and ratings.
+
+    Columns ``group``, ``designation``, ``quantity``, ``value``, ``source``, ``basis`` as in
+    ``pipeopt/data/standard_tables.csv`` (docs/references.md#pipe-dimensions).
+    """
+    text = (resources.files("pipeopt") / "data" / "standard_tables.csv").read_text(
+        encoding="utf-8")
+    return pd.read_csv(io.StringIO(text), comment="#", dtype={"value": str})
+
+
+_QUANTITY_COLUMN = {"outside_diameter_mm": "outside_diameter_m", "wall_mm": "wall_m",
+                    "lining_mm": "lining_m", "pressure_rating_bar": "pressure_rating_pa"}
+
+
+def catalog_reference_values() -> pd.DataFrame:
+    """Every recorded table value against the catalog rows it applies to.
+
+    One row per (catalog material, designation, column): ``expected`` (SI), ``printed`` (the
+    table's text), ``source``, ``basis``. A 'thermoplastics' wall applies to ``pe100`` and
+    ``pe80`` (designation ``"d SDR x"``) and to ``pvc-u`` (its PN class for that SDR, from
+    :data:`PVC_PN_BY_SDR`); a ductile-iron outside diameter or lining to every class of that DN
+    in ``ductile-iron`` and ``ductile-iron-k``.
+    """
+    from .catalog import default_catalog
+
+    sizes = default_catalog().all_sizes
+    rows = []
+    for rec in standard_tables().to_dict("records"):
+        factor = 1e5 if rec["quantity"] == "pressure_rating_bar" else 1e-3
+        column = _QUANTITY_COLUMN[rec["quantity"]]
+        targets: list[tuple[str, str]] = []
+        group, des = rec["group"], rec["designation"]
+        if group == "thermoplastics":
+            od, _, sdr = des.partition(" SDR ")
+            if float(sdr) in PE_SDR:
+                targets = [("pe100", des), ("pe80", des)]
+            band = "up to 90 mm" if float(od) <= 90 else "above 90 mm"
+            pn = PVC_PN_BY_SDR[band].get(float(sdr))
+            if pn is not None and float(od) >= 63:
+                targets.append(("pvc-u", f"{od} PN {pn:g}"))
+        elif group == "ductile-iron" and rec["quantity"] != "wall_mm":
+            sel = sizes["material"].isin(["ductile-iron", "ductile-iron-k"]) & (
+                sizes["nominal"] == des)
+            targets = list(zip(sizes.loc[sel, "material"], sizes.loc[sel, "designation"],
+                               strict=True))
+        else:
+            targets = [(group, des)]
+        for material, designation in targets:
+            rows.append({"material": material, "designation": designation, "column": column,
+                         "expected": float(rec["value"]) * factor, "printed": rec["value"],
+                         "unit_factor": factor, "source": rec["source"],
+                         "basis": rec["basis"]})
+    return pd.DataFrame(rows)
+
+
+# ------------------------------------------------------------------------------------------
+# the checks `pipeopt verify` prints
+# ------------------------------------------------------------------------------------------
 @dataclass(frozen=True)
 class Check:
     """One reference check: ``compute()`` must be within ``tolerance`` of ``expected``.
 
     ``relative`` tolerances compare |computed / expected − 1|; absolute ones |computed − expected|.
+    ``why`` says what the tolerance rests on (the printed precision of the source, ...).
     """
 
     area: str
@@ -30,6 +171,7 @@ class Check:
     compute: Callable[[], float]
     tolerance: float
     relative: bool = True
+    why: str = ""
 
 
 def _colebrook(re: float, rr: float) -> Callable[[], float]:
@@ -46,14 +188,6 @@ def _water(t_c: float, what: str) -> Callable[[], float]:
 
         w = Fluid.water(f"{t_c} degC")
         return w.density if what == "density" else w.viscosity
-    return f
-
-
-def _catalog(material: str, designation: str, column: str) -> Callable[[], float]:
-    def f() -> float:
-        from .catalog import lookup
-
-        return float(lookup(material, designation)[column]) * 1000.0
     return f
 
 
@@ -137,93 +271,124 @@ def _r12(t_k: float, rho: float) -> Callable[[], float]:
     return f
 
 
-def _wave(d_over_e: float, modulus: float) -> Callable[[], float]:
+def _wave(d_over_e: float, modulus: float, nu: float, theory: str) -> Callable[[], float]:
     def f() -> float:
         from .surge import wave_speed
 
-        return float(wave_speed(2.19e9, 998.2, d_over_e, 1.0, modulus))
+        return float(wave_speed(K_WATER, RHO_WAVE, d_over_e, 1.0, modulus, nu,
+                                wall_theory=theory))
     return f
 
 
-_COLEBROOK = [(4e3, 0.0, 0.0399070141), (1e4, 0.0, 0.0308829504), (1e4, 1e-3, 0.0323818064),
-              (1e5, 0.0, 0.0179897731), (1e5, 1e-4, 0.0185138661), (1e5, 1e-2, 0.0385035435),
-              (1e6, 1e-4, 0.0134414377), (1e6, 1e-3, 0.0199434658), (1e7, 1e-3, 0.0196670524),
-              (1e8, 0.05, 0.0715509041)]
+def _hw_us_form(q_cfs: float, d_ft: float, l_ft: float, c: float) -> float:
+    """The US customary Hazen-Williams form, head loss in ft."""
+    return HAZEN_WILLIAMS["us_k"] * l_ft * q_cfs**1.852 / (c**1.852 * d_ft**4.8704)
+
+
+def _hw_si_velocity_form(q: float, d: float, length: float, c: float) -> float:
+    """Head loss [m] from the SI velocity form V = 0.849 C R^0.63 S^0.54, solved for S."""
+    v = q / (math.pi * d * d / 4.0)
+    return length * (v / (HAZEN_WILLIAMS["si_velocity_k"] * c * (d / 4.0) ** 0.63)) ** (1 / 0.54)
+
+
+def _hw_code(q: float, d: float, length: float, c: float, to_ft: bool = False) -> Callable:
+    def f() -> float:
+        from .friction import hazen_williams_head_loss
+
+        h = float(hazen_williams_head_loss(q, d, length, c))
+        return h / 0.3048 if to_ft else h
+    return f
+
+
+def _catalog_max_error(materials: tuple[str, ...]) -> Callable[[], float]:
+    """Largest |catalog − recorded table| [mm or bar] over the recorded values of materials."""
+    def f() -> float:
+        from .catalog import default_catalog
+
+        ref = catalog_reference_values()
+        ref = ref[ref["material"].isin(materials)]
+        sizes = default_catalog().all_sizes.set_index(["material", "designation"])
+        got = sizes.loc[list(zip(ref["material"], ref["designation"], strict=True))]
+        values = got.to_numpy()[range(len(ref)),
+                                [list(sizes.columns).index(c) for c in ref["column"]]]
+        err = (values.astype(float) - ref["expected"].to_numpy()) / ref["unit_factor"].to_numpy()
+        return float(abs(err).max())
+    return f
+
+
+def _n_recorded(materials: tuple[str, ...]) -> int:
+    return int(catalog_reference_values()["material"].isin(materials).sum())
+
+
+_HALF = "half a unit of the last printed digit"
 
 CHECKS: list[Check] = [
-    *[Check("friction", f"Colebrook-White f at Re {re:g}, eps/D {rr:g}",
-            "Colebrook (1939) equation, 40-digit root (project REFERENCES, computed)", f_ref,
-            _colebrook(re, rr), 2.6e-9) for re, rr, f_ref in _COLEBROOK],
-    Check("friction", "laminar f at Re 1000", "Hagen-Poiseuille, 64/Re", 0.064,
-          _colebrook(1000.0, 1e-3), 1e-15),
-    Check("friction", "Hazen-Williams: 200 gpm, 3.048 in, C 140, 30 ft",
-          "The Engineering ToolBox worked example: 2.7 ft of head (9 ft per 100 ft, rounded)",
-          2.7, lambda: _hw_example(), 0.04),
-    *[Check("water", f"density at {t:g} degC, 1 atm", "IAPWS-95 (project REFERENCES, computed)",
-            rho, _water(t, "density"), 5e-5, relative=False)
-      for t, rho in [(15.0, 999.1026), (20.0, 998.2072), (25.0, 997.0476)]],
-    *[Check("water", f"viscosity at {t:g} degC, 1 atm",
-            "IAPWS R12-08 (project REFERENCES, computed)", mu, _water(t, "viscosity"), 1e-5)
-      for t, mu in [(15.0, 1.13757e-3), (20.0, 1.00160e-3), (25.0, 0.890022e-3)]],
-    *[Check("water", f"viscosity at {t:g} K, {rho:g} kg/m3 [uPa s]",
-            "IAPWS R12-08 verification table (project REFERENCES)", mu, _r12(t, rho), 1e-6)
-      for t, rho, mu in [(298.15, 998.0, 889.735100), (298.15, 1200.0, 1437.649467),
-                         (373.15, 1000.0, 307.883622), (433.15, 1000.0, 217.685358)]],
-    *[Check("surge", f"Korteweg wave speed, D/e {de:g}, E {e / 1e9:g} GPa [m/s]",
-            "Wylie & Streeter (1993) thin-wall formula, K 2.19 GPa, c1 = 1 (project "
-            "REFERENCES, computed, to the nearest m/s)", a, _wave(de, e), 1.0, relative=False)
-      for de, e, a in [(30.0, 207e9, 1291.0), (43.0, 170e9, 1188.0), (20.0, 3.3e9, 392.0),
-                       (10.0, 1.1e9, 324.0)]],
-    Check("catalog", "NPS 4 outside diameter [mm]", "ASME B36.10M Table 1", 114.3,
-          _catalog("steel", "NPS 4 Sch 40", "outside_diameter_m"), 1e-9, relative=False),
-    Check("catalog", "NPS 4 Sch 40 wall [mm]", "ASME B36.10M Table 1", 6.02,
-          _catalog("steel", "NPS 4 Sch 40", "wall_m"), 1e-9, relative=False),
-    Check("catalog", "NPS 12 outside diameter [mm]", "ASME B36.10M Table 1", 323.8,
-          _catalog("steel", "NPS 12 STD", "outside_diameter_m"), 1e-9, relative=False),
-    Check("catalog", "110 SDR 11 minimum wall [mm]", "ISO 4427-2 / EN 12201-2 Table 2", 10.0,
-          _catalog("pe100", "110 SDR 11", "wall_m"), 1e-9, relative=False),
-    Check("catalog", "315 SDR 11 minimum wall [mm]", "ISO 4427-2 / EN 12201-2 Table 2", 28.6,
-          _catalog("pe100", "315 SDR 11", "wall_m"), 1e-9, relative=False),
-    Check("catalog", "200 SDR 17 minimum wall [mm]", "ISO 4427-2 / EN 12201-2 Table 2", 11.9,
-          _catalog("pe100", "200 SDR 17", "wall_m"), 1e-9, relative=False),
-    Check("catalog", "PE 100 SDR 11 rating [bar]", "ISO 4427-1 / EN 12201-1: PN 16 at C = 1.25",
-          16.0, lambda: _rating_bar("pe100", "110 SDR 11"), 1e-12),
-    Check("catalog", "PE 100 SDR 17 rating [bar]", "ISO 4427-1 / EN 12201-1: PN 10 at C = 1.25",
-          10.0, lambda: _rating_bar("pe100", "200 SDR 17"), 1e-12),
-    *[Check("catalog", f"DN {dn} outside diameter [mm]", "EN 545:2010 Table 16", od,
-            _catalog("ductile-iron", f"DN {dn} C40", "outside_diameter_m"), 1e-9,
-            relative=False)
-      for dn, od in [(80, 98), (200, 222), (400, 429), (600, 635), (1000, 1048)]],
-    *[Check("economics", f"CRF {i * 100:g} %, {n} years",
-            "CRF = i(1+i)^n/((1+i)^n - 1) (project REFERENCES, computed)", crf, _crf(i, n),
-            5e-8, relative=False)
-      for i, n, crf in [(0.05, 20, 0.0802426), (0.08, 30, 0.0888274), (0.03, 50, 0.0388655)]],
-    Check("economics", "CRF at zero rate, 25 years", "straight line, 1/n", 0.04, _crf(0.0, 25),
-          1e-15),
+    *[Check("friction", f"Colebrook-White f at Re {re:g}, eps/D {rr:g}", COLEBROOK_SOURCE,
+            float(f_ref), _colebrook(re, rr), half_unit(f_ref), relative=False, why=_HALF)
+      for re, rr, f_ref in COLEBROOK_ROOTS],
+    Check("friction", "laminar f at Re 1000", "Hagen-Poiseuille, 64/Re "
+          "(docs/references.md#friction)", 0.064, _colebrook(1000.0, 1e-3), 1e-15,
+          why="exact formula; one rounding of 64/Re"),
+    Check("friction", "Hazen-Williams SI form against the US form (3 ft3/s, 1.5 ft, C 120, "
+          "5000 ft) [ft]", "US customary form h = 4.727 L Q^1.852/(C^1.852 D^4.8704) "
+          "(docs/references.md#friction)", _hw_us_form(3.0, 1.5, 5000.0, 120.0),
+          _hw_code(3.0 * 0.3048**3, 1.5 * 0.3048, 5000.0 * 0.3048, 120.0, to_ft=True),
+          HAZEN_WILLIAMS["us_tolerance"], why="roundings of 10.67 and 4.727"),
+    Check("friction", "Hazen-Williams SI form against the SI velocity form (0.1 m3/s, 0.3 m, "
+          "C 130, 1 km) [m]", "V = 0.849 C R^0.63 S^0.54 (Williams & Hazen 1920 in SI units; "
+          "docs/references.md#friction)", _hw_si_velocity_form(0.1, 0.3, 1000.0, 130.0),
+          _hw_code(0.1, 0.3, 1000.0, 130.0), HAZEN_WILLIAMS["si_tolerance"],
+          why="roundings of 0.849, 10.67 and the exponents"),
+    *[Check("water", f"density at {t:g} degC, 1 atm [kg/m3]", WATER_SOURCE, float(rho),
+            _water(t, "density"), half_unit(rho), relative=False, why=_HALF)
+      for t, rho, _ in WATER_AMBIENT],
+    *[Check("water", f"viscosity at {t:g} degC, 1 atm [Pa s]", WATER_SOURCE, float(mu),
+            _water(t, "viscosity"), half_unit(mu), relative=False, why=_HALF)
+      for t, _, mu in WATER_AMBIENT],
+    *[Check("water", f"viscosity at {t:g} K, {rho:g} kg/m3 [uPa s]", R12_08_SOURCE, float(mu),
+            _r12(t, rho), half_unit(mu), relative=False, why=_HALF)
+      for t, rho, mu in R12_08_VERIFICATION],
+    *[Check("surge", f"Korteweg wave speed, {case}, D/e {de:g}, {theory} wall [m/s]",
+            WAVE_SOURCE, float(a), _wave(de, e, nu, theory), half_unit(a), relative=False,
+            why=_HALF)
+      for case, de, e, nu, a_thin, a_thick in WAVE_SPEED_CASES
+      for theory, a in (("thin", a_thin), ("thick", a_thick))],
+    Check("catalog", "PE 100 / PE 80 walls and ratings: largest |catalog - table| [mm, bar]",
+          "ISO 4065 / EN 12201-2 / ISO 4427 tables, recorded in pipeopt/data/standard_tables.csv "
+          "(docs/references.md#pipe-dimensions)", 0.0, _catalog_max_error(("pe100", "pe80")),
+          1e-9, relative=False, why="table values are exact to 0.1 mm"),
+    Check("catalog", "PVC-U walls: largest |catalog - table| [mm]",
+          "ISO 4065 / ISO 1452-2 tables (docs/references.md#pipe-dimensions)", 0.0,
+          _catalog_max_error(("pvc-u",)), 1e-9, relative=False,
+          why="table values are exact to 0.1 mm"),
+    Check("catalog", "ductile iron DE, walls, linings: largest |catalog - table| [mm]",
+          "EN 545:2010 / ISO 2531 tables (docs/references.md#pipe-dimensions)", 0.0,
+          _catalog_max_error(("ductile-iron", "ductile-iron-k")), 1e-9, relative=False,
+          why="table values are exact to 0.1 mm"),
+    Check("catalog", "steel OD and walls: largest |catalog - table| [mm]",
+          "ASME B36.10M / B36.19M Table 1 (docs/references.md#pipe-dimensions)", 0.0,
+          _catalog_max_error(("steel", "stainless-steel")), 1e-9, relative=False,
+          why="table values are exact to 0.01 mm"),
+    *[Check("economics", f"CRF {i * 100:g} %, {n} years", CRF_SOURCE, float(crf), _crf(i, n),
+            half_unit(crf), relative=False, why=_HALF)
+      for i, n, crf in CRF_VALUES],
+    Check("economics", "CRF at zero rate, 25 years", "straight line, 1/n "
+          "(docs/references.md#economics)", 0.04, _crf(0.0, 25), 1e-15,
+          why="exact; one rounding"),
     *[Check("renewal", f"best replacement year, N0 {p[0]:g}, A {p[1]:g}",
             "Shamir & Howard (1979), J. AWWA 71(5): t* = ln(ln(1+R) Cr/(Cb N0))/A (from memory"
-            ", re-derived); within one year", _shamir_howard_expected(*p), _shamir_howard(*p),
-            1.0, relative=False)
+            ", re-derived; docs/references.md#renewal)", _shamir_howard_expected(*p),
+            _shamir_howard(*p), 1.0, relative=False,
+            why="the study scans whole years of action: within one year")
       for p in [(2.0, 0.08, 1e4, 1.5e6, 0.05), (5.0, 0.05, 8e3, 2e6, 0.04)]],
     Check("sizing", "continuous optimum, constant f [m]",
-          "closed form D* = (5B/(mA))^(1/(m+5)) (Genereaux 1937, from memory; REFERENCES)",
-          _closed_form_diameter(), _closed_form("diameter"), 1e-6, relative=False),
-    Check("sizing", "energy over capital charge at D*", "m/5 at the closed-form optimum", 1.4 / 5,
-          _closed_form("ratio"), 1e-6),
+          "closed form D* = (5B/(mA))^(1/(m+5)) (Genereaux 1937, from memory; "
+          "docs/references.md#economics)", _closed_form_diameter(), _closed_form("diameter"),
+          1e-6, relative=False, why="the optimizer's stated tolerance, about 1e-6 m"),
+    Check("sizing", "energy over capital charge at D*", "m/5 at the closed-form optimum "
+          "(docs/references.md#economics)", 1.4 / 5, _closed_form("ratio"), 1e-6,
+          why="follows from the 1e-6 m optimum"),
 ]
-
-
-def _rating_bar(material: str, designation: str) -> float:
-    from .catalog import lookup
-
-    return float(lookup(material, designation)["pressure_rating_pa"]) / 1e5
-
-
-def _hw_example() -> float:
-    from .friction import hazen_williams_head_loss
-
-    q = 200 * 3.785411784e-3 / 60
-    return float(hazen_williams_head_loss(q, 3.048 * 0.0254, 30 * 0.3048, 140.0) / 0.3048)
 
 
 def run_checks(checks: list[Check] | None = None) -> pd.DataFrame:
@@ -238,8 +403,10 @@ def run_checks(checks: list[Check] | None = None) -> pd.DataFrame:
             note = ""
         except Exception as exc:  # noqa: BLE001 - a check that cannot run is a failed check
             value, error, passed, note = math.nan, math.nan, False, f"{type(exc).__name__}: {exc}"
+        why = f" ({c.why})" if c.why else ""
         rows.append({"area": c.area, "check": c.name, "source": c.source,
                      "expected": c.expected, "computed": value,
-                     "tolerance": f"{c.tolerance:g} {'relative' if c.relative else 'absolute'}",
+                     "tolerance": f"{c.tolerance:g} {'relative' if c.relative else 'absolute'}"
+                                  f"{why}",
                      "error": error, "passed": passed, "note": note})
     return pd.DataFrame(rows)

@@ -1,6 +1,7 @@
 """Tests of pipeopt.lifecycle: the life-cycle cost model worked by hand.
 
-Source of the model: the project's shared MODEL.md (the contract every sizing study matches).
+Source of the model: the contributor guide's model section
+(DEVELOPERS.md#the-sizing-model-in-words).
 The hand computation below follows it line by line in plain Python, with friction factors from
 an independent 40-digit mpmath solution of Colebrook (1939) (tests/conftest.py).
 """
@@ -41,7 +42,7 @@ def test_present_value_and_eac_by_hand():
     d, eps0, alpha, c_m = 0.25, 0.1e-3, 0.05e-3, 300.0
     lc = evaluate(s, np.array([d]), eps0, alpha, np.array([c_m]))
 
-    # --- by hand, MODEL.md "Year by year" ---------------------------------------------------
+    # --- by hand, DEVELOPERS.md "The sizing model in words", step 1-2 -------------------------
     area = math.pi * d * d / 4
     energy, peak = [], []
     for t in (1, 2, 3):

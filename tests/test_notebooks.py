@@ -21,6 +21,7 @@ def test_there_are_three_notebooks_stored_without_outputs():
         assert "illustrative" in book.cells[0].source.lower()
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("path", NOTEBOOKS, ids=lambda p: p.name)
 def test_notebook_runs(path, tmp_path, monkeypatch):
     monkeypatch.setenv("MPLBACKEND", "Agg")

@@ -1,7 +1,8 @@
 """Tests of pipeopt.pressure: Barlow's formula and PN from SDR.
 
 Sources: Barlow's formula p = 2 S E t / D_o (ASME B31.3 para. 304.1.2, thin-wall form, from
-memory); PN = 20 MRS / (C (SDR - 1)) (ISO 4427-1 / EN 12201-1, from memory; REFERENCES.md).
+memory); PN = 20 MRS / (C (SDR - 1)) (ISO 4427-1 / EN 12201-1, from memory;
+docs/references.md#pipe-dimensions).
 """
 
 import numpy as np
@@ -11,6 +12,7 @@ from pipeopt.errors import InputError
 from pipeopt.pressure import barlow_pressure, pn_from_sdr
 
 
+@pytest.mark.reference
 def test_barlow_by_hand():
     # NPS 4 Sch 40 (114.3 x 6.02 mm, ASME B36.10M), S = 137.9 MPa, E = 1, no allowances:
     # p = 2 * 137.9e6 * 6.02e-3 / 0.1143 = 145.26 bar (worked by hand)
@@ -18,6 +20,7 @@ def test_barlow_by_hand():
     assert p == pytest.approx(2 * 137.9e6 * 6.02e-3 / 0.1143, rel=1e-14)
 
 
+@pytest.mark.reference
 def test_barlow_allowances_and_vectorized():
     p = barlow_pressure([0.1143, 0.3238], [6.02e-3, 9.53e-3], 137.9e6, joint_factor=0.85,
                         corrosion_allowance=1.5e-3, mill_tolerance=0.125)
@@ -33,11 +36,21 @@ def test_barlow_errors():
         barlow_pressure(0.1, 0.06, 1e8)
 
 
+@pytest.mark.reference
 @pytest.mark.parametrize(("sdr", "pn"), [(11, 16.0), (17, 10.0), (21, 8.0), (9, 20.0)])
 def test_pn_from_sdr_pe100(sdr, pn):
-    # PE 100 (MRS 10 MPa), C = 1.25: SDR 11 PN 16, SDR 17 PN 10 (REFERENCES.md); 21 and 9
-    # exact from the same formula
-    assert pn_from_sdr(sdr, 10e6) / 1e5 == pytest.approx(pn)
+    # PE 100 (MRS 10 MPa), C = 1.25: SDR 11 PN 16, SDR 17 PN 10 (ISO 4427-1 / EN 12201-1,
+    # docs/references.md#pipe-dimensions); 21 and 9 exact from the same formula by hand:
+    # 20 * 10 / (1.25 * 20) = 8, 20 * 10 / (1.25 * 8) = 20
+    assert pn_from_sdr(sdr, 10e6) / 1e5 == pytest.approx(pn, rel=1e-14)
+
+
+@pytest.mark.reference
+def test_pn_from_sdr_pe80():
+    # PE 80 (MRS 8 MPa), C = 1.25: 20 * 8 / (1.25 * 10) = 12.8 bar for SDR 11, which the
+    # standard's R10 series rounds down to PN 12.5 (ISO 4427-1, from memory); SDR 17: 8.0
+    assert pn_from_sdr(11, 8e6) / 1e5 == pytest.approx(12.8, rel=1e-14)
+    assert pn_from_sdr(17, 8e6) / 1e5 == pytest.approx(8.0, rel=1e-14)
 
 
 def test_pn_errors():

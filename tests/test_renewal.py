@@ -2,33 +2,56 @@
 
 Source: U. Shamir, C. D. D. Howard, "An analytic approach to scheduling pipe replacement",
 J. AWWA 71(5):248-258, 1979: N(t) = N(t0) e^{A(t - t0)} and
-t* = t0 + (1/A) ln[ln(1+R) C_r / (C_b N(t0))] (REFERENCES.md, from memory, re-derived).
+t* = t0 + (1/A) ln[ln(1+R) C_r / (C_b N(t0))] (from memory, re-derived;
+docs/references.md#renewal).
 """
 
 import math
 
+import mpmath as mp
 import pytest
 
 from pipeopt.errors import InputError
 from pipeopt.renewal import break_counts, shamir_howard_replacement_time
 
 
+@pytest.mark.reference
 def test_breaks_grow_exponentially():
     # the integral of N0 e^{A s} over year t (Shamir & Howard's rate, integrated by hand)
     n = break_counts(3.0, 0.06, 5)
     assert n[0] == pytest.approx(3.0 * (math.exp(0.06) - 1) / 0.06, rel=1e-14)
     assert n[4] == pytest.approx(3.0 * (math.exp(0.30) - math.exp(0.24)) / 0.06, rel=1e-13)
     assert break_counts(3.0, 0.0, 2).tolist() == [3.0, 3.0]
+    with mp.workdps(30):  # the same integral by quadrature in mpmath
+        year3 = mp.quad(lambda s: 3 * mp.exp(mp.mpf("0.06") * s), [2, 3])
+    assert n[2] == pytest.approx(float(year3), rel=1e-13)
 
 
+@pytest.mark.reference
 def test_shamir_howard_closed_form():
     # t* = (1/A) ln(ln(1+R) C_r / (C_b N0)); evaluated by hand for N0 2, A 0.08, Cb 1e4,
     # Cr 1.5e6, R 5 %: ln(0.04879 * 150 / 2) / 0.08 = 16.216 years
     t = shamir_howard_replacement_time(2.0, 0.08, 1e4, 1.5e6, 0.05)
     assert t == pytest.approx(math.log(math.log(1.05) * 1.5e6 / 2e4) / 0.08, rel=1e-14)
-    assert t == pytest.approx(16.216, abs=1e-3)
+    assert t == pytest.approx(16.216, abs=5e-4)  # printed to 3 decimals above
+    # the closed form is where the present worth of the repairs' growth equals the interest
+    # on the replacement (Shamir & Howard's condition, re-derived): C_b N(t*) = ln(1+R) C_r
+    assert 1e4 * 2.0 * math.exp(0.08 * t) == pytest.approx(math.log(1.05) * 1.5e6, rel=1e-12)
     # breaks already costly enough: replace now
     assert shamir_howard_replacement_time(50.0, 0.08, 1e4, 1e5, 0.05) == 0.0
+
+
+@pytest.mark.reference
+def test_shamir_howard_by_brute_force():
+    # The present value of repairs until T plus the replacement at T, with continuous
+    # discounting at r = ln(1+R) (Shamir & Howard 1979): PV(T) = int_0^T Cb N0 e^{(A-r)t} dt
+    # + Cr e^{-rT}, here in closed form and minimised over a 0.001-year grid by enumeration
+    n0, a, cb, cr, rate = 2.0, 0.08, 1e4, 1.5e6, 0.05
+    r = math.log1p(rate)
+    grid = [k / 1000 for k in range(0, 40001)]
+    pv = [cb * n0 * math.expm1((a - r) * t) / (a - r) + cr * math.exp(-r * t) for t in grid]
+    best = grid[pv.index(min(pv))]
+    assert shamir_howard_replacement_time(n0, a, cb, cr, rate) == pytest.approx(best, abs=1e-3)
 
 
 def test_errors():

@@ -2,13 +2,14 @@
 
 Sources, named beside each check:
 - the closed-form economic diameter D* = (5B/(mA))^(1/(m+5)) and the m/5 split of costs at D*
-  (derivation in the project's REFERENCES.md; Genereaux, Ind. Eng. Chem. 29(4), 1937, from
+  (derivation in docs/references.md#economics; Genereaux, Ind. Eng. Chem. 29(4), 1937, from
   memory, and the textbook treatment);
 - Peters & Timmerhaus, Plant Design and Economics for Chemical Engineers: turbulent
   D_opt = 3.9 q^0.45 rho^0.13 (in, ft^3/s, lb/ft^3) and 0.363 q^0.45 rho^0.13 (m, m^3/s, kg/m^3),
   each in its own units, an order-of-magnitude check only;
-- optimum velocity of pumped water about 1-2 m/s (common practice, REFERENCES.md);
-- MODEL.md for the feasibility rules.
+- optimum velocity of pumped water about 1-2 m/s (common practice, docs/references.md#economics);
+- the contributor guide's model section (DEVELOPERS.md#the-sizing-model-in-words) for
+  the feasibility rules.
 """
 
 from __future__ import annotations
@@ -54,7 +55,7 @@ def study_from(**changes) -> SizingStudy:
 
 
 # ------------------------------------------------------------------------------------------
-# closed-form optimum (Genereaux 1937; REFERENCES.md derivation)
+# closed-form optimum (Genereaux 1937; derivation in docs/references.md#economics)
 # ------------------------------------------------------------------------------------------
 def test_closed_form_optimum_with_constant_friction():
     f, a, m = 0.015, 1500.0, 1.4

@@ -8,6 +8,7 @@ from pipeopt.errors import InputError
 from pipeopt.units import Quantity, format_si, to_si, ureg
 
 
+@pytest.mark.reference
 @pytest.mark.parametrize(
     ("text", "kind", "expected"),
     [  # exact unit definitions (SI brochure / NIST SP 811; common practice)
@@ -28,13 +29,15 @@ def test_strings_convert_to_si(text, kind, expected):
     assert to_si(text, kind, "field") == pytest.approx(expected, rel=1e-9)
 
 
-def test_quantity_and_foreign_registry():
+@pytest.mark.reference
+def test_quantity_and_foreign_registry():  # 0 degC = 273.15 K exactly (SI brochure)
     assert to_si(Quantity(3.2, "km"), "length", "line.length") == pytest.approx(3200.0)
     other = pint.UnitRegistry()
     assert to_si(other.Quantity(15, "degC"), "temperature", "t") == pytest.approx(288.15)
 
 
-def test_array_quantities_and_lists():
+@pytest.mark.reference
+def test_array_quantities_and_lists():  # 1 km = 1000 m exactly (SI brochure)
     out = to_si(Quantity(np.array([1.0, 2.0]), "km"), "length", "x")
     np.testing.assert_allclose(out, [1000.0, 2000.0])
     out = to_si(["1 km", "2 m"], "length", "x")
@@ -71,5 +74,6 @@ def test_one_registry():
     assert Quantity(1, "m")._REGISTRY is ureg
 
 
-def test_format_si():
+@pytest.mark.reference
+def test_format_si():  # 0.125 m3/s x 3600 s/h = 450 m3/h exactly
     assert format_si(0.125, "flow", "m^3/h") == "450 m³/h"

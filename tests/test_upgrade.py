@@ -1,8 +1,10 @@
 """Tests of pipeopt.upgrade: keep, reline, replace, duplicate.
 
 Sources, named beside each check: Shamir & Howard (1979), J. AWWA 71(5) (optimal replacement
-time, REFERENCES.md, from memory); numpy-financial's NPV/IRR convention (NPV at the IRR is zero);
-the Darcy-Weisbach / Colebrook model of MODEL.md for the hydraulics; hand computations.
+time, docs/references.md#renewal, from memory); numpy-financial's NPV/IRR convention (NPV at
+the IRR is zero);
+the Darcy-Weisbach / Colebrook model of DEVELOPERS.md#the-upgrade-model-in-words for the
+hydraulics; hand computations.
 """
 
 from __future__ import annotations
@@ -115,7 +117,7 @@ def test_payback_consistent_with_cumulative_savings():
 
 
 def test_duplicate_split_equal_head_loss():
-    # MODEL.md hydraulics: both lines carry the same head loss; flows add up
+    # DEVELOPERS.md upgrade model: both lines carry the same head loss; flows add up
     st = UpgradeStudy.demo()
     s = st.scenario
     q = s.duty.flows_by_year(s.horizon)

@@ -3,15 +3,23 @@
 The bundled tables (CSV files in this package, one row per size and class, each with its
 provenance) hold the standards' dimensions:
 
-========================  ==========================================  =====================
-material                  standard                                    designation example
-========================  ==========================================  =====================
-``steel``                 ASME B36.10M, NPS 1/2–48, Sch 10/STD/40/XS/80  ``"NPS 12 Sch 40"``
-``stainless-steel``       ASME B36.19M, Sch 5S/10S/40S/80S              ``"NPS 4 Sch 10S"``
-``ductile-iron``          EN 545 / ISO 2531, DN 80–1200, C25–C64        ``"DN 300 C40"``
-``pe100``, ``pe80``       ISO 4427 / EN 12201, 20–1200 mm, SDR 26–7.4    ``"315 SDR 17"``
-``pvc-u``                 ISO 1452 / EN 1452, 63–630 mm                 ``"110 PN 10"``
-========================  ==========================================  =====================
+==========================  =============================================  ===================
+material                    standard                                       designation example
+==========================  =============================================  ===================
+``steel``                   ASME B36.10M, NPS 1/2–48, Sch 10/STD/40/XS/80  ``"NPS 12 Sch 40"``
+``steel-cement-lined``      ASME B36.10M NPS 4–48, AWWA C205 lining        ``"NPS 12 STD"``
+``steel-epoxy-lined``       ASME B36.10M NPS 4–48, AWWA C210 lining        ``"NPS 12 STD"``
+``stainless-steel``         ASME B36.19M, Sch 5S/10S/40S/80S               ``"NPS 4 Sch 10S"``
+``ductile-iron``            EN 545:2010, DN 80–1200, C25–C100              ``"DN 300 C40"``
+``ductile-iron-k``          ISO 2531:1998 K7–K12, DN 80–1200 (not rated)   ``"DN 300 K9"``
+``pe100``, ``pe80``         ISO 4427 / EN 12201, 20–1200 mm, SDR 26–7.4    ``"315 SDR 17"``
+``pvc-u``                   ISO 1452 / EN 1452, 63–630 mm                  ``"110 PN 10"``
+``copper``                  EN 1057, 12–159 mm (not rated)                 ``"22 x 1.0"``
+==========================  =============================================  ===================
+
+Where a size has no pressure rating (copper, the ductile-iron K classes) a sizing study makes
+no pressure check on it and its candidate table says so. Each row's ``provenance`` says whether
+its values come from a standard's table or from a rule, and which.
 
 and a materials table (roughness, aging rate, Hazen–Williams C, elastic modulus, Poisson's
 ratio, density, embodied carbon, each with its source). No prices: pipe cost is a study input.
@@ -66,7 +74,8 @@ SIZE_COLUMNS = ["material", "designation", "nominal", "pressure_class", "outside
                 "wall_m", "lining_m", "inner_diameter_m", "pressure_rating_pa", "rating_basis",
                 "provenance"]
 
-_BUNDLED_SIZE_FILES = ("steel", "stainless-steel", "ductile-iron", "pe100", "pe80", "pvc-u")
+_BUNDLED_SIZE_FILES = ("steel", "steel-cement-lined", "steel-epoxy-lined", "stainless-steel",
+                       "ductile-iron", "ductile-iron-k", "pe100", "pe80", "pvc-u", "copper")
 
 # unit suffixes a column name may carry in a size or materials file
 _LENGTH_SUFFIX = {"mm": 1e-3, "m": 1.0, "in": 0.0254, "cm": 1e-2}
@@ -392,13 +401,16 @@ class Catalog:
         Barlow parameters by material key for sizes without a rated class (steel):
         ``{"steel": {"allowable_stress": ..., "joint_factor": ..., "corrosion_allowance": ...,
         "mill_tolerance": ...}}`` in SI. Defaults: :data:`pipeopt.pressure.STEEL_DEFAULTS`
-        for ``steel``, :data:`~pipeopt.pressure.STAINLESS_DEFAULTS` for ``stainless-steel``.
+        for ``steel`` and the lined steels, :data:`~pipeopt.pressure.STAINLESS_DEFAULTS` for
+        ``stainless-steel``.
     """
 
     def __init__(self, sizes: pd.DataFrame, materials: dict[str, Material],
                  steel_rating: dict[str, dict[str, float]] | None = None) -> None:
         self._materials = dict(materials)
-        self._barlow = {"steel": dict(STEEL_DEFAULTS), "stainless-steel": dict(STAINLESS_DEFAULTS)}
+        self._barlow = {"steel": dict(STEEL_DEFAULTS), "steel-cement-lined": dict(STEEL_DEFAULTS),
+                        "steel-epoxy-lined": dict(STEEL_DEFAULTS),
+                        "stainless-steel": dict(STAINLESS_DEFAULTS)}
         for key, params in (steel_rating or {}).items():
             self._barlow[key] = {**self._barlow.get(key, STEEL_DEFAULTS), **params}
         self._sizes = self._rate(sizes.reset_index(drop=True))
