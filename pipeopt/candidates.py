@@ -1,50 +1,59 @@
 """Candidate building (study layer): catalog sizes of each material choice, with their costs.
 
 :func:`build_candidates` turns the study's material choices into one table of candidates
-(material, size, class, geometry, roughness, aging, rating, wave speed, cost per metre, embodied
-carbon, provenance) and resolves each material's pipe cost model. It reads the catalog and calls
-the physics (wave speed) and cost models; it holds no formula of its own.
+(material, size, nominal size, class, geometry, mass per metre, roughness, aging, pressure
+basis at the service temperature, wave speed, cost per metre, embodied carbon, provenance). It
+reads the catalog and calls the physics (mass per metre, wave speed, derating) and the cost
+models; it holds no formula of its own.
+
+Prices follow the pipe: each material's cost model prices every size by its designation,
+outside diameter and mass per metre (:class:`~pipeopt.costs.PipeCostModel`), never by its bore,
+so a heavier class of one nominal size never costs less than a lighter one.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any
 
 import numpy as np
 import pandas as pd
 
-from .catalog import Catalog
-from .costs import PowerLawPipeCost, TablePipeCost
+from .catalog import Catalog, mass_per_metre
 from .errors import InputError
-from .inputs import CostTable, MaterialChoice
+from .inputs import MaterialChoice
 from .surge import wave_speed
 
 __all__ = ["CANDIDATE_COLUMNS", "Candidates", "build_candidates", "MAX_CANDIDATES",
-           "DEFAULT_BULK_MODULUS"]
+           "DEFAULT_BULK_MODULUS", "REFERENCE_TEMPERATURE"]
 
 #: Bulk modulus used when the fluid gives none [Pa]: water near 20 degC (common practice).
 DEFAULT_BULK_MODULUS = 2.19e9
+#: Temperature taken for the ratings when the fluid gives none [K] (20 degC).
+REFERENCE_TEMPERATURE = 293.15
 #: The most candidates a study may hold (a user catalog with many sizes and classes).
 MAX_CANDIDATES = 20_000
 
-CANDIDATE_COLUMNS = ["material", "size", "pressure_class", "outside_diameter_m", "wall_m",
-                     "inner_diameter_m", "roughness_m", "aging_m_per_year",
-                     "pressure_rating_pa", "wave_speed_m_s", "cost_per_metre",
+CANDIDATE_COLUMNS = ["material", "size", "nominal", "pressure_class", "outside_diameter_m",
+                     "wall_m", "lining_m", "inner_diameter_m", "mass_kg_per_m", "roughness_m",
+                     "aging_m_per_year", "pressure_rating_pa", "temperature_factor", "pfa_pa",
+                     "pma_pa", "max_temperature_k", "wave_speed_m_s", "cost_per_metre",
                      "embodied_co2_kg_per_m", "provenance"]
 
 
 @dataclass(frozen=True)
 class Candidates:
-    """The candidate table and each material's resolved pipe cost model.
+    """The candidate table and each material's pipe cost model.
 
     Attributes
     ----------
     table : pandas.DataFrame
-        Columns :data:`CANDIDATE_COLUMNS`, one row per (material, size, class), SI.
-    costs : dict of str to cost model
-        Per material, the model its costs come from (a power law, or a table on the catalog's
-        inner diameters when the study gave a table by designation).
+        Columns :data:`CANDIDATE_COLUMNS`, one row per (material, size, class), SI:
+        ``pressure_rating_pa`` is the class's rating at its reference temperature (PN or PFA),
+        ``temperature_factor`` its derating at the service temperature (NaN above the
+        material's service limit), ``pfa_pa`` and ``pma_pa`` the allowable operating pressure
+        and the allowable maximum operating pressure with surge at that temperature.
+    costs : dict of str to PipeCostModel
+        Per material, the model its costs come from.
     notes : tuple of str
         Words on assumptions made (e.g. a bulk modulus taken for water).
     """
@@ -75,26 +84,9 @@ def _sizes_of(choice: MaterialChoice, catalog: Catalog) -> pd.DataFrame:
     return sizes.reset_index(drop=True)
 
 
-def _cost_on_bores(choice: MaterialChoice, table: CostTable, catalog: Catalog) -> TablePipeCost:
-    """A table by designation as a cost table on the catalog's inner diameters."""
-    where = f"material {choice.name!r}: cost.table"
-    if len(table.rows) < 2:
-        raise InputError(f"{where} must list at least two [designation, cost] rows")
-    pairs = []
-    for label, value in table.rows:
-        try:
-            d = float(catalog.lookup(choice.name, label)["inner_diameter_m"])
-        except InputError as exc:
-            raise InputError(f"{where}: {exc}") from None
-        pairs.append((d, value, label))
-    pairs.sort()
-    return TablePipeCost(tuple(p[0] for p in pairs), tuple(p[1] for p in pairs),
-                         tuple(p[2] for p in pairs))
-
-
 def build_candidates(materials: tuple[MaterialChoice, ...], catalog: Catalog,
                      bulk_modulus: float | None, density: float, restraint: str,
-                     ) -> Candidates:
+                     temperature: float | None = None) -> Candidates:
     """The candidate table of a sizing study.
 
     Parameters
@@ -107,45 +99,58 @@ def build_candidates(materials: tuple[MaterialChoice, ...], catalog: Catalog,
         Liquid density [kg/m³].
     restraint : str
         Axial restraint of the pipe (:data:`pipeopt.surge.RESTRAINTS`).
+    temperature : float, optional
+        Service temperature [K] for the ratings (None: 20 °C, with a note).
     """
     frames = []
-    costs: dict[str, Any] = {}
+    costs = {}
+    notes = []
     k = bulk_modulus or DEFAULT_BULK_MODULUS
+    t_service = REFERENCE_TEMPERATURE if temperature is None else float(temperature)
     for choice in materials:
         mat = catalog.material(choice.name)
+        service = catalog.service(choice.name)
         sizes = _sizes_of(choice, catalog)
-        cost = choice.cost
-        if isinstance(cost, CostTable):
-            cost = _cost_on_bores(choice, cost, catalog)
-        if not isinstance(cost, PowerLawPipeCost | TablePipeCost):
-            raise InputError(f"material {choice.name!r}: cost must be a power law "
-                             f"{{coefficient, exponent}} or a table")
-        d = sizes["inner_diameter_m"].to_numpy()
+        od = sizes["outside_diameter_m"].to_numpy()
+        wall = sizes["wall_m"].to_numpy()
+        lining = sizes["lining_m"].to_numpy()
+        mass = np.asarray(mass_per_metre(od, wall, lining, mat.density, service.lining_density))
         try:
-            cost_m = np.asarray(cost.per_metre(d), dtype=float)
+            cost_m = np.asarray(choice.cost.price(sizes["designation"].to_numpy(),
+                                                  sizes["nominal"].to_numpy(), od, mass),
+                                dtype=float)
         except InputError as exc:
             raise InputError(f"material {choice.name!r}: {exc}") from None
-        costs[choice.name] = cost
+        costs[choice.name] = choice.cost
         roughness = mat.roughness if choice.roughness is None else choice.roughness
         aging = (0.0 if choice.aging is None else
                  mat.aging_rate if choice.aging == "typical" else float(choice.aging))
-        od = sizes["outside_diameter_m"].to_numpy()
-        wall = sizes["wall_m"].to_numpy()
         a = wave_speed(k, density, od - wall, wall, mat.elastic_modulus, mat.poisson_ratio,
                        restraint)
-        mass = np.pi / 4.0 * (od**2 - (od - 2 * wall) ** 2) * mat.density
+        rating = sizes["pressure_rating_pa"].to_numpy(dtype=float)
+        factor = float(service.factor(t_service))
+        wall_mass = np.asarray(mass_per_metre(od, wall, 0.0, mat.density))
         frames.append(pd.DataFrame({
-            "material": choice.name, "size": sizes["designation"],
+            "material": choice.name, "size": sizes["designation"], "nominal": sizes["nominal"],
             "pressure_class": sizes["pressure_class"], "outside_diameter_m": od,
-            "wall_m": wall, "inner_diameter_m": d, "roughness_m": roughness,
-            "aging_m_per_year": aging, "pressure_rating_pa": sizes["pressure_rating_pa"],
+            "wall_m": wall, "lining_m": lining, "inner_diameter_m": sizes["inner_diameter_m"],
+            "mass_kg_per_m": mass, "roughness_m": roughness, "aging_m_per_year": aging,
+            "pressure_rating_pa": rating, "temperature_factor": factor,
+            "pfa_pa": rating * factor, "pma_pa": rating * factor * service.pma_factor,
+            "max_temperature_k": (np.nan if service.max_temperature is None
+                                  else service.max_temperature),
             "wave_speed_m_s": a, "cost_per_metre": cost_m,
-            "embodied_co2_kg_per_m": mass * (mat.embodied_carbon or 0.0),
+            "embodied_co2_kg_per_m": wall_mass * (mat.embodied_carbon or 0.0),
             "provenance": sizes["provenance"]}))
     table = pd.concat(frames, ignore_index=True)[CANDIDATE_COLUMNS]
     if len(table) > MAX_CANDIDATES:
         raise InputError(f"material: {len(table)} candidates, more than the {MAX_CANDIDATES} a "
                          f"study may hold; narrow the diameter range or the classes")
-    notes = () if bulk_modulus else ("the fluid gives no bulk modulus: 2.19 GPa (water) is "
-                                     "used for wave speeds",)
-    return Candidates(table, costs, notes)
+    if not np.all(np.isfinite(table["cost_per_metre"])):
+        raise InputError("material: a cost per metre is not a finite number; check the cost "
+                         "coefficients")
+    if not bulk_modulus:
+        notes.append("the fluid gives no bulk modulus: 2.19 GPa (water) is used for wave speeds")
+    if temperature is None:
+        notes.append("the fluid gives no temperature: pressure ratings are taken at 20 degC")
+    return Candidates(table, costs, tuple(notes))

@@ -7,22 +7,63 @@ and say so.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import abc
+import math
+import re
+from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 
 from ._arrays import as_float_arrays, restore
+from .catalog import nearest_designations
 from .economics import growth_factors
 from .errors import InputError
 from .fields import InputSection, number, numbers, whole
 
-__all__ = ["PowerLawPipeCost", "TablePipeCost", "PumpStationCost", "EnergyTariff"]
+__all__ = ["PipeCostModel", "PowerLawPipeCost", "MassLayingCost", "DesignationCostTable",
+           "PumpStationCost", "EnergyTariff"]
+
+
+def _norm(label: str) -> str:
+    return re.sub(r"[\s_]+", "", str(label)).upper().replace("SCHEDULE", "SCH")
+
+
+class PipeCostModel(abc.ABC):
+    """Pipe capital per metre of one line, supplied and laid, for catalog sizes.
+
+    Every pipe cost model prices a table of sizes (:meth:`price`), so the price follows the
+    pipe (its outside diameter, its mass, its designation), never its bore: at one nominal size a
+    heavier class costs more.
+    """
+
+    @abc.abstractmethod
+    def price(self, designation: Any, nominal: Any, outside_diameter: Any,
+              mass_per_metre: Any) -> np.ndarray:
+        """Capital per metre [currency/m] of each size.
+
+        Parameters
+        ----------
+        designation, nominal : array_like of str
+            Catalog designation (``"DN 300 C40"``) and nominal size (``"DN 300"``).
+        outside_diameter : array_like
+            Outside diameter [m].
+        mass_per_metre : array_like
+            Mass of pipe and lining per metre [kg/m].
+        """
+
+    def describe(self) -> str:
+        """Words for reports."""
+        return type(self).__name__
 
 
 @dataclass(frozen=True)
-class PowerLawPipeCost(InputSection):
-    """Pipe capital per metre of line, supplied and installed: c(D) = a · D^n, D in metres.
+class PowerLawPipeCost(PipeCostModel, InputSection):
+    """Pipe capital per metre of line, supplied and installed: c = a · D^n, D in metres.
+
+    In a sizing study D is the pipe's **outside** diameter (never the bore, so that a heavier
+    class of one size is not cheaper); in an upgrade option it is the new pipe's outside
+    diameter when a catalog size is given, else the bore given.
 
     Parameters
     ----------
@@ -42,65 +83,148 @@ class PowerLawPipeCost(InputSection):
     exponent: float = number(0.0, 4.0, low_open=True, example="1.25")
 
     def per_metre(self, diameter: Any) -> Any:
-        """Capital cost per metre [currency/m] at inner diameter(s) [m]."""
+        """Capital cost per metre [currency/m] at diameter(s) D [m]."""
         (d,), tpl = as_float_arrays(diameter)
         return restore(self.coefficient * d**self.exponent, tpl)
 
+    def price(self, designation, nominal, outside_diameter, mass_per_metre):
+        return np.asarray(self.per_metre(np.asarray(outside_diameter, dtype=float)))
+
     def describe(self) -> str:
-        """Words for reports."""
-        return f"{self.coefficient:g} x D^{self.exponent:g} per m (D in m)"
+        return f"{self.coefficient:g} x OD^{self.exponent:g} per m (OD in m)"
 
 
 @dataclass(frozen=True)
-class TablePipeCost:
-    """Pipe capital per metre from a table by inner diameter, interpolated log–log.
+class MassLayingCost(PipeCostModel, InputSection):
+    """Pipe capital per metre as material plus laying: c = m p + a · OD^n (or a laying table).
 
-    Between table points the cost follows a power law (linear in log c against log D), so a
-    table made from a power law is reproduced exactly; the continuous optimum then has a
-    continuous cost curve. Outside the table the cost is not extrapolated: an error says so.
+    The material cost is the mass per metre m (wall and lining, from the catalog's outside
+    diameter, wall, lining and densities) times a price per kilogram p; the laying cost
+    (trench, bedding, jointing, reinstatement) a power law of the outside diameter, or a table
+    by nominal size (``laying_table = {"DN 300" = 180.0, ...}``).
 
     Parameters
     ----------
-    diameters : array_like
-        Inner diameters [m], strictly increasing, at least two.
-    costs : array_like
-        Capital per metre at those diameters [currency/m], positive.
-    labels : tuple of str, optional
-        Designations the rows came from, for reports.
+    price_per_kg : float
+        p [currency/kg] of pipe supplied (wall and lining).
+    laying_coefficient : float
+        a [currency/m at OD = 1 m] (0 with a laying table).
+    laying_exponent : float
+        n [-].
+    laying_table : dict of str to float, optional
+        Laying cost per metre [currency/m] by nominal size; every nominal size of the
+        candidates must be listed.
+
+    Examples
+    --------
+    >>> c = MassLayingCost(2.5, 600.0, 1.1)
+    >>> round(float(c.price(["315 SDR 17"], ["315"], [0.315], [17.0])[0]), 2)
+    210.88
     """
 
-    diameters: tuple
-    costs: tuple
-    labels: tuple = ()
+    SECTION = "cost"
+    price_per_kg: float = number(0.0, 1e5, low_open=True, example="2.4")
+    laying_coefficient: float = number(0.0, 1e9, default=0.0)
+    laying_exponent: float = number(0.0, 4.0, default=1.0)
+    laying_table: Any = field(default=None, metadata={})
 
-    def __post_init__(self) -> None:
-        d = np.asarray(self.diameters, dtype=float)
-        c = np.asarray(self.costs, dtype=float)
-        if d.ndim != 1 or d.size < 2 or d.shape != c.shape:
-            raise InputError("cost.table needs at least two rows of (diameter, cost)")
-        if np.any(~np.isfinite(d)) or np.any(d <= 0) or np.any(np.diff(d) <= 0):
-            raise InputError("cost.table diameters must be positive and strictly increasing "
-                             "(two sizes with the same inner diameter need one cost)")
-        if np.any(~np.isfinite(c)) or np.any(c <= 0):
-            raise InputError("cost.table costs must be positive numbers")
-        object.__setattr__(self, "diameters", tuple(d.tolist()))
-        object.__setattr__(self, "costs", tuple(c.tolist()))
+    def _check(self, path: str) -> None:
+        table = self.laying_table
+        if table is None:
+            if self.laying_coefficient == 0:
+                raise InputError(f"{path}: give laying_coefficient (and laying_exponent), or a "
+                                 f"laying_table by nominal size")
+            return
+        if not isinstance(table, dict) or not table:
+            raise InputError(f"{path}.laying_table: expected a table {{ \"DN 300\" = 180.0, "
+                             f"... }} of laying cost per metre by nominal size")
+        clean = {}
+        for k, v in table.items():
+            if isinstance(v, bool) or not isinstance(v, int | float) or not 0 <= v < 1e9:
+                raise InputError(f"{path}.laying_table.{k}: must be a number >= 0; got {v!r}")
+            clean[_norm(k)] = (str(k), float(v))
+        object.__setattr__(self, "laying_table", clean)
 
-    def per_metre(self, diameter: Any) -> Any:
-        """Capital cost per metre [currency/m] at inner diameter(s) [m], log–log interpolated."""
-        (d,), tpl = as_float_arrays(diameter)
-        lo, hi = self.diameters[0], self.diameters[-1]
-        tol = 1e-9
-        if np.any(d < lo * (1 - tol)) or np.any(d > hi * (1 + tol)):
-            bad = d[(d < lo * (1 - tol)) | (d > hi * (1 + tol))].ravel()[0]
-            raise InputError(f"cost.table covers inner diameters {lo:g}-{hi:g} m; a cost at "
-                             f"{bad:g} m would be an extrapolation (add a row)")
-        logc = np.interp(np.log(np.clip(d, lo, hi)), np.log(self.diameters), np.log(self.costs))
-        return restore(np.exp(logc), tpl)
+    def laying(self, nominal: Any, outside_diameter: Any) -> np.ndarray:
+        """Laying cost per metre [currency/m]."""
+        if self.laying_table is None:
+            od = np.asarray(outside_diameter, dtype=float)
+            return self.laying_coefficient * od**self.laying_exponent
+        names = [v[0] for v in self.laying_table.values()]
+        out = []
+        for nom in np.atleast_1d(nominal):
+            hit = self.laying_table.get(_norm(nom))
+            if hit is None:
+                near = nearest_designations(str(nom), names)
+                raise InputError(f"cost.laying_table: no laying cost for nominal size "
+                                 f"{str(nom)!r}; nearest listed: {', '.join(near) or 'none'}")
+            out.append(hit[1])
+        return np.asarray(out, dtype=float)
+
+    def price(self, designation, nominal, outside_diameter, mass_per_metre):
+        return (np.asarray(mass_per_metre, dtype=float) * self.price_per_kg
+                + self.laying(nominal, outside_diameter))
 
     def describe(self) -> str:
-        """Words for reports."""
-        return f"table of {len(self.diameters)} sizes, log-log interpolated"
+        lay = (f"{self.laying_coefficient:g} x OD^{self.laying_exponent:g}"
+               if self.laying_table is None else
+               f"laying table of {len(self.laying_table)} nominal sizes")
+        return f"{self.price_per_kg:g} per kg of pipe + laying {lay} per m (OD in m)"
+
+
+@dataclass(frozen=True)
+class DesignationCostTable(PipeCostModel):
+    """Pipe capital per metre listed by designation, used as given (no interpolation).
+
+    Parameters
+    ----------
+    rows : tuple of (str, float)
+        ``(designation, cost per metre)``; designations are matched forgiving case and spaces.
+
+    Examples
+    --------
+    >>> t = DesignationCostTable.parse({"DN 300 C40": 412.0, "DN 300 C25": 398.0}, "cost")
+    >>> t.price(["dn300 c40"], ["DN 300"], [0.326], [60.0]).tolist()
+    [412.0]
+    """
+
+    rows: tuple
+
+    @classmethod
+    def parse(cls, value: Any, where: str) -> DesignationCostTable:
+        """From a list of ``[designation, cost]`` pairs or a table ``{designation = cost}``."""
+        pairs = list(value.items()) if isinstance(value, dict) else value
+        if not isinstance(pairs, list | tuple) or len(pairs) < 1:
+            raise InputError(f"{where} must list [designation, cost per metre] rows")
+        rows, seen = [], set()
+        for j, row in enumerate(pairs):
+            if not (isinstance(row, list | tuple) and len(row) == 2):
+                raise InputError(f"{where}[{j}] must be [designation, cost per metre]")
+            label, cost = row
+            if not isinstance(label, str) or not label.strip():
+                raise InputError(f"{where}[{j}]: the designation must be text; got {label!r}")
+            if isinstance(cost, bool) or not isinstance(cost, int | float) \
+                    or not math.isfinite(cost) or not 0 < cost < 1e9:
+                raise InputError(f"{where}[{j}]: cost must be a positive number; got {cost!r}")
+            if _norm(label) in seen:
+                raise InputError(f"{where}: {label!r} is listed twice")
+            seen.add(_norm(label))
+            rows.append((label.strip(), float(cost)))
+        return cls(tuple(rows))
+
+    def price(self, designation, nominal, outside_diameter, mass_per_metre):
+        table = {_norm(k): v for k, v in self.rows}
+        out = []
+        for d in np.atleast_1d(designation):
+            if _norm(d) not in table:
+                near = nearest_designations(str(d), [k for k, _ in self.rows])
+                raise InputError(f"cost.table: no cost for {str(d)!r}; nearest listed: "
+                                 f"{', '.join(near) or 'none'}")
+            out.append(table[_norm(d)])
+        return np.asarray(out, dtype=float)
+
+    def describe(self) -> str:
+        return f"table of {len(self.rows)} designations"
 
 
 @dataclass(frozen=True)

@@ -1,15 +1,21 @@
-"""Feasibility of candidates (study layer): velocity and pressure checks, and their reasons.
+"""Feasibility of candidates (study layer): velocity, pressure and temperature checks, and why.
 
 :func:`check` applies the study's limits to the model's arrays (any leading sample axis);
 :func:`reasons` writes, for the flagged candidates only, why each is infeasible and what else
-the reader should know. The rules:
+the reader should know. The rules, in the vocabulary of EN 805:
 
 - velocity_max against the largest velocity of any duty point in the years 1 … N of the
   horizon (the model gives it per sample, within that sample's own horizon);
 - velocity_min against the largest duty flow in year 1;
-- pressure: the highest pump head plus the surge allowance (the Joukowsky head rise of stopping
-  the largest flow with the candidate's Korteweg wave speed, unless the study gives an
-  allowance) against the rating of the candidate's class.
+- the operating pressure without surge, suction pressure + ρ g × the highest pump head, against
+  PFA, the allowable operating pressure of the class at the service temperature;
+- the maximum design pressure MDP, the operating pressure plus the surge (the Joukowsky head
+  rise of stopping the largest flow with the candidate's Korteweg wave speed, unless the study
+  gives an allowance), against PMA, the allowable maximum operating pressure with surge;
+- the service temperature against the material's limit (plastics are derated below it).
+
+The highest pressure of a single line is at the pump discharge: the grade line falls along the
+line faster than the pipe rises in a pumped main, so every other point is at a lower pressure.
 """
 
 from __future__ import annotations
@@ -26,25 +32,28 @@ from .surge import joukowsky_head
 __all__ = ["check", "reasons", "join_clauses"]
 
 
-def check(candidates: pd.DataFrame, lc: Any, constraints: Constraints,
-          density: float) -> dict[str, np.ndarray]:
+def check(candidates: pd.DataFrame, lc: Any, constraints: Constraints, density: float,
+          suction_pressure: float = 0.0) -> dict[str, np.ndarray]:
     """The constraint checks of every candidate, as arrays (any leading sample axis).
 
     Parameters
     ----------
     candidates : pandas.DataFrame
-        The candidate table (wave speed, rating).
+        The candidate table (wave speed, PFA, PMA at the service temperature).
     lc : LifeCycle
         The model's arrays.
     constraints : Constraints
     density : float
         Liquid density [kg/m³].
+    suction_pressure : float
+        Gauge pressure at the pump suction [Pa].
 
     Returns
     -------
     dict of ndarray
-        ``surge`` [m], ``design_pressure`` [Pa], ``rating`` [Pa], masks ``too_slow``,
-        ``too_fast``, ``over_pressure`` (True where the rule is broken) and ``feasible``.
+        ``surge`` [m], ``operating_pressure`` and ``mdp`` [Pa], ``pfa`` and ``pma`` [Pa],
+        masks ``too_slow``, ``too_fast``, ``over_pfa``, ``over_pma``, ``too_hot`` (True where
+        the rule is broken) and ``feasible``.
     """
     con = constraints
     if con.surge_allowance is not None:
@@ -52,16 +61,23 @@ def check(candidates: pd.DataFrame, lc: Any, constraints: Constraints,
     else:
         surge = joukowsky_head(candidates["wave_speed_m_s"].to_numpy(),
                                np.asarray(lc.velocity_max))
-    design_pressure = (lc.pump_head_max + surge) * (density * GRAVITY)
-    rating = candidates["pressure_rating_pa"].to_numpy(dtype=float)
+    rho_g = density * GRAVITY
+    operating = suction_pressure + lc.pump_head_max * rho_g
+    mdp = operating + surge * rho_g
+    pfa = candidates["pfa_pa"].to_numpy(dtype=float)
+    pma = candidates["pma_pa"].to_numpy(dtype=float)
+    rated = np.isfinite(candidates["pressure_rating_pa"].to_numpy(dtype=float))
+    too_hot = ~np.isfinite(candidates["temperature_factor"].to_numpy(dtype=float))
     too_slow = (lc.velocity_design < con.velocity_min if con.velocity_min is not None
                 else np.zeros(np.shape(lc.velocity_design), dtype=bool))
     too_fast = (lc.velocity_max > con.velocity_max if con.velocity_max is not None
                 else np.zeros(np.shape(lc.velocity_max), dtype=bool))
-    over = np.isfinite(rating) & (design_pressure > rating)
-    return {"surge": surge, "design_pressure": design_pressure, "rating": rating,
-            "too_slow": too_slow, "too_fast": too_fast, "over_pressure": over,
-            "feasible": ~(too_slow | too_fast | over)}
+    over_pfa = rated & ~too_hot & (operating > pfa)
+    over_pma = rated & ~too_hot & (mdp > pma)
+    return {"surge": surge, "operating_pressure": operating, "mdp": mdp, "pfa": pfa,
+            "pma": pma, "too_slow": too_slow, "too_fast": too_fast, "over_pfa": over_pfa,
+            "over_pma": over_pma, "too_hot": np.broadcast_to(too_hot, np.shape(too_fast)),
+            "feasible": ~(too_slow | too_fast | over_pfa | over_pma | too_hot)}
 
 
 def join_clauses(n: int, clauses: list) -> np.ndarray:
@@ -81,18 +97,32 @@ def join_clauses(n: int, clauses: list) -> np.ndarray:
 
 
 def reasons(candidates: pd.DataFrame, lc: Any, checks: dict[str, np.ndarray],
-            constraints: Constraints) -> tuple[np.ndarray, np.ndarray]:
+            constraints: Constraints, temperature: float) -> tuple[np.ndarray, np.ndarray]:
     """Why each infeasible candidate is infeasible, and notes on the others (one sample).
+
+    ``temperature`` is the service temperature [K].
 
     Returns
     -------
     reasons, notes : ndarray of str, shape (C,)
     """
     con = constraints
-    surge, design_pressure = checks["surge"], checks["design_pressure"]
-    rating = checks["rating"]
+    surge, mdp, operating = checks["surge"], checks["mdp"], checks["operating_pressure"]
+    pfa, pma = checks["pfa"], checks["pma"]
     pclass = candidates["pressure_class"].to_numpy(dtype=str)
+    material = candidates["material"].to_numpy(dtype=str)
+    factor = candidates["temperature_factor"].to_numpy(dtype=float)
+    t_max = candidates["max_temperature_k"].to_numpy(dtype=float)
+    t_c = temperature - 273.15
+
+    def derated(ix: np.ndarray) -> list[str]:
+        return ["" if f == 1 else f" (derated x {f:.3g} at {t_c:.0f} degC)" for f in factor[ix]]
+
     clauses = [  # (mask, function of the flagged indices giving their words)
+        (checks["too_hot"], lambda ix: [
+            f"service temperature {t_c:.1f} degC is above the {m} limit of {t - 273.15:.0f} "
+            f"degC for its pressure rating" for m, t in zip(material[ix], t_max[ix],
+                                                            strict=True)]),
         (checks["too_slow"], lambda ix: np.char.add(
             np.char.mod("velocity %.2f m/s", lc.velocity_design[ix]),
             f" at the largest year-1 duty is below velocity_min {con.velocity_min:g} m/s")),
@@ -100,16 +130,22 @@ def reasons(candidates: pd.DataFrame, lc: Any, checks: dict[str, np.ndarray],
             np.char.mod("velocity %.2f m/s", lc.velocity_max[ix]),
             f" at the largest flow of any year exceeds velocity_max "
             f"{con.velocity_max:g} m/s")),
-        (checks["over_pressure"], lambda ix: [
-            f"pump head {h:.1f} m + surge {a:.1f} m = {p / 1e5:.1f} bar exceeds the "
-            f"{r / 1e5:.1f} bar rating of {k}" for h, a, p, r, k in zip(
-                lc.pump_head_max[ix], surge[ix], design_pressure[ix], rating[ix],
-                pclass[ix], strict=True)]),
+        (checks["over_pfa"], lambda ix: [
+            f"operating pressure {p / 1e5:.1f} bar exceeds PFA {r / 1e5:.1f} bar of {k}{d}"
+            for p, r, k, d in zip(operating[ix], pfa[ix], pclass[ix], derated(ix),
+                                  strict=True)]),
+        (checks["over_pma"], lambda ix: [
+            f"MDP {p / 1e5:.1f} bar (operating {o / 1e5:.1f} + surge {a:.1f} m) exceeds PMA "
+            f"{r / 1e5:.1f} bar of {k}{d}" for p, o, a, r, k, d in zip(
+                mdp[ix], operating[ix], surge[ix], pma[ix], pclass[ix], derated(ix),
+                strict=True)]),
     ]
     n = len(candidates)
+    rated = np.isfinite(candidates["pressure_rating_pa"].to_numpy(dtype=float))
     notes = join_clauses(n, [
-        (~np.isfinite(rating), lambda ix: np.full(ix.size,
-                                                  "no pressure rating: pressure not checked")),
+        (~rated, lambda ix: np.full(ix.size, "no pressure rating: pressure not checked")),
+        (rated & (factor < 1), lambda ix: [
+            f"rating derated x {f:.3g} for {t_c:.0f} degC" for f in factor[ix]]),
         (np.asarray(lc.transitional_points) > 0, lambda ix: np.full(
             ix.size, "transitional flow (2000 <= Re < 4000) at some duty points")),
         (lc.roughness_capped, lambda ix: np.full(

@@ -13,14 +13,20 @@ file is answered at once.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 from . import friction as fr
 from .catalog import Catalog, default_catalog, load_catalog
-from .costs import EnergyTariff, PowerLawPipeCost, PumpStationCost
+from .costs import (
+    DesignationCostTable,
+    EnergyTariff,
+    MassLayingCost,
+    PipeCostModel,
+    PowerLawPipeCost,
+    PumpStationCost,
+)
 from .duty import DutyProfile
 from .errors import InputError
 from .fields import (
@@ -40,7 +46,7 @@ from .studyfile import Section, StudyFileError
 from .surge import RESTRAINTS
 
 __all__ = ["StudyInfo", "FluidSpec", "Line", "Pumping", "Economics", "Constraints", "Carbon",
-           "Hydraulics", "MaterialChoice", "CostTable", "FieldTest", "ExistingLine",
+           "Hydraulics", "MaterialChoice", "FieldTest", "ExistingLine",
            "UpgradeOption", "OPTION_KINDS", "read_common", "read_sizing", "read_upgrade"]
 
 
@@ -162,6 +168,10 @@ class Line(InputSection):
         Sum of minor-loss coefficients, referred to the line velocity.
     parallel : int
         Identical lines in parallel sharing the flow.
+    suction_pressure : str or Quantity
+        Gauge pressure at the pump suction, e.g. ``"10 bar"`` in a closed loop (district
+        heating, chilled water); default 0 (suction from an open tank at the pump's level).
+        Every pressure along the line includes it.
     """
 
     SECTION = "line"
@@ -169,6 +179,7 @@ class Line(InputSection):
     static_head: float = quantity("head")
     minor_loss_k: float = number(0.0, 1e4, default=0.0)
     parallel: int = whole(1, 100, default=1)
+    suction_pressure: float = quantity("pressure", low=-1e5, high=1e8, default="0 Pa")
 
 
 @dataclass(frozen=True)
@@ -238,46 +249,30 @@ class Hydraulics(InputSection):
                              f"friction_method = \"constant\" (e.g. friction_factor = 0.02)")
 
 
-@dataclass(frozen=True)
-class CostTable:
-    """Pipe capital per metre listed by designation: ``((designation, cost), ...)``."""
+def _cost_model(value: Any, where: str) -> PipeCostModel:
+    """A material's pipe cost model from its ``cost`` table (or a model given in Python).
 
-    rows: tuple
-
-    @classmethod
-    def parse(cls, value: Any, where: str) -> CostTable:
-        """From a list of ``[designation, cost]`` pairs or a table ``{designation = cost}``."""
-        pairs = list(value.items()) if isinstance(value, dict) else value
-        if not isinstance(pairs, list | tuple) or len(pairs) < 1:
-            raise InputError(f"{where} must list [designation, cost per metre] rows")
-        rows = []
-        for j, row in enumerate(pairs):
-            if not (isinstance(row, list | tuple) and len(row) == 2):
-                raise InputError(f"{where}[{j}] must be [designation, cost per metre]")
-            label, cost = row
-            if not isinstance(label, str) or not label.strip():
-                raise InputError(f"{where}[{j}]: the designation must be text; got {label!r}")
-            if isinstance(cost, bool) or not isinstance(cost, int | float) \
-                    or not math.isfinite(cost) or not 0 < cost < 1e9:
-                raise InputError(f"{where}[{j}]: cost must be a positive number; got {cost!r}")
-            rows.append((label.strip(), float(cost)))
-        return cls(tuple(rows))
-
-
-def _cost_model(value: Any, where: str) -> Any:
-    """A material's cost: a power law (table or object) or a cost table by designation."""
-    if isinstance(value, PowerLawPipeCost | CostTable):
+    ``{price_per_kg, laying_coefficient, laying_exponent}`` or ``{price_per_kg,
+    laying_table}``: material plus laying (:class:`~pipeopt.costs.MassLayingCost`);
+    ``{coefficient, exponent}``: a power law of the outside diameter; ``{table = {...}}``: costs
+    by designation, used as given.
+    """
+    if isinstance(value, PipeCostModel):
         return value
-    if isinstance(value, dict):
-        if "table" in value:
-            extra = set(value) - {"table"}
-            if extra:
-                raise InputError(f"{where}.{sorted(extra)[0]}: unknown key with a cost table")
-            return CostTable.parse(value["table"], f"{where}.table")
-        sec = Section(value, where, PowerLawPipeCost.keys() + ("table",))
-        return PowerLawPipeCost.read(sec)
-    raise InputError(f"{where}: expected a power law {{coefficient, exponent}} or a table, got "
-                     f"{type(value).__name__}")
+    if not isinstance(value, dict):
+        raise InputError(f"{where}: expected a table such as {{ price_per_kg = 2.4, "
+                         f"laying_coefficient = 600.0, laying_exponent = 1.1 }}, got "
+                         f"{type(value).__name__}")
+    if "table" in value:
+        extra = set(value) - {"table"}
+        if extra:
+            raise InputError(f"{where}.{sorted(extra)[0]}: unknown key with a cost table")
+        return DesignationCostTable.parse(value["table"], f"{where}.table")
+    if "price_per_kg" in value or "laying_table" in value or "laying_coefficient" in value:
+        sec = Section(value, where, MassLayingCost.keys() + ("laying_table",))
+        return MassLayingCost.read(sec, laying_table=value.get("laying_table"))
+    sec = Section(value, where, PowerLawPipeCost.keys() + ("table",))
+    return PowerLawPipeCost.read(sec)
 
 
 @dataclass(frozen=True)
@@ -288,10 +283,12 @@ class MaterialChoice(InputSection):
     ----------
     name : str
         A catalog material key (``"ductile-iron"``).
-    cost : PowerLawPipeCost, CostTable or dict
-        Pipe capital per metre, supplied and installed; a dict ``{"coefficient": a,
-        "exponent": n}`` means a·D^n with D in m; ``{"table": [[designation, cost], ...]}`` a
-        table by size.
+    cost : PipeCostModel or dict
+        Pipe capital per metre, supplied and laid, priced by designation (never by the bore):
+        ``{"price_per_kg": p, "laying_coefficient": a, "laying_exponent": n}`` is material
+        (mass per metre × p) plus laying a·OD^n (:class:`~pipeopt.costs.MassLayingCost`);
+        ``{"coefficient": a, "exponent": n}`` a·OD^n; ``{"table": {designation: cost}}`` costs
+        by designation, used as given.
     min_diameter, max_diameter : str or Quantity, optional
         Inner-diameter range of the candidates.
     sizes : list of str, optional

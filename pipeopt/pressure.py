@@ -15,7 +15,8 @@ import numpy as np
 from ._arrays import as_float_arrays, restore
 from .errors import InputError
 
-__all__ = ["STEEL_DEFAULTS", "STAINLESS_DEFAULTS", "barlow_pressure", "pn_from_sdr"]
+__all__ = ["STEEL_DEFAULTS", "STAINLESS_DEFAULTS", "barlow_pressure", "pn_from_sdr",
+           "derating_factor"]
 
 #: Barlow defaults for carbon steel: allowable stress 137.9 MPa (20 ksi: ASME B31.3 Table A-1,
 #: A106 Gr B and API 5L Gr B at ambient, from memory, verify), joint factor 1.0 (seamless),
@@ -117,3 +118,37 @@ def pn_from_sdr(sdr: Any, mrs: Any, design_coefficient: Any = 1.25) -> Any:
     if np.any(m <= 0) or np.any(c <= 0):
         raise InputError("mrs and design_coefficient must be positive")
     return restore(2.0 * m / (c * (d - 1.0)), tpl)
+
+
+def derating_factor(temperature: Any, table_temperature: Any, table_factor: Any) -> Any:
+    """Temperature derating factor of a pressure rating from a published table.
+
+    Linear between the table's points; the first factor below the first point (the rating's
+    reference temperature). Above the last point the rating is not defined: NaN (the caller
+    treats it as outside the material's service range).
+
+    Parameters
+    ----------
+    temperature : float or array_like
+        Service temperature [K].
+    table_temperature : array_like
+        The table's temperatures [K], increasing.
+    table_factor : array_like
+        The table's factors f = PFA(T) / PN [-].
+
+    Returns
+    -------
+    float, ndarray or Series
+        f(T) [-].
+
+    Examples
+    --------
+    >>> t = [293.15, 303.15, 313.15]                # 20, 30, 40 degC
+    >>> round(derating_factor(308.15, t, [1.0, 0.87, 0.74]), 3)
+    0.805
+    """
+    (tt,), tpl = as_float_arrays(temperature)
+    tx = np.asarray(table_temperature, dtype=float)
+    fx = np.asarray(table_factor, dtype=float)
+    out = np.interp(tt, tx, fx, left=fx[0], right=np.nan)
+    return restore(np.where(tt > tx[-1] + 1e-9, np.nan, out), tpl)

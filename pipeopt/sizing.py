@@ -34,7 +34,7 @@ import numpy as np
 import pandas as pd
 
 from . import feasibility
-from .candidates import build_candidates
+from .candidates import REFERENCE_TEMPERATURE, build_candidates
 from .catalog import Catalog, default_catalog
 from .costs import EnergyTariff, PumpStationCost
 from .duty import DutyProfile
@@ -167,7 +167,7 @@ class SizingStudy(StudyFileMixin):
             carbon_price=carbon.price / 1000.0 if carbon else 0.0,
             friction_method=friction_method, constant_friction_factor=constant_friction_factor)
         built = build_candidates(materials, self.catalog, fluid.bulk_modulus, fluid.density,
-                                 self.constraints.restraint)
+                                 self.constraints.restraint, fluid.temperature)
         #: The candidate table (one row per material, size and class), SI.
         self.candidates = built.table
         #: The pipe cost model of each material, resolved (a cost table given by designation
@@ -198,6 +198,12 @@ class SizingStudy(StudyFileMixin):
     @property
     def efficiency(self) -> float:
         return self.pumping.efficiency
+
+    @property
+    def service_temperature(self) -> float:
+        """Temperature of the ratings [K]: the fluid's, or 20 °C when it gives none."""
+        return REFERENCE_TEMPERATURE if self.fluid.temperature is None else \
+            float(self.fluid.temperature)
 
     # ----- what-ifs -------------------------------------------------------------------------
     def replace(self, **changes: Any) -> SizingStudy:
@@ -283,7 +289,8 @@ class SizingStudy(StudyFileMixin):
 
     def check(self, lc: LifeCycle) -> dict[str, np.ndarray]:
         """The constraint checks of the candidates (:func:`pipeopt.feasibility.check`)."""
-        return feasibility.check(self.candidates, lc, self.constraints, self.scenario.density)
+        return feasibility.check(self.candidates, lc, self.constraints, self.scenario.density,
+                                 float(self.line.suction_pressure))
 
     def run(self, inputs: dict[str, Any] | None = None, optimum: bool = True) -> SizingResult:
         """Evaluate every candidate, check feasibility, pick the best, find continuous optima.
@@ -316,8 +323,7 @@ class SizingStudy(StudyFileMixin):
             best = feasible.loc[feasible["eac"].idxmin()]
             success = True
             message = f"best of {len(feasible)} feasible candidates out of {len(table)}"
-        opt = (continuous_optimum(self.scenario, self.candidates, self.pipe_costs, table,
-                                  variations) if optimum else pd.DataFrame())
+        opt = self.continuous_optimum(table, variations) if optimum else pd.DataFrame()
         return SizingResult(self, table, best, opt, success, message, lc,
                             dict(inputs or {}))
 
@@ -333,8 +339,12 @@ class SizingStudy(StudyFileMixin):
             "pump_head_m": lc.pump_head_design, "pump_power_kw": lc.pump_power_peak_year1,
             "energy_kwh_year1": lc.energy_year1, "velocity_max_m_s": lc.velocity_max,
             "pump_head_max_m": lc.pump_head_max, "surge_head_m": checks["surge"],
-            "design_pressure_bar": checks["design_pressure"] / 1e5,
-            "pressure_rating_bar": checks["rating"] / 1e5,
+            "operating_pressure_bar": checks["operating_pressure"] / 1e5,
+            "mdp_bar": checks["mdp"] / 1e5, "pfa_bar": checks["pfa"] / 1e5,
+            "pma_bar": checks["pma"] / 1e5,
+            "rated_pressure_bar": c["pressure_rating_pa"].to_numpy() / 1e5,
+            "temperature_factor": c["temperature_factor"],
+            "mass_kg_per_m": c["mass_kg_per_m"], "cost_per_metre": c["cost_per_metre"],
             "installed_power_kw": lc.installed_power, "capex_pipe": lc.capex_pipe,
             "capex_pump_station": lc.capex_pump_station, "pv_energy": lc.pv_energy,
             "pv_maintenance": lc.pv_maintenance, "pv_replacement": lc.pv_replacement,
@@ -349,18 +359,22 @@ class SizingStudy(StudyFileMixin):
             "eac_carbon": lc.pv_carbon * crf,
             "eac_residual": -lc.pv_residual * crf,
         })
-        reasons, notes = feasibility.reasons(c, lc, checks, self.constraints)
+        reasons, notes = feasibility.reasons(c, lc, checks, self.constraints,
+                                             self.service_temperature)
         df["feasible"] = checks["feasible"]
         df["reasons"] = reasons
         df["notes"] = notes
         df["rank"] = df["eac"].where(df["feasible"]).rank(method="first").astype("Int64")
         return df
 
-    def continuous_optimum(self, table: pd.DataFrame | None = None) -> pd.DataFrame:
-        """The EAC-minimizing inner diameter of each material
+    def continuous_optimum(self, table: pd.DataFrame | None = None,
+                           variations: Variations | None = None) -> pd.DataFrame:
+        """The EAC-minimizing inner diameter of each material within the velocity limits
         (:func:`pipeopt.optimum.continuous_optimum`)."""
         table = self._table(self.evaluate()) if table is None else table
-        return continuous_optimum(self.scenario, self.candidates, self.pipe_costs, table)
+        return continuous_optimum(self.scenario, self.candidates, table, self.constraints,
+                                  variations, bool(self.carbon and self.carbon.embodied),
+                                  float(self.line.suction_pressure))
 
     # ----- uncertainty ----------------------------------------------------------------------
     def tornado(self, ranges: dict[str, tuple[float, float]] | None = None):
@@ -502,6 +516,15 @@ class SizingResult(StudyResult):
         feas = self.candidates[self.candidates["feasible"]].sort_values("eac")
         return feas.groupby("material", sort=False).head(2).reset_index(drop=True)
 
+    def _temperature_words(self, row: pd.Series) -> str:
+        t = self.study.service_temperature - 273.15
+        f = row["temperature_factor"]
+        given = "" if self.study.fluid.temperature is not None else " (not given: taken)"
+        if f == 1:
+            return f"service temperature {t:.0f} degC{given}: no derating of {row['material']}"
+        return (f"service temperature {t:.0f} degC{given}: {row['material']} derated x {f:.3g} "
+                f"(PFA {row['pfa_bar']:.1f} of {row['rated_pressure_bar']:.1f} bar)")
+
     def tables(self) -> dict[str, pd.DataFrame]:
         top = self.candidates.sort_values(["feasible", "eac"], ascending=[False, True])
         cols = ["material", "size", "inner_diameter_m", "velocity_m_s", "head_loss_m",
@@ -543,9 +566,11 @@ class SizingResult(StudyResult):
                 f"  velocity {b['velocity_m_s']:.2f} m/s, head loss {b['head_loss_m']:.2f} m, "
                 f"pump head {b['pump_head_m']:.1f} m, peak power {b['pump_power_kw']:.1f} kW "
                 f"(largest duty, year 1)",
-                f"  design pressure {b['design_pressure_bar']:.1f} bar (highest head "
-                f"{b['pump_head_max_m']:.1f} m + surge {b['surge_head_m']:.1f} m) against a "
-                f"{b['pressure_rating_bar']:.1f} bar rating",
+                f"  MDP {b['mdp_bar']:.1f} bar (suction {s.line.suction_pressure / 1e5:.1f} "
+                f"bar + highest pump head {b['pump_head_max_m']:.1f} m + surge "
+                f"{b['surge_head_m']:.1f} m) within PMA {b['pma_bar']:.1f} bar; operating "
+                f"{b['operating_pressure_bar']:.1f} bar within PFA {b['pfa_bar']:.1f} bar",
+                f"  {self._temperature_words(b)}",
             ]
         else:
             lines += ["", "No feasible candidate. " + self.message]
@@ -557,12 +582,19 @@ class SizingResult(StudyResult):
                 lines.append(f"  {r['material']:<16} {r['size']:<16} EAC {r['eac']:>12,.0f}"
                              f"{cur}/yr{delta}  V {r['velocity_m_s']:.2f} m/s")
         if not self.optimum.empty:
-            lines += ["", "Continuous optimum (inner diameter, EAC, bracketing sizes):"]
+            lines += ["", "Continuous optimum within the velocity limits (class, inner diameter, "
+                          "EAC, neighbouring sizes of the class):"]
             for _, o in self.optimum.iterrows():
                 flag = " (at the edge of the size range)" if o["at_bound"] else ""
-                lines.append(f"  {o['material']:<16} {o['inner_diameter_m'] * 1000:8.1f} mm  "
-                             f"EAC {o['eac']:>12,.0f}{cur}/yr  between {o['lower_size']} and "
-                             f"{o['upper_size']}{flag}")
+                lines.append(f"  {o['material']:<16} {o['pressure_class']:<8} "
+                             f"{o['inner_diameter_m'] * 1000:8.1f} mm  EAC {o['eac']:>12,.0f}"
+                             f"{cur}/yr  between {o['lower_size']} and {o['upper_size']}{flag}")
+                if o["limited_by"]:
+                    lines.append(f"    {o['limited_by']} binds: unconstrained "
+                                 f"{o['unconstrained_inner_diameter_m'] * 1000:.1f} mm, EAC "
+                                 f"{o['unconstrained_eac']:,.0f}{cur}/yr")
+                if o["note"]:
+                    lines.append(f"    {o['note']}")
         infeasible = int((~self.candidates["feasible"]).sum())
         if infeasible:
             lines += ["", f"{infeasible} candidate(s) infeasible; see the 'reasons' column."]

@@ -228,11 +228,19 @@ def _closed_form(which: str) -> Callable[[], float]:
     def f() -> float:
         import numpy as np
 
+        from .catalog import list_sizes
         from .economics import capital_recovery_factor
         from .lifecycle import evaluate
         from .sizing import SizingStudy
 
-        st = SizingStudy.from_dict(_CLOSED_FORM_STUDY)
+        # a textbook cost model on the bore, a D^m, priced for every size of the class: the
+        # continuous optimum interpolates it log-log, which reproduces the power law exactly
+        sizes = list_sizes("pe100", pressure_class="SDR 17")
+        table = {d: 1500.0 * b**1.4 for d, b in zip(sizes["designation"],
+                                                      sizes["inner_diameter_m"], strict=True)}
+        study = {**_CLOSED_FORM_STUDY, "material": [{"name": "pe100", "classes": ["SDR 17"],
+                                                      "cost": {"table": table}}]}
+        st = SizingStudy.from_dict(study)
         opt = st.run().optimum.iloc[0]
         d = float(opt["inner_diameter_m"])
         if which == "diameter":
@@ -251,8 +259,6 @@ _CLOSED_FORM_STUDY = {
     "energy": {"price": 0.1},
     "economics": {"discount_rate": 0.06, "horizon": 30, "pipe_life": 30},
     "hydraulics": {"friction_method": "constant", "friction_factor": 0.015},
-    "material": [{"name": "pe100", "classes": ["SDR 17"],
-                  "cost": {"coefficient": 1500.0, "exponent": 1.4}}],
 }
 
 

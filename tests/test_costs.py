@@ -3,7 +3,13 @@
 import numpy as np
 import pytest
 
-from pipeopt.costs import EnergyTariff, PowerLawPipeCost, PumpStationCost, TablePipeCost
+from pipeopt.costs import (
+    DesignationCostTable,
+    EnergyTariff,
+    MassLayingCost,
+    PowerLawPipeCost,
+    PumpStationCost,
+)
 from pipeopt.errors import InputError
 
 
@@ -17,16 +23,32 @@ def test_power_law():
         PowerLawPipeCost(100.0, 9.0)
 
 
-def test_table_reproduces_a_power_law_between_rows():
-    d = np.array([0.2, 0.3, 0.45])
-    law = PowerLawPipeCost(2000.0, 1.3)
-    table = TablePipeCost(tuple(d), tuple(law.per_metre(d)))
-    x = np.array([0.2, 0.25, 0.33, 0.45])
-    np.testing.assert_allclose(table.per_metre(x), law.per_metre(x), rtol=1e-12)
-    with pytest.raises(InputError, match="extrapolation"):
-        table.per_metre(0.5)
-    with pytest.raises(InputError, match="strictly increasing"):
-        TablePipeCost((0.3, 0.2), (1.0, 2.0))
+def test_material_plus_laying_by_hand():
+    # definition: c = m p + a OD^n, or a laying cost by nominal size (worked by hand)
+    c = MassLayingCost(2.5, 600.0, 1.1)
+    got = c.price(["315 SDR 17", "315 SDR 11"], ["315", "315"], [0.315, 0.315], [16.7, 24.7])
+    want = [16.7 * 2.5 + 600.0 * 0.315**1.1, 24.7 * 2.5 + 600.0 * 0.315**1.1]
+    np.testing.assert_allclose(got, want, rtol=1e-15)
+    t = MassLayingCost(2.0, laying_table={"DN 300": 150.0, "DN 400": 190.0})
+    assert t.price(["DN 300 C40"], ["dn300"], [0.326], [60.0]).tolist() == [60.0 * 2.0 + 150.0]
+    with pytest.raises(InputError, match=r"no laying cost for nominal size 'DN 350'; nearest "
+                                         r"listed: DN 300"):
+        t.price(["DN 350 C40"], ["DN 350"], [0.378], [70.0])
+    with pytest.raises(InputError, match=r"cost: give laying_coefficient"):
+        MassLayingCost(2.0)
+
+
+def test_designation_table_is_used_as_given():
+    # no interpolation: each designation its own price, two classes of one bore allowed
+    t = DesignationCostTable.parse({"DN 300 C40": 412.0, "DN 300 C25": 398.0,
+                                    "DN 400 C30": 455.0}, "cost.table")
+    got = t.price(["DN 300 C25", "dn 300 c40"], ["DN 300"] * 2, [0.326] * 2, [50.0, 60.0])
+    assert got.tolist() == [398.0, 412.0]
+    with pytest.raises(InputError, match=r"no cost for 'DN 350 C40'; nearest listed: "
+                                         r"DN 300 C40"):
+        t.price(["DN 350 C40"], ["DN 350"], [0.378], [70.0])
+    with pytest.raises(InputError, match="listed twice"):
+        DesignationCostTable.parse([["DN 300 C40", 1.0], ["dn300c40", 2.0]], "cost.table")
 
 
 def test_pump_station():

@@ -57,9 +57,23 @@ def study_from(**changes) -> SizingStudy:
 # ------------------------------------------------------------------------------------------
 # closed-form optimum (Genereaux 1937; derivation in docs/references.md#economics)
 # ------------------------------------------------------------------------------------------
+def bore_power_law_table(material: str, pressure_class: str, a: float, m: float) -> dict:
+    """A cost table by designation of a * bore^m (a textbook cost model on the bore, for the
+    closed form), for every size of one class."""
+    from pipeopt import catalog
+
+    sizes = catalog.list_sizes(material, pressure_class=pressure_class)
+    return {"table": {d: a * b**m for d, b in zip(sizes["designation"],
+                                                   sizes["inner_diameter_m"], strict=True)}}
+
+
 def test_closed_form_optimum_with_constant_friction():
     f, a, m = 0.015, 1500.0, 1.4
-    st_ = study_from(hydraulics={"friction_method": "constant", "friction_factor": f})
+    # the continuous optimum interpolates a class's costs log-log between its sizes, which
+    # reproduces a power law of the bore exactly: the closed form applies
+    st_ = study_from(hydraulics={"friction_method": "constant", "friction_factor": f},
+                     material=[{"name": "pe100", "classes": ["SDR 17"],
+                                "cost": bore_power_law_table("pe100", "SDR 17", a, m)}])
     rho = st_.fluid.density
     q, tau, p, eta, i, n = 0.2, 8000.0, 0.1, 0.75, 0.06, 30
     crf = capital_recovery_factor(i, n)
@@ -148,9 +162,13 @@ def test_pressure_check_uses_joukowsky_or_allowance():
                      constraints={"surge_allowance": "30 m"}).run()
     c = res.candidates
     np.testing.assert_allclose(c["surge_head_m"], 30.0)
-    over = c["design_pressure_bar"] > c["pressure_rating_bar"]
-    assert (c.loc[over, "reasons"].str.contains("bar rating")).all()
-    assert not c.loc[~over, "reasons"].str.contains("bar rating").any()
+    over = c["mdp_bar"] > c["pma_bar"]
+    assert over.any() and (c.loc[over, "reasons"].str.contains("exceeds PMA")).all()
+    assert not c.loc[~over, "reasons"].str.contains("exceeds PMA").any()
+    # MDP = operating pressure + rho g surge (EN 805 vocabulary; by definition)
+    rho_g = res.study.fluid.density * 9.80665
+    np.testing.assert_allclose(c["mdp_bar"] * 1e5, (c["pump_head_max_m"] + 30.0) * rho_g,
+                               rtol=1e-12)
     # without an allowance: Joukowsky a V_max / g with the candidate's wave speed
     res2 = study_from().run()
     c2 = res2.candidates

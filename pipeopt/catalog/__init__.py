@@ -51,8 +51,10 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from .._arrays import as_float_arrays as _as_arrays
+from .._arrays import restore as _restore
 from ..errors import InputError
-from ..pressure import STAINLESS_DEFAULTS, STEEL_DEFAULTS, barlow_pressure
+from ..pressure import STAINLESS_DEFAULTS, STEEL_DEFAULTS, barlow_pressure, derating_factor
 from ..units import to_si
 
 __all__ = [
@@ -67,6 +69,9 @@ __all__ = [
     "get_material",
     "read_sizes",
     "read_materials",
+    "ServiceLimits",
+    "mass_per_metre",
+    "nearest_designations",
 ]
 
 #: Columns of a size table, all SI.
@@ -128,6 +133,83 @@ class Material:
     density: float
     embodied_carbon: float | None
     sources: dict
+
+
+@dataclass(frozen=True)
+class ServiceLimits:
+    """Service limits and pressure basis of a material (``service.csv``), SI.
+
+    Attributes
+    ----------
+    max_temperature : float or None
+        Highest service temperature of the rating [K]; None where none is known (not checked).
+    derating_temperature, derating_factor : tuple of float
+        The published derating table (temperatures [K], factors f = PFA(T)/PN); empty: no
+        derating up to ``max_temperature``.
+    pma_factor : float
+        PMA / PFA: allowable maximum operating pressure, surge included, over the allowable
+        operating pressure (EN 805 vocabulary) [-].
+    lining_density : float
+        Density of the bore lining the size tables list [kg/m³].
+    source : str
+        Where the values come from.
+    """
+
+    max_temperature: float | None
+    derating_temperature: tuple
+    derating_factor: tuple
+    pma_factor: float
+    lining_density: float
+    source: str
+
+    def factor(self, temperature: Any) -> Any:
+        """Derating factor of the rating at ``temperature`` [K]: 1 without a table, NaN above
+        ``max_temperature`` (outside the service range)."""
+        (t,), tpl = _as_arrays(temperature)
+        if self.derating_temperature:
+            f = np.asarray(derating_factor(t, self.derating_temperature, self.derating_factor))
+        else:
+            f = np.ones_like(t)
+        if self.max_temperature is not None:
+            f = np.where(t > self.max_temperature + 1e-9, np.nan, f)
+        return _restore(f, tpl)
+
+
+#: Service limits of a material the service table does not list.
+UNLISTED_SERVICE = ServiceLimits(None, (), (), 1.0, 2100.0,
+                                 "not listed: no temperature limit checked, PMA = PFA")
+
+
+def mass_per_metre(outside_diameter: Any, wall: Any, lining: Any, wall_density: Any,
+                   lining_density: Any = 0.0) -> Any:
+    """Mass of one metre of pipe with its bore lining [kg/m].
+
+    m = π/4 (D_o² − D_w²) ρ_wall + π/4 (D_w² − D_i²) ρ_lining, with D_w = D_o − 2 e the bore of
+    the wall and D_i = D_w − 2 l the lined bore (plain-end pipe, no joints or coatings).
+
+    Parameters
+    ----------
+    outside_diameter, wall, lining : float or array_like
+        Outside diameter, wall and lining thickness [m].
+    wall_density, lining_density : float or array_like
+        Densities of the wall material and of the lining [kg/m³].
+
+    Returns
+    -------
+    float, ndarray or Series
+        Mass per metre [kg/m].
+
+    Examples
+    --------
+    >>> round(mass_per_metre(0.3238, 0.00953, 0.0, 7850.0), 2)   # NPS 12 STD steel
+    73.86
+    """
+    (od, e, lin, rho_w, rho_l), tpl = _as_arrays(outside_diameter, wall, lining, wall_density,
+                                                 lining_density)
+    bore_wall = od - 2.0 * e
+    bore = bore_wall - 2.0 * lin
+    return _restore(np.pi / 4.0 * ((od**2 - bore_wall**2) * rho_w
+                                   + (bore_wall**2 - bore**2) * rho_l), tpl)
 
 
 # --------------------------------------------------------------------------------------------
@@ -367,8 +449,13 @@ def _size_number(norm: str) -> tuple[float, str]:
     return value, norm[:m.start()] + "#" + norm[m.end():]
 
 
-def _nearest_designations(designation: str, names: list[str], n: int = 3) -> list[str]:
-    """Nearest valid designations: same class and closest size first, then by spelling."""
+def nearest_designations(designation: str, names: list[str], n: int = 3) -> list[str]:
+    """Nearest of ``names`` to ``designation``: same class and closest size first, then by
+    spelling (for "did you mean" messages).
+
+    >>> nearest_designations("DN 350 C40", ["DN 300 C40", "DN 300 C25", "DN 400 C40"])
+    ['DN 300 C40', 'DN 400 C40']
+    """
     target, rest = _size_number(_normalize(designation))
     scored = []
     for name in names:
@@ -460,6 +547,12 @@ class Catalog:
             raise InputError(f"material: unknown material {key!r}{hint} (known: "
                              f"{', '.join(self._materials)})") from None
 
+    def service(self, key: str) -> ServiceLimits:
+        """Service limits and pressure basis of material ``key`` (:class:`ServiceLimits`);
+        a material the bundled service table does not list gets :data:`UNLISTED_SERVICE`."""
+        self.material(key)
+        return _bundled_service().get(key, UNLISTED_SERVICE)
+
     @property
     def material_keys(self) -> list[str]:
         """Keys of every material."""
@@ -520,7 +613,7 @@ class Catalog:
         if key in self._index:
             return self._index[key]
         names = self._sizes.loc[self._sizes["material"] == material, "designation"].tolist()
-        near = _nearest_designations(designation, names)
+        near = nearest_designations(designation, names)
         hint = f"; nearest: {', '.join(repr(n) for n in near)}" if near else ""
         raise InputError(f"size: {material} has no size {designation!r}{hint}")
 
@@ -584,6 +677,35 @@ class Catalog:
 # --------------------------------------------------------------------------------------------
 def _bundled_text(filename: str) -> str:
     return resources.files(__name__).joinpath(filename).read_text(encoding="utf-8")
+
+
+def read_service(source: Any, name: str = "service file") -> dict[str, ServiceLimits]:
+    """Read the service limits (``service.csv``) and the derating tables they name."""
+    raw = _read_csv(source, name)
+    der = _read_csv(_bundled_text("temperature_derating.csv"), "temperature_derating.csv")
+    tables: dict[str, tuple[tuple, tuple]] = {}
+    for key, rows in der.groupby("derating", sort=False):
+        t = tuple(float(x) + 273.15 for x in rows["temperature_c"])
+        tables[str(key)] = (t, tuple(float(x) for x in rows["factor"]))
+    out = {}
+    for i, rec in enumerate(raw.to_dict("records"), start=1):
+        where = f"{name}: row {i}"
+        group = str(rec["derating"]).strip()
+        if group and group not in tables:
+            raise InputError(f"{where}, column derating: no derating table {group!r}; tables: "
+                             f"{', '.join(tables)}")
+        t_max = str(rec["max_temperature_c"]).strip()
+        lining = str(rec["lining_density_kg_m3"]).strip()
+        dt, df = tables.get(group, ((), ()))
+        out[str(rec["material"]).strip()] = ServiceLimits(
+            float(t_max) + 273.15 if t_max else None, dt, df, float(rec["pma_factor"]),
+            float(lining) if lining else 2100.0, str(rec["source"]))
+    return out
+
+
+@functools.lru_cache(maxsize=1)
+def _bundled_service() -> dict[str, ServiceLimits]:
+    return read_service(_bundled_text("service.csv"), "service.csv")
 
 
 @functools.lru_cache(maxsize=1)
