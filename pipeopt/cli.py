@@ -66,7 +66,8 @@ pipe_maintenance = 0.0
 name = "ductile-iron"       # see: pipeopt catalog
 min_diameter = "0.15 m"
 max_diameter = "0.6 m"
-cost = { coefficient = 2000.0, exponent = 1.3 }   # per metre, a * D^n with D in m
+# price per kg of pipe (wall and lining) + laying a * OD^n per metre (OD in m)
+cost = { price_per_kg = 2.0, laying_coefficient = 500.0, laying_exponent = 1.1 }
 
 [constraints]
 velocity_min = "0.5 m/s"

@@ -39,7 +39,7 @@ SIZING = nb([
     md("""
 # 1. Sizing a new pumped line from scratch
 
-**Scenario (invented, illustrative):** the fictional Corran Ferry water company must pump raw
+**Scenario (invented, illustrative):** the fictional Ostrevale water company must pump raw
 water from a river intake to its treatment works: 2.9 km of line, 31 m of static head, two
 seasons of demand growing 1.5 % a year. Every number below is invented to show the method.
 
@@ -80,11 +80,15 @@ catalog.list_sizes("pe100", min_diameter="0.25 m", max_diameter="0.6 m",
     md("""
 ## The study
 
-Costs per metre are invented power laws in the inner diameter (a · D^n with D in m).
+Prices follow the pipe: each size costs its mass per metre (wall and lining, from the catalog)
+times a price per kilogram, plus a laying cost that grows with the outside diameter
+(a · OD^n, OD in m). So a heavier class of one size costs more than a lighter one, and a class
+wins for its hydraulics or its rating, never for a cheaper price of more pipe. Every price here
+is invented.
 """),
     code("""
 study = SizingStudy.from_dict({
-    "study": {"name": "Corran Ferry raw-water line (illustrative)", "currency": "EUR",
+    "study": {"name": "Ostrevale raw-water line (fictional, illustrative)", "currency": "EUR",
               "illustrative": True},
     "fluid": {"kind": "water", "temperature": "11 degC"},
     "line": {"length": "2.9 km", "static_head": "31 m", "minor_loss_k": 7.0},
@@ -99,12 +103,14 @@ study = SizingStudy.from_dict({
                   "pipe_maintenance": 0.003},
     "material": [
         {"name": "ductile-iron", "min_diameter": "0.2 m", "max_diameter": "0.7 m",
-         "classes": ["C40", "C30"], "cost": {"coefficient": 2100.0, "exponent": 1.3}},
+         "classes": ["C40", "C30"],
+         "cost": {"price_per_kg": 1.9, "laying_coefficient": 520.0, "laying_exponent": 1.1}},
         {"name": "pe100", "min_diameter": "0.2 m", "max_diameter": "0.7 m",
-         "classes": ["SDR 17", "SDR 11"], "cost": {"coefficient": 1500.0, "exponent": 1.45}},
+         "classes": ["SDR 17", "SDR 11"],
+         "cost": {"price_per_kg": 2.6, "laying_coefficient": 380.0, "laying_exponent": 1.05}},
         {"name": "steel", "min_diameter": "0.2 m", "max_diameter": "0.7 m",
-         "classes": ["STD"], "cost": {"coefficient": 2400.0, "exponent": 1.2},
-         "aging": "typical"},
+         "classes": ["STD"], "aging": "typical",
+         "cost": {"price_per_kg": 2.3, "laying_coefficient": 560.0, "laying_exponent": 1.1}},
     ],
     "constraints": {"velocity_min": "0.5 m/s", "velocity_max": "2.5 m/s"},
 })
@@ -138,7 +144,7 @@ MATERIALS = nb([
     md("""
 # 2. Comparing materials for one line: pressure class, surge and carbon
 
-**Scenario (invented, illustrative):** the fictional Maelor Park district-cooling scheme needs a
+**Scenario (invented, illustrative):** the fictional Zenthall Point district-cooling scheme needs a
 1.4 km header carrying 30 % ethylene-glycol brine at 6 °C against 55 m of static head (a hill
 between plant and load). Which material and which pressure class, once surge and carbon are
 counted? All figures are invented.
@@ -174,7 +180,8 @@ pd.DataFrame(rows, columns=["material", "size", "wave speed [m/s]", "surge head 
     md("## The study, with carbon priced"),
     code("""
 study = SizingStudy.from_dict({
-    "study": {"name": "Maelor Park chilled-brine header (illustrative)", "currency": "GBP",
+    "study": {"name": "Zenthall Point chilled-brine header (fictional, illustrative)",
+              "currency": "GBP",
               "illustrative": True},
     "fluid": {"kind": "coolprop", "name": "INCOMP::MEG-30%", "temperature": "6 degC"},
     "line": {"length": "1.4 km", "static_head": "55 m", "minor_loss_k": 12.0},
@@ -185,14 +192,16 @@ study = SizingStudy.from_dict({
     "carbon": {"grid_factor": 0.2, "price": 90.0},
     "material": [
         {"name": "steel", "min_diameter": "0.2 m", "max_diameter": "0.5 m",
-         "classes": ["STD", "Sch 40"], "cost": {"coefficient": 2500.0, "exponent": 1.2}},
+         "classes": ["STD", "Sch 40"],
+         "cost": {"price_per_kg": 2.4, "laying_coefficient": 600.0, "laying_exponent": 1.1}},
         {"name": "stainless-steel", "min_diameter": "0.2 m", "max_diameter": "0.5 m",
-         "classes": ["Sch 10S"], "cost": {"coefficient": 4200.0, "exponent": 1.25}},
+         "classes": ["Sch 10S"],
+         "cost": {"price_per_kg": 7.5, "laying_coefficient": 650.0, "laying_exponent": 1.1}},
         {"name": "ductile-iron", "min_diameter": "0.2 m", "max_diameter": "0.5 m",
-         "cost": {"coefficient": 2200.0, "exponent": 1.3}},
+         "cost": {"price_per_kg": 2.0, "laying_coefficient": 540.0, "laying_exponent": 1.1}},
         {"name": "pe100", "min_diameter": "0.2 m", "max_diameter": "0.5 m",
          "classes": ["SDR 17", "SDR 11", "SDR 9"],
-         "cost": {"coefficient": 1600.0, "exponent": 1.45}},
+         "cost": {"price_per_kg": 2.8, "laying_coefficient": 400.0, "laying_exponent": 1.05}},
     ],
     "constraints": {"velocity_max": "3 m/s"},
 })
@@ -202,13 +211,16 @@ result
     md("""
 ## Which classes fail the pressure check, and why
 
-The design pressure is the highest pump head plus the Joukowsky rise with each candidate's own
-wave speed; it is compared with the rating of its class.
+In the terms of EN 805: the operating pressure (the highest pump head, plus any suction
+pressure of a closed loop) must stay within PFA, the allowable operating pressure of the class
+at the service temperature; the maximum design pressure MDP (the operating pressure plus the
+Joukowsky rise with each candidate's own wave speed) within PMA, the allowable maximum with
+surge. Plastics are derated by temperature (here 6 °C: no derating).
 """),
     code("""
 c = result.candidates
-c[c["reasons"].str.contains("rating")][["material", "size", "design_pressure_bar",
-                                        "pressure_rating_bar", "reasons"]].head(10)
+c[c["reasons"].str.contains("PFA|PMA")][["material", "size", "operating_pressure_bar",
+                                         "mdp_bar", "pfa_bar", "pma_bar", "reasons"]].head(10)
 """),
     md("## The best of each material, and what carbon adds"),
     code("""
@@ -226,7 +238,7 @@ UPGRADE = nb([
     md("""
 # 3. Justifying the upgrade of an aged main
 
-**Scenario (invented, illustrative):** the fictional Whinmoor Road trunk main is unlined cast
+**Scenario (invented, illustrative):** the fictional Crowlark Street trunk main is unlined cast
 iron laid decades ago. A field test measured its losses; breaks are rising. Keep it, reline it,
 replace it, or lay a second pipe beside it? And when? Every figure is invented.
 """),
@@ -245,11 +257,11 @@ it is found by root finding on Colebrook–White, and its equivalent Hazen–Wil
 """),
     code("""
 study = UpgradeStudy.from_dict({
-    "study": {"name": "Whinmoor Road trunk main (illustrative)", "currency": "EUR",
+    "study": {"name": "Crowlark Street trunk main (fictional, illustrative)", "currency": "EUR",
               "illustrative": True},
     "fluid": {"kind": "water", "temperature": "9 degC"},
     "existing": {"material": "cast-iron-aged", "inner_diameter": "0.235 m",
-                     "bore_as_laid": "0.25 m",
+                 "bore_as_laid": "0.25 m",
                  "length": "2.7 km", "static_head": "16 m", "minor_loss_k": 5.0,
                  "aging": "0.04 mm/yr", "breaks_per_year": 2.5, "break_growth": 0.07,
                  "break_cost": 8500.0, "leakage_cost": 9000.0, "leakage_growth": 0.03,
@@ -264,7 +276,7 @@ study = UpgradeStudy.from_dict({
     "economics": {"discount_rate": 0.04, "horizon": 40, "pipe_life": 80},
     "option": [
         {"kind": "reline", "liner_thickness": "5 mm", "cost_per_metre": 230.0,
-         "leakage_factor": 0.7, "life": 50},
+         "cleaning_cost_per_metre": 30.0, "leakage_factor": 0.7, "life": 50},
         {"kind": "replace", "name": "replace DN 250", "material": "ductile-iron",
          "size": "DN 250 C40", "cost_per_metre": 470.0},
         {"kind": "duplicate", "name": "duplicate PE 200", "material": "pe100",

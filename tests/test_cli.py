@@ -29,7 +29,8 @@ def test_demo_prints_a_readable_summary():
 
 
 def test_run_writes_candidates(tmp_path):
-    code = main(["run", str(DATA / "larkspur.toml"), "--out", str(tmp_path / "res"), "--quiet"])
+    code = main(["run", str(DATA / "marrowin_flats.toml"), "--out", str(tmp_path / "res"),
+                 "--quiet"])
     assert code == 0
     df = pd.read_csv(tmp_path / "res" / "candidates.csv")
     for col in ("material", "size", "inner_diameter_m", "velocity_m_s", "eac", "feasible",

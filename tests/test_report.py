@@ -67,11 +67,11 @@ def test_out_folder_is_not_overwritten_without_force(tmp_path, capsys):
     out = tmp_path / "res"
     out.mkdir()
     (out / "keep.txt").write_text("old result")
-    assert main(["upgrade", str(DATA / "upgrade_small.toml"), "--out", str(out)]) == 2
+    assert main(["upgrade", str(DATA / "tullomere_booster.toml"), "--out", str(out)]) == 2
     assert "not empty; use --force" in capsys.readouterr().err
     assert (out / "keep.txt").read_text() == "old result"
     assert not (out / "report.html").exists()
-    assert main(["upgrade", str(DATA / "upgrade_small.toml"), "--out", str(out),
+    assert main(["upgrade", str(DATA / "tullomere_booster.toml"), "--out", str(out),
                  "--force"]) == 0
     assert (out / "report.html").is_file()
 

@@ -184,7 +184,7 @@ def test_no_feasible_candidate_is_reported_not_raised():
 
 
 def test_toml_study_with_cost_table():
-    st_ = SizingStudy.from_toml(DATA / "larkspur.toml")
+    st_ = SizingStudy.from_toml(DATA / "marrowin_flats.toml")
     res = st_.run()
     pvc = res.candidates[res.candidates["material"] == "pvc-u"]
     row = pvc[pvc["size"] == "315 PN 10"].iloc[0]

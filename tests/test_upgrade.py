@@ -225,10 +225,10 @@ def test_upgrade_study_file_errors():
 def test_upgrade_from_toml_file_and_cli(tmp_path):
     from pipeopt.cli import main
 
-    st = UpgradeStudy.from_toml(DATA / "upgrade_small.toml")
+    st = UpgradeStudy.from_toml(DATA / "tullomere_booster.toml")
     res = st.run()
     assert set(res.cash_flows["option"]) == {"keep", "reline", "duplicate"}
-    assert main(["upgrade", str(DATA / "upgrade_small.toml"), "--out", str(tmp_path)]) == 0
+    assert main(["upgrade", str(DATA / "tullomere_booster.toml"), "--out", str(tmp_path)]) == 0
     assert (tmp_path / "cash_flows.csv").is_file() and (tmp_path / "summary.csv").is_file()
 
 
@@ -263,9 +263,9 @@ def test_cash_flow_tables_reconcile_and_reline_cleans_first():
 def test_cli_best_year_of_every_option(capsys):
     from pipeopt.cli import main
 
-    assert main(["upgrade", str(DATA / "upgrade_small.toml"), "--best-year"]) == 0
+    assert main(["upgrade", str(DATA / "tullomere_booster.toml"), "--best-year"]) == 0
     out = capsys.readouterr().out
-    st = UpgradeStudy.from_toml(DATA / "upgrade_small.toml")
+    st = UpgradeStudy.from_toml(DATA / "tullomere_booster.toml")
     for opt in st.states:
         b = st.best_year(opt.name)
         assert f"{opt.name:<20} year {b.year:>3}" in out

@@ -1,0 +1,169 @@
+"""Generate the README's output blocks from the code, or check that they are up to date.
+
+Run from the repository root: ``python scripts/readme.py`` rewrites every generated block of
+README.md; ``python scripts/readme.py --check`` exits 1 when a block differs from what the code
+prints today (tests/test_readme.py runs the same check). A generated block is a fenced block
+right after a marker line ``<!-- generated: NAME -->``; NAME is one of :data:`GENERATORS`.
+"""
+
+from __future__ import annotations
+
+import argparse
+import re
+import sys
+from importlib import resources
+from pathlib import Path
+
+README = Path(__file__).resolve().parents[1] / "README.md"
+MARK = re.compile(r"^<!-- generated: (?P<name>[\w-]+) -->\n(?P<fence>```[^\n]*)\n"
+                  r"(?P<body>(?:.*?\n)??)```$", re.S | re.M)
+
+
+def _demo_file(name: str) -> str:
+    text = resources.files("pipeopt").joinpath("data", name).read_text("utf-8")
+    lines = text.splitlines()
+    while lines and (lines[0].startswith("#") or not lines[0].strip()):
+        lines.pop(0)   # the file's header comment: the README says the same in its words
+    return "\n".join(lines).rstrip()
+
+
+def _sizing_text() -> str:
+    from pipeopt import SizingStudy
+
+    return SizingStudy.demo().run().text()
+
+
+def _between(text: str, first: str, stop: str) -> str:
+    lines = text.splitlines()
+    i = next(k for k, x in enumerate(lines) if x.startswith(first))
+    j = next(k for k in range(i + 1, len(lines)) if lines[k].startswith(stop))
+    return "\n".join(lines[i:j]).rstrip()
+
+
+def demo_sizing_study() -> str:
+    return _demo_file("demo_sizing.toml")
+
+
+def demo_sizing_output() -> str:
+    return _between(_sizing_text(), "Best:", "Best two")
+
+
+def _optimum_lines(text: str) -> str:
+    lines = text.splitlines()
+    i = next(k for k, x in enumerate(lines) if x.startswith("Continuous optimum"))
+    out = [lines[i]]
+    for x in lines[i + 1:]:
+        if not x.startswith("  "):
+            break
+        out.append(x)
+    return "\n".join(out)
+
+
+def demo_upgrade_study() -> str:
+    text = _demo_file("demo_upgrade.toml")
+    keep = []
+    take = False
+    for line in text.splitlines():
+        if line.startswith("["):
+            take = line.startswith(("[existing", "[[option]]"))
+        if take:
+            keep.append(line)
+    return "\n".join(keep).rstrip()
+
+
+def _table_lines(text: str) -> str:
+    lines = text.splitlines()
+    i = next(k for k, x in enumerate(lines) if x.startswith("option "))
+    out = []
+    for x in lines[i:]:
+        if not x.strip():
+            break
+        out.append(x.rstrip())
+    return "\n".join(out)
+
+
+def demo_best_year() -> str:
+    from pipeopt import UpgradeStudy
+
+    return UpgradeStudy.demo().best_year("replace DN 300").text()
+
+
+def demo_tornado() -> str:
+    from pipeopt import SizingStudy
+
+    return SizingStudy.demo().tornado().text()
+
+
+def physics_output() -> str:
+    from pipeopt import Fluid, Quantity, catalog, friction
+
+    water = Fluid.water("15 degC")
+    pipe = catalog.lookup("ductile-iron", "DN 300 C40")
+    d = pipe["inner_diameter_m"]
+    re_ = friction.reynolds_number_from_flow(Quantity(360, "m^3/h"), d, water.density,
+                                             water.viscosity)
+    f = friction.friction_factor(re_, 0.1e-3 / d)
+    return f"bore {d * 1000:.1f} mm, Re {re_:,.0f}, f {f:.10f}"
+
+
+def error_example() -> str:
+    from pipeopt import SizingStudy
+    from pipeopt.errors import InputError
+
+    mapping = {"fluid": {"kind": "water", "temperature": "15 degC"},
+               "line": {"length": 3200, "static_head": "24 m"}}
+    try:
+        SizingStudy.from_dict(mapping)
+    except InputError as exc:
+        return f"pipeopt: error: {exc}"
+    raise AssertionError("the example should fail")
+
+
+GENERATORS = {
+    "demo-sizing-study": demo_sizing_study,
+    "demo-sizing-output": demo_sizing_output,
+    "demo-sizing-optimum": lambda: _optimum_lines(_sizing_text()),
+    "demo-upgrade-study": demo_upgrade_study,
+    "demo-upgrade-output": lambda: _table_lines(_upgrade_text()),
+    "demo-best-year": demo_best_year,
+    "demo-tornado": demo_tornado,
+    "physics-output": physics_output,
+    "error-example": error_example,
+}
+
+
+def _upgrade_text() -> str:
+    from pipeopt import UpgradeStudy
+
+    return UpgradeStudy.demo().run().text()
+
+
+def render(readme: str) -> str:
+    """The README with every generated block rewritten from the code."""
+    def block(m: re.Match) -> str:
+        name = m.group("name")
+        if name not in GENERATORS:
+            raise KeyError(f"README: unknown generated block {name!r}")
+        return f"<!-- generated: {name} -->\n{m.group('fence')}\n{GENERATORS[name]()}\n```"
+
+    return MARK.sub(block, readme)
+
+
+def main() -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--check", action="store_true", help="exit 1 if a block is stale")
+    args = parser.parse_args()
+    text = README.read_text(encoding="utf-8")
+    new = render(text)
+    if args.check:
+        if new != text:
+            print("README.md: generated blocks differ from what the code prints; run "
+                  "python scripts/readme.py", file=sys.stderr)
+            return 1
+        return 0
+    README.write_text(new, encoding="utf-8")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
