@@ -20,7 +20,8 @@ from . import friction as fr
 from .economics import capital_recovery_factor
 
 __all__ = ["PALETTE", "cost_curves", "cost_breakdown", "velocity_head", "friction_chart",
-           "tornado_chart", "probability_cheapest", "eac_distributions", "cumulative_cash_flow"]
+           "tornado_chart", "probability_cheapest", "eac_distributions", "cumulative_cash_flow",
+           "network"]
 
 #: Okabe & Ito colour-blind-safe palette.
 PALETTE = ["#0072B2", "#E69F00", "#009E73", "#D55E00", "#CC79A7", "#56B4E9", "#F0E442",
@@ -299,3 +300,7 @@ def cumulative_cash_flow(upgrade_result, ax=None):
     _style(ax, "Upgrade options: cumulative discounted cash flow")
     ax.legend(fontsize=7, frameon=False)
     return ax
+
+
+# the map of a network result lives with the network subpackage; it is offered here too
+from .network.plots import network  # noqa: E402
