@@ -302,5 +302,16 @@ def cumulative_cash_flow(upgrade_result, ax=None):
     return ax
 
 
-# the map of a network result lives with the network subpackage; it is offered here too
-from .network.plots import network  # noqa: E402
+def network(result, ax=None, labels: bool = True):
+    """Map of a designed network: pipe width by diameter, node colour by pressure margin.
+
+    The figure of a :class:`~pipeopt.network.NetworkResult`; see
+    :func:`pipeopt.network.plots.network`.
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+    """
+    from .network.plots import network as _network
+
+    return _network(result, ax=ax, labels=labels)

@@ -2,10 +2,12 @@
 
 from __future__ import annotations
 
+import re
 import subprocess
 import sys
 import tomllib
 from importlib import resources
+from pathlib import Path
 
 import pytest
 
@@ -28,12 +30,22 @@ def quick_file(tmp_path, evaluations=2000):
     return f
 
 
-def test_network_demo_prints_the_summary():
+def _mask_residuals(text: str) -> str:
+    """The hydraulic residuals are rounding-level numbers that differ between machines."""
+    return re.sub(r"imbalance [0-9.e+-]+", "imbalance ~", text)
+
+
+def test_network_demo_prints_the_summary_shown_in_the_readme():
     out = run_cli("network", "--demo")
     assert out.returncode == 0, out.stderr
     assert "invented for illustration" in out.stdout
     assert "Sizes chosen" in out.stdout and "Caution:" in out.stdout
     assert "Traceback" not in out.stderr
+    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
+    section = readme.split("## Networks", 1)[1].split("\n## ", 1)[0]
+    shown = re.findall(r"```\n(Demo scenario.+?)\n```", section, flags=re.S)
+    assert len(shown) == 1
+    assert _mask_residuals(shown[0]) == _mask_residuals(out.stdout.rstrip("\n"))
 
 
 def test_network_file_writes_the_report(tmp_path):

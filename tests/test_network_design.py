@@ -17,6 +17,7 @@ from pipeopt.network.design import (
 )
 from pipeopt.network.hydraulics import NetworkGraph
 from pipeopt.network.lifecycle import NetworkEconomics
+from pipeopt.network.published import TWO_LOOP_BEST_KNOWN, hanoi, two_loop
 from tests.network_reference import (
     G,
     dw_head_loss,
@@ -25,42 +26,44 @@ from tests.network_reference import (
     node_heads,
 )
 
-INCH = 0.0254
-
-# ----- published benchmark data ---------------------------------------------------------------
-# Two-loop network, Alperovits & Shamir (1977), Water Resour. Res. 13(6):885-900: reservoir at
-# 210 m, six nodes (elevation m, demand m3/h), eight pipes of 1000 m, C 130, minimum pressure
-# head 30 m, 14 commercial sizes (inches) with their costs per metre.
-TL_SIZES = np.array([1, 2, 3, 4, 6, 8, 10, 12, 14, 16, 18, 20, 22, 24]) * INCH
-TL_COSTS = np.array([2, 5, 8, 11, 16, 23, 32, 50, 60, 90, 130, 170, 300, 550], dtype=float)
-TL_ELEV = np.array([150.0, 160.0, 155.0, 150.0, 165.0, 160.0])
-TL_DEMAND = np.array([100.0, 100.0, 120.0, 270.0, 330.0, 200.0]) / 3600.0
+# ----- published benchmark networks ---------------------------------------------------------
+# Two-loop network, Alperovits & Shamir (1977), Water Resour. Res. 13(6):885-900 (the data are
+# in pipeopt.network.published); Savic & Walters (1997), J. Water Resour. Plann. Manage.
+# 123(2):67-77: Hazen-Williams omega 10.5088, flow exponent 1.85, diameter exponent 4.87, and
+# the best-known cost 419,000 (the literature since).
+SW = (10.5088, 4.87, 1.85)
 TL_START = [6, 0, 0, 2, 2, 4, 1, 3]
 TL_END = [0, 1, 2, 3, 4, 5, 3, 5]
-# Savic & Walters (1997), J. Water Resour. Plann. Manage. 123(2):67-77: omega 10.5088, flow
-# exponent 1.85, diameter exponent 4.87; best-known cost 419,000 (the literature since).
-SW = (10.5088, 4.87, 1.85)
+TL_ELEV = np.array([150.0, 160.0, 155.0, 150.0, 165.0, 160.0])
+TL_DEMAND = np.array([100.0, 100.0, 120.0, 270.0, 330.0, 200.0]) / 3600.0
+TL_COSTS = np.array([2, 5, 8, 11, 16, 23, 32, 50, 60, 90, 130, 170, 300, 550], dtype=float)
 
 
-def two_loop(constants=SW):
-    g = NetworkGraph(6, 1, TL_START, TL_END)
-    return DesignProblem(graph=g, length=np.full(8, 1000.0), design=np.arange(8),
-                         option_diameter=TL_SIZES, option_cost=TL_COSTS,
-                         allowed=np.ones((8, 14), bool), demand=TL_DEMAND, elevation=TL_ELEV,
-                         min_head=np.full(6, 30.0), source_head=[210.0],
-                         suction_level=[np.nan], head_loss="hazen-williams",
-                         option_c_factor=130.0, hazen_williams=constants)
+def test_published_data_as_tabulated():
+    tl = two_loop()
+    # Alperovits & Shamir (1977): six demands adding up to 1,120 m3/h, 30 m everywhere
+    assert tl.demand.sum() * 3600 == pytest.approx(1120.0)
+    np.testing.assert_allclose(tl.elevation, TL_ELEV)
+    np.testing.assert_allclose(tl.demand[0, 0], TL_DEMAND)
+    np.testing.assert_allclose(tl.option_cost, TL_COSTS)
+    np.testing.assert_array_equal(tl.graph.start, TL_START)
+    np.testing.assert_array_equal(tl.graph.end, TL_END)
+    # Fujiwara & Khang (1990), from memory: 19,940 m3/h in all, 34 pipes, 39,420 m of pipe
+    h = hanoi()
+    assert h.demand.sum() * 3600 == pytest.approx(19_940.0)
+    assert h.graph.n_pipes == 34 and h.length.sum() == pytest.approx(39_420.0)
 
 
 def test_two_loop_reaches_the_best_known_cost_with_every_node_at_30_m():
-    pr = two_loop()
-    out = design_looped(pr, seed=1, evaluations=200_000, target=419_000.0, progress=False)
+    pr = two_loop(SW)
+    out = design_looped(pr, seed=1, evaluations=200_000, target=TWO_LOOP_BEST_KNOWN,
+                        progress=False)
     # the cost by hand from the published unit costs: every pipe is 1000 m long
     by_hand = float(TL_COSTS[out.choice].sum() * 1000.0)
     assert by_hand == 419_000.0
     assert out.cost == pytest.approx(419_000.0, abs=1e-6)
     # independent hydraulic check: node heads from the test's own node-head formulation
-    d = TL_SIZES[out.choice]
+    d = pr.option_diameter[out.choice]
 
     def flows(drop):
         return hw_flow_from_drop(drop, 1000.0, d, 130.0, *SW[:1], n=SW[2], beta=SW[1])
@@ -88,38 +91,14 @@ def test_progress_bar_shows_the_best_so_far(capsys):
 @pytest.mark.slow
 def test_hanoi_reaches_the_best_known_cost():
     # Hanoi network, Fujiwara & Khang (1990), Water Resour. Res. 26(4):539-549 (data from
-    # memory): reservoir at 100 m, 31 nodes at elevation 0 needing 30 m, 34 pipes, six sizes
-    # 12-40 in costing about 1.1 D^1.5 per metre (D in inches). Best-known cost 6,081,087 under the
-    # Hazen-Williams constants 10.667, 1.852, 4.871 (from memory: e.g. Reca & Martinez 2006,
-    # Water Resour. Res. 42, W05416).
-    demand = np.array([890, 850, 130, 725, 1005, 1350, 550, 525, 525, 500, 560, 940, 615, 280,
-                       310, 865, 1345, 60, 1275, 930, 485, 1045, 820, 170, 900, 370, 290, 360,
-                       360, 105, 805], dtype=float) / 3600.0
-    pipes = [(1, 2, 100), (2, 3, 1350), (3, 4, 900), (4, 5, 1150), (5, 6, 1450), (6, 7, 450),
-             (7, 8, 850), (8, 9, 850), (9, 10, 800), (10, 11, 950), (11, 12, 1200),
-             (12, 13, 3500), (10, 14, 800), (14, 15, 500), (15, 16, 550), (16, 17, 2730),
-             (17, 18, 1750), (18, 19, 800), (19, 3, 400), (3, 20, 2200), (20, 21, 1500),
-             (21, 22, 500), (20, 23, 2650), (23, 24, 1230), (24, 25, 1300), (25, 26, 850),
-             (26, 27, 300), (27, 16, 750), (23, 28, 1500), (28, 29, 2000), (29, 30, 1600),
-             (30, 31, 150), (31, 32, 860), (32, 25, 950)]
-
-    def idx(k):
-        return 31 if k == 1 else k - 2
-
-    start = [idx(a) for a, _, _ in pipes]
-    end = [idx(b) for _, b, _ in pipes]
-    length = np.array([x for _, _, x in pipes], dtype=float)
-    sizes = np.array([12, 16, 20, 24, 30, 40]) * INCH
-    # the unit costs as tabulated in the literature (close to 1.1 D^1.5; 98.378 for 20 in)
-    costs = np.array([45.726, 70.4, 98.378, 129.333, 180.748, 278.28])
-    pr = DesignProblem(graph=NetworkGraph(31, 1, start, end), length=length,
-                       design=np.arange(34), option_diameter=sizes, option_cost=costs,
-                       allowed=np.ones((34, 6), bool), demand=demand, elevation=np.zeros(31),
-                       min_head=np.full(31, 30.0), source_head=[100.0], suction_level=[np.nan],
-                       head_loss="hazen-williams", option_c_factor=130.0,
-                       hazen_williams=(10.667, 4.871, 1.852))
+    # memory, in pipeopt.network.published). Best-known cost 6,081,087 under the Hazen-Williams
+    # constants 10.667, 1.852, 4.871 (from memory: e.g. Reca & Martinez 2006, Water Resour.
+    # Res. 42, W05416).
+    pr = hanoi((10.667, 4.871, 1.852))
+    start, end, length = pr.graph.start, pr.graph.end, pr.length
+    sizes, costs, demand = pr.option_diameter, pr.option_cost, pr.demand[0, 0]
     out = design_looped(pr, seed=1, evaluations=600_000, target=6_081_087.0, progress=False)
-    assert out.cost <= 6_081_087.0 * (1 + 1e-6)
+    assert out.cost <= 6_081_087.0 * (1 + 1e-9)
     assert float((costs[out.choice] * length).sum()) == pytest.approx(out.cost, rel=1e-12)
 
     def flows(drop):

@@ -40,7 +40,8 @@ def test_map_draws_pipes_nodes_legend_and_colour_bar(result):
     ax = plots.network(result)
     assert _has_unit(ax.get_xlabel()) and _has_unit(ax.get_ylabel())
     # one line per pipe
-    assert len(ax.get_lines()) == len(result.pipes)
+    pipes = ax.collections[0]
+    assert len(pipes.get_segments()) == len(result.pipes)
     legend = ax.get_legend()
     texts = [t.get_text() for t in legend.get_texts()]
     assert "source" in texts and "existing pipe" in texts
@@ -50,7 +51,7 @@ def test_map_draws_pipes_nodes_legend_and_colour_bar(result):
     # the legend sits below the map, off the data
     assert legend.get_bbox_to_anchor().y0 < ax.get_window_extent().y0 + 1
     # wider pipes for larger bores: the rising main is the widest line
-    widths = [line.get_linewidth() for line in ax.get_lines()]
+    widths = pipes.get_linewidths()
     assert int(np.argmax(widths)) == int(np.argmax(result.pipes["inner_diameter_m"]))
     plt.close(ax.figure)
 

@@ -362,7 +362,7 @@ def evaluate(problem: DesignProblem, choice: Any, flow0: np.ndarray | None = Non
         lift = np.broadcast_to(lift, (b, s, g.n_fixed))
         pump = (lift * (source_flow > 0)).max(axis=2)
     short = np.maximum(0.0, required - head)                                  # (B, S, J)
-    velocity = flow / (np.pi * np.repeat(diam_for_velocity, 1, axis=0)[:, None, :] ** 2 / 4.0)
+    velocity = flow / (np.pi * diam_for_velocity[:, None, :] ** 2 / 4.0)
     v_excess = np.zeros(b)
     if pr.velocity_max is not None:
         v_excess = np.maximum(0.0, np.abs(velocity[:, :, new]) - pr.velocity_max).sum(axis=(1, 2))
@@ -790,8 +790,9 @@ def design_looped(problem: DesignProblem, seed: int = 1, evaluations: int = 200_
 
     ``chains`` independent searches run side by side. Each step evaluates, for every chain at
     once (one hydraulic batch, each candidate started from its chain's flows), every move to
-    the next size up or down of one pipe and every swap that takes one pipe down a size and
-    another up (at most ``max_pairs`` swaps, drawn at random, per chain). A chain moves to its
+    the next size up or down of one pipe and a random sample of the swaps that take one pipe
+    down a size and another up (all of them, up to ``max_pairs``, before a chain is declared
+    stuck). A chain moves to its
     best neighbour while that is better: a feasible design beats an infeasible one, feasible
     designs compare by cost, infeasible ones by their pressure shortfall. At a local optimum
     the chain shakes its best design found so far by changing k pipes at random by one or two
@@ -808,7 +809,13 @@ def design_looped(problem: DesignProblem, seed: int = 1, evaluations: int = 200_
     chains : int
         Searches run side by side.
     max_pairs : int
-        Largest number of swap moves per chain and step.
+        Largest number of swap moves per chain when its whole neighbourhood is checked.
+    sample : int
+        Swap moves drawn per chain and step; only when none of them (nor a one-size move)
+        improves is the whole neighbourhood checked before the chain counts as stuck.
+    restart : int
+        Shakes without a better design after which a chain starts afresh, from a random
+        design or a crossover of two of the best local optima met so far.
     target : float, optional
         Stop as soon as a feasible design costs no more than this.
     patience : int, optional

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import matplotlib.pyplot as plt
 import numpy as np
+from matplotlib.collections import LineCollection
 from matplotlib.lines import Line2D
 
 from ..plots import PALETTE
@@ -80,11 +81,11 @@ def network(result, ax=None, labels: bool = True):
     d_lo, d_hi = float(d.min()), float(d.max())
     width = 1.0 + 7.0 * (d - d_lo) / (d_hi - d_lo) if d_hi > d_lo else np.full(d.size, 3.0)
     new = (pipes["status"] == "new").to_numpy()
-    for k in range(len(pipes)):  # a handful of pipes, drawn one line each
-        a, b = start[k], end[k]
-        ax.plot(xy[[a, b], 0], xy[[a, b], 1], color=PALETTE[0] if new[k] else "#777777",
-                linewidth=width[k], linestyle="-" if new[k] else (0, (3, 2)),
-                solid_capstyle="round", zorder=1)
+    segments = np.stack([xy[start], xy[end]], axis=1)                     # (P, 2, 2)
+    lines = LineCollection(segments, linewidths=width, zorder=1, capstyle="round",
+                           colors=np.where(new, PALETTE[0], "#777777").tolist(),
+                           linestyles=[("-" if n else (0, (3, 2))) for n in new])
+    ax.add_collection(lines)
     junction = (nodes["kind"] == "junction").to_numpy()
     margin = nodes["margin_m"].to_numpy(dtype=float)
     ok = junction & nodes["feasible"].to_numpy(dtype=bool)
@@ -123,6 +124,7 @@ def network(result, ax=None, labels: bool = True):
                               label="existing pipe"))
     ax.legend(handles=handles, fontsize=7, frameon=False, loc="upper left",
               bbox_to_anchor=(0.0, -0.1), ncol=3)
+    ax.autoscale_view()
     ax.set_aspect("equal", adjustable="datalim")
     ax.set_xlabel("x [m]" + (" (schematic: no coordinates given)" if drawn_from_layout else ""))
     ax.set_ylabel("y [m]")

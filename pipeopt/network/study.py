@@ -355,7 +355,10 @@ class NetworkStudy(StudyFileMixin):
     def _from_dict(cls, mapping: dict, base: Path) -> NetworkStudy:
         top = Section(mapping, "", ("study", "network", "optimizer", "fluid", "duty", "growth",
                                     "node", "source", "pipe", "diameter_option", "pumping",
-                                    "energy", "pump_station", "economics"))
+                                    "energy", "pump_station", "economics", "uncertainty"))
+        if top.has("uncertainty"):
+            raise StudyFileError("uncertainty: not supported in a network study yet (run the "
+                                 "study with each value of interest instead)")
         return _read_study(top, base)
 
     # ----- running ---------------------------------------------------------------------------
@@ -828,7 +831,7 @@ class NetworkResult:
                      f"({pr.n_design} to size from {len(s.options)} sizes); "
                      f"{'branched' if pr.graph.is_forest() else 'looped'}; {law}; "
                      f"{n_cases} demand case(s)")
-        lines.append(f"Optimizer: {self.message} in {self.outcome.seconds:.1f} s")
+        lines.append(f"Optimizer: {self.message}")
         lines.append("")
         c = self.costs
         if "pv_total" in c:
