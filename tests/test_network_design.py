@@ -316,3 +316,17 @@ def test_evaluate_batches_agree_with_single_designs():
         one = evaluate(pr, choices[k])
         assert batch.cost[k] == one.cost[0]
         assert batch.violation[k] == pytest.approx(one.violation[0], abs=1e-9)
+
+
+def test_pipes_in_the_transition_band_are_counted():
+    # water (nu about 1.14e-6 m2/s): 0.25 L/s in a 100 mm bore is Re = 4 Q / (pi D nu), about
+    # 2,800, inside the band 2000-4000 (common practice)
+    g = NetworkGraph(1, 1, [1], [0])
+    pr = DesignProblem(graph=g, length=[100.0], design=[0], option_diameter=[0.1],
+                       option_cost=[50.0], allowed=[[True]], demand=[0.00025],
+                       elevation=[0.0], min_head=[0.0], source_head=[20.0],
+                       suction_level=[np.nan], option_roughness=1e-5)
+    ev = evaluate(pr, [0])
+    re = 4 * 0.00025 / (np.pi * 0.1 * pr.viscosity / pr.density)
+    assert 2000 < re < 4000
+    assert int(ev.transitional[0]) == 1

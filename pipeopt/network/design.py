@@ -270,6 +270,11 @@ class Evaluation:
     life_cycle : NetworkLifeCycle or None
     energy_residual, mass_residual : ndarray, shape (B,)
         Largest residuals of the hydraulic solution over the cases [m], [m³/s].
+    source_flow : ndarray, shape (B, S, F)
+        Net flow out of every source [m³/s].
+    transitional : ndarray of int, shape (B,)
+        Most pipes in the laminar-turbulent band (2000 <= Re < 4000) in any case
+        (Darcy–Weisbach only).
     """
 
     cost: np.ndarray

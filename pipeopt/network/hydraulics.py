@@ -518,7 +518,20 @@ def _schur_pattern(graph: NetworkGraph, b: int) -> dict[str, np.ndarray]:
 
 
 def _schur_solve(graph: NetworkGraph, w: np.ndarray, rhs: np.ndarray) -> np.ndarray:
-    """Solve (A21 diag(w) A12) H = rhs for a batch: w (B, P), rhs (B, J) -> H (B, J)."""
+    """Solve (A21 diag(w) A12) H = rhs for a batch: w (B, P), rhs (B, J) -> H (B, J).
+
+    Large batches are solved in blocks (a handful) that keep the dense matrices within
+    about 64 MB, or the sparse system within about 200,000 unknowns.
+    """
+    j = graph.n_junctions
+    block = max(1, int(8e6 // (j * j)) if j <= _DENSE_LIMIT else 200_000 // j)
+    if w.shape[0] <= block:
+        return _schur_block(graph, w, rhs)
+    return np.concatenate([_schur_block(graph, w[k:k + block], rhs[k:k + block])
+                           for k in range(0, w.shape[0], block)])
+
+
+def _schur_block(graph: NetworkGraph, w: np.ndarray, rhs: np.ndarray) -> np.ndarray:
     b = w.shape[0]
     j = graph.n_junctions
     pat = _schur_pattern(graph, b)

@@ -865,6 +865,10 @@ class NetworkResult:
         lines.append(f"Check: the design re-solved by the global gradient method; largest mass "
                      f"imbalance {float(ev.mass_residual[0]):.1e} m3/s, largest energy "
                      f"imbalance {float(ev.energy_residual[0]):.1e} m")
+        if int(ev.transitional[0]):
+            lines.append(f"Note: {int(ev.transitional[0])} pipe(s) run in the laminar-turbulent "
+                         f"band (2000 <= Re < 4000) in some case; their friction factor is "
+                         f"bridged linearly between the two regimes")
         if s.fluid_is_default and pr.head_loss == "darcy-weisbach":
             lines.append("Fluid: water at 15 degC (no [fluid] section)")
         lines += [f"Note: {n}" for n in s.notes]
