@@ -1,10 +1,11 @@
 """Command line of pipeopt (presentation layer).
 
-Subcommands: ``run`` (a sizing study file), ``upgrade`` (an upgrade study file), ``demo`` (the
-bundled demonstrations), ``catalog`` (list materials and sizes), ``init`` (a starter study
-file), ``verify`` (the verification record). Exit status: 0 success, 1 a
-sizing study with no feasible candidate, 2 bad input (one readable message naming the key,
-never a traceback), 3 an internal error (``--debug`` shows its traceback).
+Subcommands: ``run`` (a sizing study file), ``upgrade`` (an upgrade study file), ``network`` (a
+network study file), ``demo`` (the bundled demonstrations), ``catalog`` (list materials and
+sizes), ``init`` (a starter study file), ``verify`` (the verification record). Exit status: 0
+success, 1 a sizing study with no feasible candidate (or a network with no design that holds
+every pressure), 2 bad input (one readable message naming the key, never a traceback), 3 an
+internal error (``--debug`` shows its traceback).
 """
 
 from __future__ import annotations
@@ -191,6 +192,26 @@ def _cmd_upgrade(args: argparse.Namespace) -> int:
     return 0
 
 
+def _cmd_network(args: argparse.Namespace) -> int:
+    from .network import NetworkStudy
+
+    if (args.study is None) == (not args.demo):
+        raise InputError("network: give a network study file, or --demo for the bundled one")
+    out = _prepare_out(args.out, args.force)
+    study = NetworkStudy.demo() if args.demo else NetworkStudy.from_toml(args.study)
+    if args.demo:
+        print(DEMO_NOTE)
+        print()
+    result = study.run(progress=_progress(args))
+    print(result.text())
+    if out is not None:
+        from .network.report import write_network_report
+
+        for p in write_network_report(result, out):
+            print(f"wrote {p}")
+    return 0 if result.success else 1
+
+
 def _cmd_demo(args: argparse.Namespace) -> int:
     from .sizing import SizingStudy
     from .upgrade import UpgradeStudy
@@ -293,6 +314,19 @@ def build_parser() -> argparse.ArgumentParser:
     _add_out(upg)
     upg.add_argument("--quiet", action="store_true", help="no progress bar")
     upg.set_defaults(func=_cmd_upgrade)
+
+    net = sub.add_parser("network", help="size the pipes of a network study file",
+                         description="Size the pipes of a branched or looped network (TOML) "
+                                     "by least (life-cycle) cost and check every node's "
+                                     "pressure.",
+                         epilog="example: pipeopt network town.toml --out results  "
+                                "(or: pipeopt network --demo)")
+    net.add_argument("study", nargs="?", help="the network study file (TOML)")
+    net.add_argument("--demo", action="store_true", help="run the bundled demonstration "
+                                                        "network (invented)")
+    _add_out(net)
+    net.add_argument("--quiet", action="store_true", help="no progress bar")
+    net.set_defaults(func=_cmd_network)
 
     demo = sub.add_parser("demo", help="run the bundled demonstration study",
                           description="Run the bundled demonstration (an invented scenario).",

@@ -19,7 +19,8 @@ import pandas as pd
 from . import friction as fr
 
 __all__ = ["PALETTE", "cost_curves", "cost_breakdown", "velocity_head", "friction_chart",
-           "tornado_chart", "probability_cheapest", "eac_distributions", "cumulative_cash_flow"]
+           "tornado_chart", "probability_cheapest", "eac_distributions", "cumulative_cash_flow",
+           "network"]
 
 #: Okabe & Ito colour-blind-safe palette.
 PALETTE = ["#0072B2", "#E69F00", "#009E73", "#D55E00", "#CC79A7", "#56B4E9", "#F0E442",
@@ -300,3 +301,18 @@ def cumulative_cash_flow(upgrade_result, ax=None):
     _style(ax, "Upgrade options: cumulative discounted cash flow")
     ax.legend(fontsize=7, frameon=False)
     return ax
+
+
+def network(result, ax=None, labels: bool = True):
+    """Map of a designed network: pipe width by diameter, node colour by pressure margin.
+
+    The figure of a :class:`~pipeopt.network.NetworkResult`; see
+    :func:`pipeopt.network.plots.network`.
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+    """
+    from .network.plots import network as _network
+
+    return _network(result, ax=ax, labels=labels)

@@ -29,6 +29,9 @@ LAYERS = {
     "upgrade": 3, "uncertainty": 3, "verification": 3,
     # presentation
     "plots": 4, "widgets": 4, "report": 4, "cli": 4,
+    # the network subpackage, by module
+    "network": 3, "network.hydraulics": 1, "network.published": 2, "network.lifecycle": 2,
+    "network.design": 2, "network.study": 3, "network.plots": 4, "network.report": 4,
 }
 NAMES = {0: "base", 1: "physics", 2: "model", 3: "study", 4: "presentation"}
 
@@ -47,7 +50,9 @@ def _modules() -> dict[str, Path]:
 
 
 def _top(module: str) -> str:
-    return module.split(".")[0]
+    """The module's entry in LAYERS: itself when listed (a subpackage's modules), else its
+    top-level module."""
+    return module if module in LAYERS else module.split(".")[0]
 
 
 def _imports(module: str, path: Path) -> list[tuple[str, list[str], int]]:

@@ -1,0 +1,146 @@
+"""Report of a network study (presentation layer): tables, a map, Markdown and HTML.
+
+:func:`write_network_report` writes, into one folder, ``pipes.csv``, ``nodes.csv``,
+``cases.csv``, ``figures/network.png``, ``report.md`` and ``report.html`` (self-contained,
+the map embedded). Each report states the job, the summary, the model's assumptions, where the
+data come from (and which figures are illustrative) and the cautions. Every file is built first
+and then written through :func:`pipeopt.report.write_atomic` (a temporary name and a rename).
+"""
+
+from __future__ import annotations
+
+import base64
+import html
+import io
+from pathlib import Path
+
+import matplotlib
+
+matplotlib.use("Agg", force=False)
+
+import matplotlib.pyplot as plt  # noqa: E402
+import pandas as pd  # noqa: E402
+
+from ..report import CAUTIONS, write_atomic  # noqa: E402
+from .plots import network  # noqa: E402
+
+__all__ = ["write_network_report", "ASSUMPTIONS_NETWORK"]
+
+ASSUMPTIONS_NETWORK = [
+    "Steady flow at each demand case (duty point, and year when demands grow); demands are "
+    "taken at the nodes.",
+    "Hydraulics by the global gradient method (Todini & Pilati 1988): mass balance at every "
+    "node and energy balance along every pipe, each to 1e-9.",
+    "Head loss by Darcy-Weisbach with the Colebrook-White factor (64/Re when laminar, bridged "
+    "linearly across 2000 <= Re < 4000), or by Hazen-Williams with the stated coefficient; "
+    "minor losses from each pipe's sum of K.",
+    "A pumped source without a set head delivers, in each case, the least head that keeps every "
+    "node at its minimum pressure.",
+    "Where pumped: pipe capital, pump station (sized on the peak demand with standby, renewed "
+    "at the end of each life), energy at the escalated price plus the demand charge, "
+    "maintenance, straight-line residual values; all real, discounted to year 0. Gravity-fed: "
+    "pipe capital only.",
+    "Branched networks are designed exactly (mixed-integer programming over the sizes, gap "
+    "stated); looped networks by a seeded local search whose result is the best design found, "
+    "not a proven optimum.",
+]
+
+
+def _csv(frame: pd.DataFrame) -> str:
+    return frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
+
+
+def _figure_png(result) -> bytes:
+    ax = network(result)
+    buf = io.BytesIO()
+    ax.figure.savefig(buf, format="png", dpi=110, metadata={"Software": None})
+    plt.close(ax.figure)
+    return buf.getvalue()
+
+
+def _provenance(result) -> list[str]:
+    study = result.study
+    out = []
+    if study.illustrative:
+        out.append("The network and its cost figures are ILLUSTRATIVE (invented), as the study "
+                   "file says.")
+    out.append(f"Fluid properties: {study.fluid.source}.")
+    sources = sorted({o.source for o in study.options})
+    for s in sources:
+        out.append(f"Candidate sizes: {s}.")
+    out.append("Demands, levels, lengths, costs and tariffs: inputs of the study file, not "
+               "pipeopt data.")
+    return out
+
+
+def write_network_report(result, out: str | Path) -> list[Path]:
+    """Write the tables, the map and the reports of a network result into the folder ``out``.
+
+    Parameters
+    ----------
+    result : NetworkResult
+    out : path
+        Output folder (created when missing).
+
+    Returns
+    -------
+    list of Path
+        The files written.
+    """
+    out = Path(out)
+    title = f"pipeopt network study: {result.study.name}"
+    summary = result.text()
+    png = _figure_png(result)
+    tables = {"pipes": result.pipes, "nodes": result.nodes, "cases": result.cases}
+    provenance = _provenance(result)
+    cautions = [*CAUTIONS, "The network check covers steady pressures at the given demands "
+                           "only: not surge, fire flows, pipe pressure ratings or supply when a "
+                           "pipe fails."]
+    md = "\n".join([
+        f"# {title}", "", "## Cautions", "", *[f"- {c}" for c in cautions], "", "## Summary",
+        "", "```", summary, "```", "", "## Pipes", "", _md_table(result.pipes), "",
+        "## Nodes", "", _md_table(result.nodes.drop(columns=["x_m", "y_m"])), "",
+        "## Demand cases", "", _md_table(result.cases), "", "## Model assumptions", "",
+        *[f"- {a}" for a in ASSUMPTIONS_NETWORK], "", "## Data sources", "",
+        *[f"- {p}" for p in provenance], "", "## Figures", "", "![network](figures/network.png)",
+        ""])
+    esc = html.escape
+    fmt = {"float_format": lambda x: f"{x:,.4g}", "index": False, "border": 0}
+    style = ("body{font-family:sans-serif;max-width:70em;margin:2em auto;color:#222}"
+             "table{border-collapse:collapse;font-size:0.85em}td,th{padding:2px 8px;"
+             "border-bottom:1px solid #ddd;text-align:right}pre{background:#f6f6f6;padding:1em;"
+             "overflow-x:auto}.caution{border-left:4px solid #D55E00;padding:0.5em 1em;"
+             "background:#fff4ec}img{max-width:100%}")
+    page = (f"<!DOCTYPE html><html><head><meta charset='utf-8'><title>{esc(title)}</title>"
+            f"<style>{style}</style></head><body><h1>{esc(title)}</h1>"
+            "<div class='caution'><b>Cautions</b><ul>"
+            + "".join(f"<li>{esc(c)}</li>" for c in cautions) + "</ul></div>"
+            f"<h2>Summary</h2><pre>{esc(summary)}</pre>"
+            f"<h2>Map</h2><img alt='network map' src='data:image/png;base64,"
+            f"{base64.b64encode(png).decode()}'/>"
+            f"<h2>Pipes</h2><p>Money in {esc(result.currency or 'currency')}.</p>"
+            + result.pipes.to_html(**fmt)
+            + "<h2>Nodes</h2>" + result.nodes.drop(columns=["x_m", "y_m"]).to_html(**fmt)
+            + "<h2>Demand cases</h2>" + result.cases.to_html(**fmt)
+            + "<h2>Model assumptions</h2><ul>"
+            + "".join(f"<li>{esc(a)}</li>" for a in ASSUMPTIONS_NETWORK)
+            + "</ul><h2>Data sources</h2><ul>"
+            + "".join(f"<li>{esc(p)}</li>" for p in provenance) + "</ul></body></html>")
+    files: dict[str, str | bytes] = {f"{k}.csv": _csv(v) for k, v in tables.items()}
+    files["figures/network.png"] = png
+    files["report.md"] = md
+    files["report.html"] = page
+    written = []
+    for name, data in files.items():  # everything is built before the first file is written
+        write_atomic(out / name, data)
+        written.append(out / name)
+    return written
+
+
+def _md_table(frame: pd.DataFrame) -> str:
+    cols = list(frame.columns)
+    lines = ["| " + " | ".join(cols) + " |", "|" + "---|" * len(cols)]
+    for row in frame.itertuples(index=False):
+        cells = [f"{v:,.4g}" if isinstance(v, float) else str(v) for v in row]
+        lines.append("| " + " | ".join(c.replace("|", "/") for c in cells) + " |")
+    return "\n".join(lines)

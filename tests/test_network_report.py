@@ -1,0 +1,54 @@
+"""The network report: its files, the cautions, the map, and safe writing."""
+
+from __future__ import annotations
+
+import tomllib
+from importlib import resources
+
+import pandas as pd
+import pytest
+
+from pipeopt.network import NetworkStudy
+from pipeopt.network.report import write_network_report
+from pipeopt.report import CAUTIONS
+
+
+@pytest.fixture(scope="module")
+def report(tmp_path_factory):
+    text = resources.files("pipeopt").joinpath("data", "demo_network.toml").read_text("utf-8")
+    d = tomllib.loads(text)
+    d["optimizer"]["evaluations"] = 3000
+    result = NetworkStudy.from_dict(d).run(progress=False)
+    out = tmp_path_factory.mktemp("network-report")
+    return result, out, write_network_report(result, out)
+
+
+def test_files_are_written(report):
+    result, out, written = report
+    names = {p.relative_to(out).as_posix() for p in written}
+    assert names == {"pipes.csv", "nodes.csv", "cases.csv", "figures/network.png",
+                     "report.md", "report.html"}
+    assert not list(out.rglob("*.tmp"))
+    pipes = pd.read_csv(out / "pipes.csv")
+    assert list(pipes["pipe"]) == list(result.pipes["pipe"])
+    assert (out / "figures" / "network.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_reports_carry_the_cautions_summary_and_sources(report):
+    result, out, _ = report
+    md = (out / "report.md").read_text(encoding="utf-8")
+    html = (out / "report.html").read_text(encoding="utf-8")
+    for text in (md, html):
+        for caution in CAUTIONS:
+            assert caution.split(".")[0] in text
+        assert "ILLUSTRATIVE" in text
+        assert "EN 545" in text            # the catalog's source of the candidate bores
+    assert result.text().splitlines()[0] in md
+    assert "data:image/png;base64," in html  # self-contained
+
+
+def test_same_result_same_tables(report, tmp_path):
+    result, out, _ = report
+    write_network_report(result, tmp_path)
+    for name in ("pipes.csv", "nodes.csv", "cases.csv", "report.md"):
+        assert (tmp_path / name).read_bytes() == (out / name).read_bytes()
