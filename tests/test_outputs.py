@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import errno
 import hashlib
 import json
@@ -216,39 +217,41 @@ time.sleep(float(sys.argv[2]))
 """
 
 
+@contextlib.contextmanager
+def _lock_held(lock: Path, seconds: float):
+    """Another process holding the lock of a folder for ``seconds`` (or until we kill it)."""
+    holder = subprocess.Popen([sys.executable, "-c", _HOLDER, str(lock), str(seconds)],
+                              stdout=subprocess.PIPE, text=True)
+    try:
+        assert holder.stdout.readline().strip() == "locked"   # EOF if it died: no hang
+        yield holder
+    finally:
+        if seconds > 5:
+            holder.kill()
+        holder.wait(timeout=60)
+
+
 @pytest.mark.skipif(outputs.fcntl is None, reason="no fcntl on this system")
 def test_a_second_writer_waits_then_refuses_naming_the_holder(tmp_path):
     out = tmp_path / "res"
     write_result_set(out, SET_A)
-    lock = tmp_path / ".res.pipeopt-lock"
-    holder = subprocess.Popen([sys.executable, "-c", _HOLDER, str(lock), "30"],
-                              stdout=subprocess.PIPE, text=True)
-    try:
-        assert holder.stdout.readline().strip() == "locked"
+    with _lock_held(tmp_path / ".res.pipeopt-lock", 30) as holder:
         t0 = time.monotonic()
         with pytest.raises(OutputError, match=rf"another pipeopt run \(process {holder.pid}\) "
                                               r"is writing .*waited 0.5 s"):
             write_result_set(out, SET_B, lock_timeout=0.5)
         assert 0.45 < time.monotonic() - t0 < 10
-        assert read_manifest(out).names == list(SET_A)
-    finally:
-        holder.kill()
-        holder.wait(timeout=10)
+    assert read_manifest(out).names == list(SET_A)
 
 
 @pytest.mark.skipif(outputs.fcntl is None, reason="no fcntl on this system")
 def test_a_second_writer_waits_for_the_first(tmp_path):
     out = tmp_path / "res"
     lock = tmp_path / ".res.pipeopt-lock"
-    holder = subprocess.Popen([sys.executable, "-c", _HOLDER, str(lock), "0.6"],
-                              stdout=subprocess.PIPE, text=True)
-    try:
-        assert holder.stdout.readline().strip() == "locked"
+    with _lock_held(lock, 0.6):
         t0 = time.monotonic()
         write_result_set(out, SET_B, lock_timeout=30)
         assert time.monotonic() - t0 > 0.3
-    finally:
-        holder.wait(timeout=30)
     assert read_manifest(out).names == list(SET_B)
     assert not lock.exists()                              # the lock file is removed after use
 
@@ -589,11 +592,33 @@ def driver(tmp_path_factory):
         d.close()
 
 
-def _timed_run(d: _Driver, args: list[str]) -> float:
+def _timed_run(d: _Driver, args: list[str], exchange: bool = True) -> float:
     t0 = time.monotonic()
-    d.start(args)
+    d.start(args, exchange)
     assert d.line() == "0"
     return time.monotonic() - t0
+
+
+def _references(d: _Driver, studies: dict, out: Path, order: str, exchange: bool = True):
+    """The command of each study, its time uninterrupted [s] and the manifest it leaves."""
+    args = {k: ["run", str(v), "--out", str(out), "--force", "--quiet"]
+            for k, v in studies.items()}
+    seconds, refs = {}, {}
+    for k in order:
+        seconds[k] = _timed_run(d, args[k], exchange)
+        refs[k] = read_manifest(out).files
+    return args, seconds, refs
+
+
+def _killed(d: _Driver, args: list[str], delay: float, sig: int, exchange: bool = True) -> int:
+    """Start a run, send it ``sig`` after ``delay`` seconds; its exit status."""
+    pid = d.start(args, exchange)
+    time.sleep(delay)
+    try:
+        os.kill(pid, sig)
+    except ProcessLookupError:
+        pass
+    return int(d.line())
 
 
 def _foreign(folder: Path) -> dict[str, bytes]:
@@ -607,13 +632,7 @@ def _foreign(folder: Path) -> dict[str, bytes]:
 def test_kill_at_random_moments_leaves_the_old_set_or_the_new(driver, tmp_path):
     d, studies = driver
     out = tmp_path / "results"
-    args = {k: ["run", str(v), "--out", str(out), "--force", "--quiet"]
-            for k, v in studies.items()}
-    seconds = {}
-    refs = {}
-    for k in ("A", "B", "A", "B"):
-        seconds[k] = _timed_run(d, args[k])
-        refs[k] = read_manifest(out).files
+    args, seconds, refs = _references(d, studies, out, "ABAB")
     assert {"tornado.csv", "monte_carlo.csv"} <= set(refs["A"])
     assert not {"tornado.csv", "monte_carlo.csv"} & set(refs["B"])
     foreign = _foreign(out)
@@ -626,13 +645,7 @@ def test_kill_at_random_moments_leaves_the_old_set_or_the_new(driver, tmp_path):
         sig = rng.choice([signal.SIGKILL, signal.SIGTERM])
         t = seconds[k]
         delay = rng.uniform(0, t) if rng.random() < 0.5 else rng.uniform(0.5 * t, t)
-        pid = d.start(args[k])
-        time.sleep(delay)
-        try:
-            os.kill(pid, sig)
-        except ProcessLookupError:
-            pass
-        code = int(d.line())
+        code = _killed(d, args[k], delay, sig)
         allowed = {0, -signal.SIGKILL} if sig == signal.SIGKILL else \
             {0, 128 + signal.SIGTERM, -signal.SIGTERM}
         assert code in allowed, (code, sig)
@@ -661,27 +674,14 @@ def test_kill_during_in_place_replacement_never_passes_a_mixture(driver, tmp_pat
     # reader refuses it; the next run replaces it whole
     d, studies = driver
     out = tmp_path / "results"
-    args = {k: ["run", str(v), "--out", str(out), "--force", "--quiet"]
-            for k, v in studies.items()}
-    refs, seconds = {}, {}
-    for k in ("A", "B"):
-        t0 = time.monotonic()
-        d.start(args[k], exchange=False)
-        assert d.line() == "0"
-        seconds[k] = time.monotonic() - t0
-        refs[k] = read_manifest(out).files
+    args, seconds, refs = _references(d, studies, out, "AB", exchange=False)
     foreign = _foreign(out)
     rng = random.Random(7)
     incomplete = 0
     for _ in range(12):
         k = rng.choice("AB")
-        pid = d.start(args[k], exchange=False)
-        time.sleep(rng.uniform(0.6 * seconds[k], 1.05 * seconds[k]))
-        try:
-            os.kill(pid, signal.SIGKILL)
-        except ProcessLookupError:
-            pass
-        d.line()
+        _killed(d, args[k], rng.uniform(0.6 * seconds[k], 1.05 * seconds[k]), signal.SIGKILL,
+                exchange=False)
         try:
             got = read_manifest(out).files
         except IncompleteResultSet:
@@ -690,7 +690,6 @@ def test_kill_during_in_place_replacement_never_passes_a_mixture(driver, tmp_pat
             assert got in (refs["A"], refs["B"])
         for name, data in foreign.items():
             assert (out / name).read_bytes() == data
-    d.start(args["A"], exchange=False)
-    assert d.line() == "0"
+    _timed_run(d, args["A"], exchange=False)
     assert read_manifest(out).files == refs["A"]
     assert _listing(out) <= set(refs["A"]) | set(foreign) | {MANIFEST, "figures", "drafts"}
