@@ -178,7 +178,7 @@ def test_markdown_escapes_html_links_and_fences(hostile_report):
 
 def test_html_escapes_everything(hostile_report):
     page = (hostile_report / "report.html").read_text(encoding="utf-8")
-    for raw in ("<img src=x", "<script>alert", "<b>bold"):
+    for raw in ("<img src=x", "<script>alert", "<b>bold", "\x1b", "\x07"):
         assert raw not in page
     assert "&lt;script&gt;alert(1)&lt;/script&gt;" in page
 
