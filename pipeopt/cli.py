@@ -4,15 +4,23 @@ Subcommands: ``run`` (a sizing study file), ``upgrade`` (an upgrade study file),
 network study file), ``demo`` (the bundled demonstrations), ``catalog`` (list materials and
 sizes), ``init`` (a starter study file), ``verify`` (the verification record). Exit status: 0
 success, 1 a sizing study with no feasible candidate (or a network with no design that holds
-every pressure), 2 bad input (one readable message naming the key, never a traceback), 3 an
-internal error (``--debug`` shows its traceback).
+every pressure), 2 bad input (one readable message naming the key,
+never a traceback), 3 an internal error (``--debug`` shows its traceback), 128 + the signal
+number when interrupted (130 for Ctrl-C, 143 for SIGTERM).
+
+``--out`` is checked before any computation (a folder, writable, enough free space, empty
+unless ``--force``, no study input among the files it would replace); the result set is then
+written whole by :func:`pipeopt.outputs.write_result_set`. Everything printed passes through
+:func:`pipeopt.outputs.printable`, so that text from a study cannot drive the terminal.
 """
 
 from __future__ import annotations
 
 import argparse
 import os
+import signal
 import sys
+import threading
 import traceback
 from collections.abc import Sequence
 from pathlib import Path
@@ -20,6 +28,7 @@ from pathlib import Path
 import pandas as pd
 
 from .errors import InputError
+from .outputs import printable
 
 DEMO_NOTE = ("Demo scenario and numbers are invented for illustration only; they describe no "
              "real place, line or price.")
@@ -125,17 +134,38 @@ cost_per_metre = 500.0
 """
 
 
-def _prepare_out(out: str | None, force: bool) -> Path | None:
-    """Refuse a non-empty output folder unless --force (nothing is written yet)."""
-    if not out:
+def _say(text: object = "") -> None:
+    """Print text from results (it may carry a study's names) without terminal controls."""
+    print(printable(str(text)))
+
+
+def _prepare_out(args: argparse.Namespace) -> Path | None:
+    """Check --out before any computation: a writable folder with room, empty unless --force."""
+    if not args.out:
         return None
-    path = Path(out)
-    if path.exists() and not path.is_dir():
-        raise InputError(f"--out: {out!r} exists and is not a folder")
-    if path.is_dir() and any(path.iterdir()) and not force:
-        raise InputError(f"--out: the folder {out!r} is not empty; use --force to overwrite "
-                         f"its results")
-    return path
+    from .outputs import check_out
+
+    return check_out(args.out, args.force, what="--out")
+
+
+def _read_study(args: argparse.Namespace, out: Path | None, prefix: str = ""):
+    """The study file's mapping, folder and input files; refuses inputs among the outputs."""
+    from .studyfile import read_study
+
+    mapping, base, inputs = read_study(args.study)
+    if out is not None:
+        from .outputs import check_inputs
+        from .report import SET_PATTERNS
+
+        check_inputs(out, inputs, [prefix + p for p in SET_PATTERNS], what="--out")
+    return mapping, base, inputs
+
+
+def _write(out: Path, files: dict, args: argparse.Namespace, inputs=()) -> None:
+    from .outputs import write_result_set
+
+    for p in write_result_set(out, files, force=args.force, protect=inputs, what="--out"):
+        _say(f"wrote {p}")
 
 
 def _progress(args: argparse.Namespace) -> bool | None:
@@ -145,50 +175,50 @@ def _progress(args: argparse.Namespace) -> bool | None:
 def _cmd_run(args: argparse.Namespace) -> int:
     from .sizing import SizingStudy
 
-    out = _prepare_out(args.out, args.force)
-    study = SizingStudy.from_toml(args.study)
+    out = _prepare_out(args)
+    mapping, base, inputs = _read_study(args, out)
+    study = SizingStudy.from_dict(mapping, base_dir=base)
     result = study.run()
     extra: dict = {}
-    print(result.text())
+    _say(result.text())
     if study.uncertainty and result.success:
         extra = {"tornado": study.tornado(), "switching": study.switching_values(),
                  "monte_carlo": study.monte_carlo(progress=_progress(args))}
         for item in extra.values():
-            print()
-            print(item.text())
+            _say()
+            _say(item.text())
     if out is not None:
-        from .report import write_report
+        from .report import report_files
 
-        for p in write_report(result, out, extra):
-            print(f"wrote {p}")
+        _write(out, report_files(result, extra), args, inputs)
     return 0 if result.success else 1
 
 
 def _cmd_upgrade(args: argparse.Namespace) -> int:
     from .upgrade import UpgradeStudy
 
-    out = _prepare_out(args.out, args.force)
-    study = UpgradeStudy.from_toml(args.study)
+    out = _prepare_out(args)
+    mapping, base, inputs = _read_study(args, out)
+    study = UpgradeStudy.from_dict(mapping, base_dir=base)
     result = study.run()
-    print(result.text())
+    _say(result.text())
     extra: dict = {}
     if args.best_year:
         rows = [study.best_year(o.name) for o in study.options]
-        print()
-        print("Best year of action of each option (least present value of costs):")
+        _say()
+        _say("Best year of action of each option (least present value of costs):")
         for b in rows:
-            print(f"  {b.option:<20} year {b.year:>3}  PV {b.pv_cost:>14,.0f}  NPV vs keep "
-                  f"{b.keep_pv_cost - b.pv_cost:>14,.0f}")
+            _say(f"  {b.option:<20} year {b.year:>3}  PV {b.pv_cost:>14,.0f}  NPV vs keep "
+                 f"{b.keep_pv_cost - b.pv_cost:>14,.0f}")
         extra["best_year"] = rows
     if study.uncertainty:
         extra["monte_carlo"] = study.monte_carlo(progress=_progress(args))
-        print()
-        print(extra["monte_carlo"].text())
+        _say()
+        _say(extra["monte_carlo"].text())
     if out is not None:
-        from .report import write_report
+        from .report import report_files
 
-        for p in write_report(result, out, extra):
-            print(f"wrote {p}")
+        _write(out, report_files(result, extra), args, inputs)
     return 0
 
 
@@ -197,18 +227,21 @@ def _cmd_network(args: argparse.Namespace) -> int:
 
     if (args.study is None) == (not args.demo):
         raise InputError("network: give a network study file, or --demo for the bundled one")
-    out = _prepare_out(args.out, args.force)
-    study = NetworkStudy.demo() if args.demo else NetworkStudy.from_toml(args.study)
+    out = _prepare_out(args)
     if args.demo:
-        print(DEMO_NOTE)
-        print()
+        study = NetworkStudy.demo()
+        inputs = ()
+        _say(DEMO_NOTE)
+        _say()
+    else:
+        mapping, base, inputs = _read_study(args, out)
+        study = NetworkStudy.from_dict(mapping, base_dir=base)
     result = study.run(progress=_progress(args))
-    print(result.text())
+    _say(result.text())
     if out is not None:
-        from .network.report import write_network_report
+        from .network.report import network_report_files
 
-        for p in write_network_report(result, out):
-            print(f"wrote {p}")
+        _write(out, network_report_files(result), args, inputs)
     return 0 if result.success else 1
 
 
@@ -216,33 +249,39 @@ def _cmd_demo(args: argparse.Namespace) -> int:
     from .sizing import SizingStudy
     from .upgrade import UpgradeStudy
 
-    out = _prepare_out(args.out, args.force)
-    print(DEMO_NOTE)
-    print()
+    out = _prepare_out(args)
+    _say(DEMO_NOTE)
+    _say()
     result = SizingStudy.demo().run()
-    print(result.text())
+    _say(result.text())
     upgrade = UpgradeStudy.demo().run()
-    print()
-    print(upgrade.text())
+    _say()
+    _say(upgrade.text())
     if out is not None:
-        from .report import write_report
+        from .report import report_files
 
-        written = write_report(result, out / "sizing")
-        written += write_report(upgrade, out / "upgrade", verification=False)
-        for p in written:
-            print(f"wrote {p}")
+        files = {f"sizing/{k}": v for k, v in report_files(result).items()}
+        files.update({f"upgrade/{k}": v
+                      for k, v in report_files(upgrade, verification=False).items()})
+        _write(out, files, args)
     return 0
 
 
 def _cmd_init(args: argparse.Namespace) -> int:
     path = Path(args.file)
+    if path.is_dir():
+        raise InputError(f"init: {args.file!r} is a folder; give the name of the study file to "
+                         f"write, e.g. {str(path / 'my-line.toml')!r}")
     if path.exists() and not args.force:
-        raise InputError(f"{args.file}: the file exists; use --force to replace it")
-    from .report import write_atomic
+        raise InputError(f"init: {args.file!r}: the file exists; use --force to replace it")
+    from .outputs import write_atomic
 
-    write_atomic(path, STARTER_UPGRADE if args.kind == "upgrade" else STARTER_SIZING)
-    print(f"wrote {path}: edit it, then run: pipeopt "
-          f"{'upgrade' if args.kind == 'upgrade' else 'run'} {path}")
+    try:
+        write_atomic(path, STARTER_UPGRADE if args.kind == "upgrade" else STARTER_SIZING)
+    except OSError as exc:
+        raise InputError(f"init: {args.file!r} cannot be written ({exc.strerror})") from None
+    _say(f"wrote {path}: edit it, then run: pipeopt "
+         f"{'upgrade' if args.kind == 'upgrade' else 'run'} {path}")
     return 0
 
 
@@ -252,9 +291,9 @@ def _cmd_verify(args: argparse.Namespace) -> int:
     table = run_checks()
     view = table[["area", "check", "expected", "computed", "tolerance", "passed", "source"]]
     with pd.option_context("display.max_colwidth", 60, "display.width", 250):
-        print(view.to_string(index=False, float_format=lambda x: f"{x:.10g}"))
+        _say(view.to_string(index=False, float_format=lambda x: f"{x:.10g}"))
     failed = int((~table["passed"]).sum())
-    print(f"\n{len(table) - failed} of {len(table)} reference checks passed")
+    _say(f"\n{len(table) - failed} of {len(table)} reference checks passed")
     return 1 if failed else 0
 
 
@@ -266,24 +305,40 @@ def _cmd_catalog(args: argparse.Namespace) -> int:
         view = pd.DataFrame({"material": mats["material"], "sizes": mats["sizes"],
                              "roughness_mm": mats["roughness_m"] * 1e3,
                              "description": mats["description"]})
-        print(view.to_string(index=False))
+        _say(view.to_string(index=False))
         return 0
-    sizes = catalog.list_sizes(args.material, args.min_diameter, args.max_diameter,
+    from .units import Quantity, to_si
+
+    bounds = {}
+    for name in ("min_diameter", "max_diameter"):
+        text = getattr(args, name)
+        flag = "--" + name.replace("_", "-")
+        bounds[name] = None if text is None else Quantity(to_si(text, "diameter", flag), "m")
+    sizes = catalog.list_sizes(args.material, bounds["min_diameter"], bounds["max_diameter"],
                                args.pressure_class)
+    if sizes.empty:
+        given = " and ".join(f"{'--' + k.replace('_', '-')} {getattr(args, k)!r}"
+                             for k in bounds if getattr(args, k) is not None)
+        every = catalog.list_sizes(args.material, None, None, args.pressure_class)
+        raise InputError(f"{given}: no size of {args.material} has its inner diameter in that "
+                         f"range (the sizes run from {every['inner_diameter_m'].min() * 1e3:.1f} "
+                         f"to {every['inner_diameter_m'].max() * 1e3:.1f} mm)")
     view = pd.DataFrame({
         "designation": sizes["designation"], "OD_mm": sizes["outside_diameter_m"] * 1e3,
         "wall_mm": sizes["wall_m"] * 1e3, "lining_mm": sizes["lining_m"] * 1e3,
         "ID_mm": sizes["inner_diameter_m"] * 1e3,
         "rating_bar": sizes["pressure_rating_pa"] / 1e5})
-    print(view.to_string(index=False, float_format=lambda x: f"{x:.1f}"))
-    print(f"\nsource: {sizes['provenance'].iloc[0]}")
+    _say(view.to_string(index=False, float_format=lambda x: f"{x:.1f}"))
+    _say(f"\nsource: {sizes['provenance'].iloc[0]}")
     return 0
 
 
 def _add_out(sub: argparse.ArgumentParser) -> None:
     sub.add_argument("--out", help="folder for the report (HTML, Markdown, workbook, figures, "
                                    "CSV tables)")
-    sub.add_argument("--force", action="store_true", help="overwrite a non-empty --out folder")
+    sub.add_argument("--force", action="store_true",
+                     help="replace the result set in a non-empty --out folder (files pipeopt "
+                          "did not write stay)")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -299,7 +354,7 @@ def build_parser() -> argparse.ArgumentParser:
     run = sub.add_parser("run", help="run a sizing study file",
                          description="Run a sizing study (TOML) and print its summary.",
                          epilog="example: pipeopt run study.toml --out results")
-    run.add_argument("study", help="the study file (TOML)")
+    run.add_argument("study", help="the study file (TOML); - reads it from standard input")
     _add_out(run)
     run.add_argument("--quiet", action="store_true", help="no progress bar")
     run.set_defaults(func=_cmd_run)
@@ -308,7 +363,8 @@ def build_parser() -> argparse.ArgumentParser:
                                          "duplicate)",
                          description="Run an upgrade study (TOML) and print its comparison.",
                          epilog="example: pipeopt upgrade main.toml --out results")
-    upg.add_argument("study", help="the upgrade study file (TOML)")
+    upg.add_argument("study", help="the upgrade study file (TOML); - reads it from standard "
+                                   "input")
     upg.add_argument("--best-year", action="store_true",
                      help="also scan every year of action of every option and print the best")
     _add_out(upg)
@@ -321,7 +377,8 @@ def build_parser() -> argparse.ArgumentParser:
                                      "pressure.",
                          epilog="example: pipeopt network town.toml --out results  "
                                 "(or: pipeopt network --demo)")
-    net.add_argument("study", nargs="?", help="the network study file (TOML)")
+    net.add_argument("study", nargs="?", help="the network study file (TOML); - reads it from "
+                                              "standard input")
     net.add_argument("--demo", action="store_true", help="run the bundled demonstration "
                                                         "network (invented)")
     _add_out(net)
@@ -360,6 +417,67 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+class _Terminated(KeyboardInterrupt):
+    """SIGTERM or SIGHUP: unwinds like Ctrl-C, so that every clean-up runs."""
+
+    def __init__(self, signum: int) -> None:
+        super().__init__(signum)
+        self.signum = signum
+
+
+_TERMINATION = tuple(getattr(signal, n) for n in ("SIGTERM", "SIGHUP") if hasattr(signal, n))
+_stopping = False
+
+
+def _terminate(signum, frame) -> None:
+    global _stopping
+    if not _stopping:  # the first signal unwinds; a second one while unwinding is not needed
+        _stopping = True
+        raise _Terminated(signum)
+
+
+def _on_termination() -> dict:
+    """Install the SIGTERM/SIGHUP handler (main thread only); the handlers it replaced."""
+    global _stopping
+    _stopping = False
+    old = {}
+    if threading.current_thread() is threading.main_thread():
+        for s in _TERMINATION:
+            if signal.getsignal(s) not in (signal.SIG_IGN, None):
+                old[s] = signal.signal(s, _terminate)
+    return old
+
+
+def _restore(old: dict) -> None:
+    """Put the previous handlers back; a signal arriving meanwhile waits for them."""
+    block = hasattr(signal, "pthread_sigmask") and old
+    if block:
+        signal.pthread_sigmask(signal.SIG_BLOCK, list(old))
+    try:
+        for s, h in old.items():
+            signal.signal(s, h)
+    finally:
+        if block:
+            signal.pthread_sigmask(signal.SIG_UNBLOCK, list(old))
+
+
+def _run(args: argparse.Namespace) -> int:
+    try:
+        return int(args.func(args))
+    except InputError as exc:
+        print(f"pipeopt: error: {printable(str(exc), one_line=True)}", file=sys.stderr)
+        return 2
+    except BrokenPipeError:  # the reader of our output went away (| head): not an error
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 0
+    except Exception as exc:  # noqa: BLE001 - the last line of defence: no traceback for users
+        if args.debug:
+            traceback.print_exc()
+        print(printable(f"pipeopt: internal error ({type(exc).__name__}: {exc}); please report "
+                        f"it, with --debug for details", one_line=True), file=sys.stderr)
+        return 3
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point of the ``pipeopt`` console script; returns the exit status."""
     parser = build_parser()
@@ -367,23 +485,20 @@ def main(argv: Sequence[str] | None = None) -> int:
     if not getattr(args, "func", None):
         parser.print_help()
         return 2
+    old: dict = {}
     try:
-        return int(args.func(args))
-    except InputError as exc:
-        print(f"pipeopt: error: {exc}", file=sys.stderr)
-        return 2
-    except KeyboardInterrupt:
-        print("pipeopt: interrupted", file=sys.stderr)
-        return 130
-    except BrokenPipeError:  # the reader of our output went away (| head): not an error
-        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
-        return 0
-    except Exception as exc:  # noqa: BLE001 - the last line of defence: no traceback for users
-        if args.debug:
-            traceback.print_exc()
-        print(f"pipeopt: internal error ({type(exc).__name__}: {exc}); please report it, with "
-              f"--debug for details", file=sys.stderr)
-        return 3
+        old = _on_termination()
+        return _run(args)
+    except KeyboardInterrupt as exc:  # Ctrl-C, SIGTERM, SIGHUP: every clean-up has run
+        signum = getattr(exc, "signum", signal.SIGINT)
+        try:
+            print(f"pipeopt: {'interrupted' if signum == signal.SIGINT else 'terminated'}",
+                  file=sys.stderr)
+        except (KeyboardInterrupt, OSError):
+            pass
+        return 128 + int(signum)
+    finally:
+        _restore(old)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -15,6 +15,8 @@ __all__ = [
     "PipeoptError",
     "InputError",
     "FluidStateError",
+    "OutputError",
+    "IncompleteResultSet",
     "PipeoptWarning",
     "TransitionalFlowWarning",
     "RangeWarning",
@@ -31,6 +33,16 @@ class InputError(PipeoptError, ValueError):
 
 class FluidStateError(InputError):
     """A requested fluid state is not a liquid, or the fluid is unknown to the property library."""
+
+
+class OutputError(InputError):
+    """An output folder cannot take a result set: not writable, full, locked by another run,
+    not empty without ``--force``, or an output would replace a study input."""
+
+
+class IncompleteResultSet(OutputError):
+    """A folder holds no complete result set: its manifest is missing, marked incomplete, or a
+    listed file is missing or differs from its recorded size and SHA-256."""
 
 
 class PipeoptWarning(UserWarning):

@@ -6,9 +6,17 @@ figures as PNG and every table as CSV. Each report states the job, the inputs wi
 the model's assumptions, where every data source comes from (and which figures are
 illustrative), the verification status, and the cautions.
 
-Every file is written to a temporary name and renamed, so that an interrupted run leaves either
-the old results or the new, never a half-written file. Tables are formatted with fixed rules,
-so that the same inputs give the same tables, byte for byte.
+The files are built in memory (:func:`report_files`) and handed whole to
+:func:`pipeopt.outputs.write_result_set`, which swaps the set in at once with a manifest, so
+that an interrupted run leaves either the old results or the new, never a mixture. Tables are
+formatted with fixed rules and the workbook carries fixed dates, so that the same inputs give
+the same files, byte for byte (on one set of library versions).
+
+Text from a study (names, designations, reasons) cannot act in the files: CSV cells that a
+spreadsheet would read as a formula (a leading ``=``, ``+``, ``-``, ``@``, tab or carriage
+return) get a leading apostrophe, workbook text cells are text (never formulas) without the
+control characters the format forbids, the Markdown report escapes HTML, links and code fences,
+and the HTML report escapes everything.
 """
 
 from __future__ import annotations
@@ -17,8 +25,8 @@ import base64
 import datetime
 import html
 import io
-import os
-import tempfile
+import re
+import zipfile
 from pathlib import Path
 from typing import Any
 
@@ -31,9 +39,21 @@ import pandas as pd  # noqa: E402
 
 from . import __version__ as _version  # noqa: E402
 from . import plots  # noqa: E402
+from .outputs import printable, write_atomic, write_result_set  # noqa: E402
 
-__all__ = ["write_report", "write_atomic", "CAUTIONS", "ASSUMPTIONS_SIZING",
-           "ASSUMPTIONS_UPGRADE"]
+__all__ = ["write_report", "report_files", "write_atomic", "SET_PATTERNS", "CAUTIONS",
+           "ASSUMPTIONS_SIZING", "ASSUMPTIONS_UPGRADE"]
+
+#: Every file a report set may hold (besides ``manifest.json``), for the check that no study
+#: input is among them before a study is computed.
+SET_PATTERNS = ("report.html", "report.md", "workbook.xlsx",
+                *(f"{t}.csv" for t in ("candidates", "optimum", "yearly_best", "tornado",
+                                       "switching_values", "monte_carlo",
+                                       "monte_carlo_correlation", "summary", "cash_flows",
+                                       "inputs", "verification")),
+                *(f"figures/{f}.png" for f in ("cost_curves", "cost_breakdown", "velocity_head",
+                                               "friction_chart", "tornado",
+                                               "probability_cheapest", "cumulative_cash_flow")))
 
 CAUTIONS = [
     "This is a study aid, not a design. Its results depend on inputs (roughness, aging, costs, "
@@ -72,21 +92,51 @@ ASSUMPTIONS_UPGRADE = [
 ]
 
 
-def write_atomic(path: Path, data: bytes | str) -> None:
-    """Write ``data`` to ``path`` through a temporary file in the same folder and a rename."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data.encode("utf-8") if isinstance(data, str) else data)
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+_PLAIN_NUMBER = re.compile(r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?(?:inf|nan)",
+                           re.IGNORECASE)
+
+
+def _csv_cell(value: Any) -> Any:
+    """A text cell without terminal controls; one a spreadsheet would take for a formula gets
+    a leading apostrophe (a lone sign, the unit column's "-", is no formula)."""
+    if not isinstance(value, str):
+        return value
+    value = printable(value)
+    if (len(value) > 1 and value.startswith(_FORMULA_START)
+            and not _PLAIN_NUMBER.fullmatch(value)):
+        return "'" + value
+    return value
+
+
+def _text_columns(frame: pd.DataFrame) -> list:
+    return [c for c in frame.columns if frame[c].dtype == object
+            or isinstance(frame[c].dtype, pd.StringDtype)]
 
 
 def _csv(frame: pd.DataFrame) -> str:
-    return frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
+    safe = frame.copy()
+    for c in _text_columns(safe):
+        safe[c] = safe[c].map(_csv_cell)
+    safe.columns = [_csv_cell(str(c)) for c in safe.columns]
+    return safe.to_csv(index=False, float_format="%.10g", lineterminator="\n")
+
+
+_MD_SPECIAL = re.compile(r"([\\`\[\]|])")
+
+
+def _md(text: Any) -> str:
+    """Study text for Markdown: one line, HTML, links, code spans and table bars escaped."""
+    text = _MD_SPECIAL.sub(r"\\\1", printable(str(text), one_line=True))
+    return html.escape(text, quote=False)
+
+
+def _md_code(text: str) -> list[str]:
+    """A fenced code block that no backticks in ``text`` can close early."""
+    text = printable(text)
+    longest = max((len(run) for run in re.findall(r"`+", text)), default=0)
+    fence = "`" * max(3, longest + 1)
+    return [fence, text, fence]
 
 
 def _png(ax) -> bytes:
@@ -189,17 +239,20 @@ def _verification() -> tuple[str, pd.DataFrame]:
 
 
 def _md_table(frame: pd.DataFrame, floatfmt: str = "{:,.4g}") -> str:
-    cols = list(frame.columns)
+    cols = [_md(c) for c in frame.columns]
     lines = ["| " + " | ".join(cols) + " |", "|" + "---|" * len(cols)]
     for _, r in frame.iterrows():
-        cells = [floatfmt.format(v) if isinstance(v, float) else str(v) for v in r]
-        lines.append("| " + " | ".join(c.replace("|", "/") for c in cells) + " |")
+        cells = [floatfmt.format(v) if isinstance(v, float) else _md(v) for v in r]
+        lines.append("| " + " | ".join(cells) + " |")
     return "\n".join(lines)
 
 
 def write_report(result: Any, out: str | Path, extra: dict[str, Any] | None = None,
                  verification: bool = True) -> list[Path]:
     """Write the report files of a sizing or an upgrade result into the folder ``out``.
+
+    The whole set replaces the set ``out`` held before (see :mod:`pipeopt.outputs`): files of
+    an earlier set that this one does not have are removed, files pipeopt did not write stay.
 
     Parameters
     ----------
@@ -215,11 +268,25 @@ def write_report(result: Any, out: str | Path, extra: dict[str, Any] | None = No
     Returns
     -------
     list of Path
-        The files written.
+        The files written, ``manifest.json`` last.
+    """
+    return write_result_set(out, report_files(result, extra, verification))
+
+
+def report_files(result: Any, extra: dict[str, Any] | None = None,
+                 verification: bool = True) -> dict[str, bytes | str]:
+    """The files of the report of a sizing or an upgrade result, built in memory.
+
+    Parameters are those of :func:`write_report`.
+
+    Returns
+    -------
+    dict of str to bytes or str
+        File name (``"report.html"``, ``"figures/cost_curves.png"``, ...) to content, ready
+        for :func:`pipeopt.outputs.write_result_set`.
     """
     from .sizing import SizingResult
 
-    out = Path(out)
     extra = extra or {}
     sizing = isinstance(result, SizingResult)
     study = result.study
@@ -269,25 +336,22 @@ def write_report(result: Any, out: str | Path, extra: dict[str, Any] | None = No
 
     files: dict[str, bytes | str] = {f"{name}.csv": _csv(t) for name, t in tables.items()}
     files.update({f"figures/{name}.png": png for name, png in figures.items()})
-    files["report.md"] = _markdown(title, summary_text, inputs, assumptions, provenance,
-                                   status, figures, tables, sizing)
-    files["report.html"] = _html(title, summary_text, inputs, assumptions, provenance, status,
-                                 figures, tables, sizing, study.currency or "currency")
+    files["report.md"] = printable(_markdown(title, summary_text, inputs, assumptions,
+                                             provenance, status, figures, tables, sizing))
+    files["report.html"] = printable(_html(title, summary_text, inputs, assumptions, provenance,
+                                           status, figures, tables, sizing,
+                                           study.currency or "currency"))
     files["workbook.xlsx"] = _workbook(tables)
-    written = []
-    for name, data in files.items():  # everything is built before the first file is written
-        write_atomic(out / name, data)
-        written.append(out / name)
-    return written
+    return files
 
 
 def _markdown(title, summary_text, inputs, assumptions, provenance, status, figures, tables,
               sizing) -> str:
-    parts = [f"# {title}", "", "## Cautions", "", *[f"- {c}" for c in CAUTIONS], "",
-             "## Summary", "", "```", summary_text, "```", "", "## Inputs", "",
+    parts = [f"# {_md(title)}", "", "## Cautions", "", *[f"- {c}" for c in CAUTIONS], "",
+             "## Summary", "", *_md_code(summary_text), "", "## Inputs", "",
              _md_table(inputs), "", "## Model assumptions", "",
              *[f"- {a}" for a in assumptions], "", "## Data sources", "",
-             *[f"- {p}" for p in provenance], "", "## Verification", "", status, ""]
+             *[f"- {_md(p)}" for p in provenance], "", "## Verification", "", _md(status), ""]
     main = "optimum" if sizing else "summary"
     if main in tables and not tables[main].empty:
         parts += [f"## {'Continuous optimum' if sizing else 'Options'}", "",
@@ -335,13 +399,53 @@ def _html(title, summary_text, inputs, assumptions, provenance, status, figures,
             + f"</ul><h2>Verification</h2><p>{esc(status)}</p></body></html>")
 
 
+_FIXED_DATE = datetime.datetime(2000, 1, 1)
+_ZIP_DATE = (2000, 1, 1, 0, 0, 0)
+
+
 def _workbook(tables: dict[str, pd.DataFrame]) -> bytes:
+    """The workbook: text cells as text, fixed dates, fixed zip entry times."""
+    from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
+
     buf = io.BytesIO()
     with pd.ExcelWriter(buf, engine="openpyxl") as writer:
         for name, frame in tables.items():
-            frame.to_excel(writer, sheet_name=name[:31], index=False)
+            safe = frame.copy()
+            text = set(_text_columns(safe))
+            columns = [j + 1 for j, c in enumerate(safe.columns) if c in text]
+            for c in text:
+                safe[c] = safe[c].map(lambda v: ILLEGAL_CHARACTERS_RE.sub("", v)
+                                      if isinstance(v, str) else v)
+            safe.columns = [ILLEGAL_CHARACTERS_RE.sub("", str(c)) for c in safe.columns]
+            safe.to_excel(writer, sheet_name=name[:31], index=False)
+            sheet = writer.sheets[name[:31]]
+            for j in sorted(set(columns)):
+                for (cell,) in sheet.iter_rows(min_row=2, min_col=j, max_col=j):
+                    if isinstance(cell.value, str) and cell.data_type != "s":
+                        cell.data_type = "s"  # '=...' would be a formula, '#N/A' an error
+            for cell in next(sheet.iter_rows(min_row=1, max_row=1), ()):
+                if isinstance(cell.value, str) and cell.data_type != "s":
+                    cell.data_type = "s"
         props = writer.book.properties
-        fixed = datetime.datetime(2000, 1, 1)
-        props.created = props.modified = fixed
+        props.created = props.modified = _FIXED_DATE
         props.creator = f"pipeopt {_version}"
-    return buf.getvalue()
+    return _fixed_zip(buf.getvalue())
+
+
+def _fixed_zip(data: bytes) -> bytes:
+    """The same zip with fixed entry times and document dates (openpyxl uses the clock)."""
+    stamp = _FIXED_DATE.strftime("%Y-%m-%dT%H:%M:%SZ").encode()
+    out = io.BytesIO()
+    with zipfile.ZipFile(io.BytesIO(data)) as src, \
+            zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as dst:
+        for info in src.infolist():
+            content = src.read(info.filename)
+            if info.filename == "docProps/core.xml":
+                content = re.sub(rb"(<dcterms:(?:created|modified)[^>]*>)[^<]*(</dcterms:)",
+                                 rb"\g<1>" + stamp + rb"\2", content)
+            entry = zipfile.ZipInfo(info.filename, date_time=_ZIP_DATE)
+            entry.compress_type = zipfile.ZIP_DEFLATED
+            entry.create_system = 0
+            entry.external_attr = 0
+            dst.writestr(entry, content)
+    return out.getvalue()

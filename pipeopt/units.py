@@ -7,6 +7,12 @@ parsed once here, checked for its dimension and converted to the SI unit of its 
 A bare number for a dimensional input is refused: it is the most common source of a silent
 factor-of-1000 error in a study (metres versus millimetres). The message shows how to write it.
 
+Parsing is bounded before pint sees the text: at most :data:`MAX_TEXT` characters; a unit is
+names (``m``, ``degC``, ``mPa``), ``*``, ``/``, parentheses and exponents that are plain numbers
+of at most two digits (``m^3``, ``m**-1``, ``m^(0.5)``), never an exponent of an exponent, and
+numbers nowhere else but a leading ``1/``. A value whose SI magnitude exceeds
+:data:`MAX_MAGNITUDE` is refused.
+
 Examples
 --------
 >>> to_si("450 m^3/h", "flow", "duty.flow")
@@ -28,7 +34,13 @@ import pint
 
 from .errors import InputError
 
-__all__ = ["ureg", "Quantity", "KINDS", "to_si", "parse_quantity", "format_si"]
+__all__ = ["ureg", "Quantity", "KINDS", "MAX_TEXT", "MAX_MAGNITUDE", "to_si", "parse_quantity",
+           "format_si"]
+
+#: Longest text accepted for a quantity such as ``"450 m^3/h"`` [characters].
+MAX_TEXT = 100
+#: Largest magnitude accepted for a dimensional input, in its SI unit.
+MAX_MAGNITUDE = 1e12
 
 #: The package's one unit registry. Use it (not a registry of your own) when passing Quantities.
 ureg = pint.UnitRegistry()
@@ -74,6 +86,54 @@ KINDS: dict[str, Kind] = {
 
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 
+# the tokens of a unit: a name, an exponent (a plain number of at most two digits), superscript
+# digits, an operator or parenthesis, a leading "1" of "1/h", spaces
+_UNIT_TOKEN = re.compile(r"""
+    (?P<space>\s+)
+  | (?P<name>[°%]?[^\W\d]\w*|%|°)
+  | (?P<power>(?:\^|\*\*)\s*(?:\(\s*[-+]?\d{1,2}(?:\.\d{1,3})?\s*\)|[-+]?\d{1,2}(?:\.\d{1,3})?))
+  | (?P<sup>[⁻]?[⁰¹²³⁴⁵⁶⁷⁸⁹]{1,2})
+  | (?P<op>[*/·⋅.])
+  | (?P<open>\()
+  | (?P<close>\))
+  | (?P<one>1(?=\s*/))
+""", re.VERBOSE)
+_MAX_PARENS = 3
+
+
+def _check_unit(unit: str, value: str, field: str) -> None:
+    """Refuse a unit text that pint should not evaluate (towers of powers, numbers, junk)."""
+    rule = ("a unit is names, '*', '/', parentheses and exponents that are plain numbers of at "
+            "most two digits, such as 'm^3/h'")
+    pos, depth, prev = 0, 0, ""
+    while pos < len(unit):
+        m = _UNIT_TOKEN.match(unit, pos)
+        if m is None and unit[pos].isdigit():
+            raise InputError(f"{field}: {value!r}: numbers in a unit only as exponents ({rule})")
+        if m is None:
+            raise InputError(f"{field}: {value!r} is not a number with a unit ({rule})")
+        kind = m.lastgroup
+        if kind == "one" and (pos > 0 or prev):
+            raise InputError(f"{field}: {value!r}: numbers in a unit only as exponents ({rule})")
+        if kind in ("power", "sup"):
+            if prev not in ("name", "close"):
+                raise InputError(f"{field}: {value!r}: an exponent must follow a unit name or a "
+                                 f"parenthesis, never another exponent ({rule})")
+        elif kind == "open":
+            depth += 1
+            if depth > _MAX_PARENS:
+                raise InputError(f"{field}: {value!r}: parentheses nested deeper than "
+                                 f"{_MAX_PARENS} levels")
+        elif kind == "close":
+            depth -= 1
+            if depth < 0:
+                raise InputError(f"{field}: {value!r}: unbalanced parentheses")
+        if kind != "space":
+            prev = kind
+        pos = m.end()
+    if depth:
+        raise InputError(f"{field}: {value!r}: unbalanced parentheses")
+
 
 def parse_quantity(value: Any, field: str) -> pint.Quantity:
     """Turn a string or Quantity into a :class:`pint.Quantity` of this package's registry.
@@ -91,15 +151,18 @@ def parse_quantity(value: Any, field: str) -> pint.Quantity:
             return value
         return Quantity(value.magnitude, str(value.units))
     if isinstance(value, str):
+        if len(value) > MAX_TEXT:
+            raise InputError(f"{field}: expected a number with a unit such as '3.2 km'; got a "
+                             f"text of {len(value)} characters (at most {MAX_TEXT})")
         m = _NUMBER.match(value)
         if m is None:
             raise InputError(f"{field}: expected a number with a unit such as '3.2 km'; "
                              f"got {value!r}")
         number, unit = m.groups()
+        _check_unit(unit, value, field)
         try:
             return Quantity(float(number), unit or "dimensionless")
-        except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError,
-                AttributeError, TypeError, ValueError, AssertionError) as exc:
+        except Exception as exc:  # noqa: BLE001 - any failure of pint on a user's text
             raise InputError(f"{field}: unknown unit {unit!r} in {value!r}") from exc
     raise InputError(f"{field}: expected a number with a unit such as '3.2 km'; got "
                      f"{value!r} ({type(value).__name__})")
@@ -117,7 +180,8 @@ def _bare_number(value: Any) -> bool:
     return False
 
 
-def to_si(value: Any, kind: str, field: str) -> float | np.ndarray:
+def to_si(value: Any, kind: str, field: str,
+          limit: float | None = MAX_MAGNITUDE) -> float | np.ndarray:
     """Convert a user's dimensional input to an SI float (or array).
 
     Parameters
@@ -129,6 +193,9 @@ def to_si(value: Any, kind: str, field: str) -> float | np.ndarray:
         One of :data:`KINDS` (``"length"``, ``"flow"``, ``"temperature"``, ...).
     field : str
         The name of the input, used in error messages (``"line.length"``).
+    limit : float or None
+        Largest magnitude accepted, in the SI unit of ``kind`` (default :data:`MAX_MAGNITUDE`;
+        None for no bound).
 
     Returns
     -------
@@ -138,7 +205,8 @@ def to_si(value: Any, kind: str, field: str) -> float | np.ndarray:
     Raises
     ------
     InputError
-        For a bare number, an unknown unit, or a unit of the wrong dimension.
+        For a bare number, an unknown unit, a unit of the wrong dimension, a text longer than
+        :data:`MAX_TEXT`, or a magnitude beyond ``limit``.
     """
     try:
         k = KINDS[kind]
@@ -149,7 +217,7 @@ def to_si(value: Any, kind: str, field: str) -> float | np.ndarray:
         raise InputError(f"{field}: expected {k.description} such as '{k.example}', got "
                          f"{shown!r} with no unit")
     if isinstance(value, (list, tuple)):
-        return np.array([to_si(v, kind, f"{field}[{i}]") for i, v in enumerate(value)])
+        return np.array([to_si(v, kind, f"{field}[{i}]", limit) for i, v in enumerate(value)])
     if isinstance(value, str) and (m := _NUMBER.match(value)) is not None and not m.group(2):
         raise InputError(f"{field}: expected {k.description} such as '{k.example}', got "
                          f"{value!r} with no unit")
@@ -159,9 +227,15 @@ def to_si(value: Any, kind: str, field: str) -> float | np.ndarray:
     except pint.errors.DimensionalityError:
         raise InputError(f"{field}: expected {k.description} such as '{k.example}', got "
                          f"{value!s} (dimension {q.dimensionality})") from None
+    except (OverflowError, ZeroDivisionError, ValueError) as exc:
+        raise InputError(f"{field}: {value!s} cannot be converted to {k.si_unit} "
+                         f"({exc})") from None
     out = np.asarray(out, dtype=float)
     if not np.all(np.isfinite(out)):
         raise InputError(f"{field}: expected a finite value, got {value!s}")
+    if limit is not None and np.any(np.abs(out) > limit):
+        raise InputError(f"{field}: {value!s} is beyond the accepted magnitude ({limit:g} "
+                         f"{k.si_unit})")
     return float(out) if out.ndim == 0 else out
 
 

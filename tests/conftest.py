@@ -35,3 +35,75 @@ def colebrook_grid():
     R, K = R.ravel(), K.ravel()
     f = np.array([colebrook_mpmath(a, b) for a, b in zip(R, K, strict=True)])
     return R, K, f
+
+
+#: A study (invented, illustrative) whose texts try to act where they are shown: a terminal
+#: escape, HTML, a Markdown code fence in its name; formulas, HTML and a control character
+#: in the designations and provenance of a user's size file.
+HOSTILE_NAME = ("Quarry <img src=x onerror=alert(1)> ``` \u001b[2J\u001b]0;title\u0007 "
+                "(test, illustrative)")
+HOSTILE_SIZES = (
+    "material,designation,pressure_class,outside_diameter_mm,wall_mm,pressure_rating_bar,"
+    "provenance\n"
+    'pe100,"=HYPERLINK(""http://example.invalid"",""x"")",SDR 17,301,17.8,10,'
+    "\"@SUM(1+1)*cmd|' /C calc'!A0\"\n"
+    "pe100,<script>alert(1)</script>,SDR 17,302,17.8,10,<b>bold</b> [link](javascript:alert(1))\n"
+    "pe100,DN\x01 bell,SDR 17,304,17.8,10,invented for a test\n"
+    "pe100,-2+3,SDR 17,305,17.8,10,invented for a test\n"
+)
+
+
+def write_hostile_study(folder, control: bool = True):
+    """Write the hostile study and its size file into ``folder``; the study's path.
+
+    ``control=False`` leaves out the size whose designation holds a control character.
+    """
+    from pathlib import Path
+
+    folder = Path(folder)
+    sizes = HOSTILE_SIZES if control else "".join(
+        line + "\n" for line in HOSTILE_SIZES.splitlines() if "\x01" not in line)
+    (folder / "hostile_sizes.csv").write_text(sizes, encoding="utf-8")
+    name = HOSTILE_NAME.replace("\u001b", "\\u001b").replace("\u0007", "\\u0007")
+    study = folder / "hostile.toml"
+    study.write_text(f'''# Test study: the invented Quarry pump line; ILLUSTRATIVE numbers only.
+[study]
+name = "{name}"
+currency = "EUR"
+illustrative = true
+
+[catalog]
+sizes = "hostile_sizes.csv"
+
+[fluid]
+kind = "water"
+temperature = "15 degC"
+
+[line]
+length = "1200 m"
+static_head = "15 m"
+minor_loss_k = 4.0
+
+[[duty]]
+flow = "300 m^3/h"
+hours = 4000
+
+[pumping]
+efficiency = 0.7
+
+[energy]
+price = 0.12
+
+[economics]
+discount_rate = 0.05
+horizon = 25
+pipe_life = 50
+
+[[material]]
+name = "pe100"
+min_diameter = "0.2 m"
+max_diameter = "0.4 m"
+classes = ["SDR 17"]
+cost = {{ coefficient = 1400.0, exponent = 1.4 }}
+''', encoding="utf-8")
+    return study

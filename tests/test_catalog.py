@@ -350,14 +350,14 @@ def test_user_sizes_with_units_in_cells():
     ("text", "match"),
     [
         ("designation,outside_diameter,wall\nA,54,1.2 mm\n",
-         r"row 1, column outside_diameter: expected a length such as .* with no unit"),
+         r"row 1, column outside_diameter: expected a length such as .* a number with no unit"),
         ("designation,outside_diameter_mm,wall_mm\nA,54,1.2\nB,60,-1\n",
          r"row 2, column wall_mm: wall must be positive"),
         ("designation,outside_diameter_mm,wall_mm\nA,54,30\n",
          r"row 1, column wall_mm: wall plus lining \(30 mm\) is not less than the radius"),
         ("designation,outside_diameter_mm,wall_mm\nA,54,x\n", r"row 1, column wall_mm: expected"),
         ("designation,outside_diameter_mm,wall_mm\nA,54,2\nA,60,2\n",
-         r"row 2, column designation: duplicate designation 'A'"),
+         r"row 2, column designation: the same designation as row 1"),
         ("designation,outside_diameter_mm\nA,54\n", r"missing column 'wall'"),
         ("designation,outside_diameter_mm,wall_mm,inner_diameter_mm\nA,54,2,52\n",
          r"row 1, column inner_diameter_mm: inner diameter 52 mm is not"),
@@ -377,7 +377,8 @@ def test_user_materials_errors_name_row_and_column():
 
 
 def test_user_sizes_for_unknown_material_refused():
-    with pytest.raises(InputError, match="unknown material 'grp'"):
+    with pytest.raises(InputError, match="row 1, column material: not a material of the "
+                                         "catalog"):
         load_catalog(sizes=GRP)
 
 

@@ -16,7 +16,7 @@ DATA = Path(__file__).parent / "data"
 
 def run_cli(*args: str, cwd: Path | None = None) -> subprocess.CompletedProcess:
     return subprocess.run([sys.executable, "-m", "pipeopt.cli", *args], capture_output=True,
-                          text=True, cwd=cwd)
+                          text=True, cwd=cwd, timeout=300)
 
 
 def test_demo_prints_a_readable_summary():
@@ -85,5 +85,53 @@ def test_no_command_prints_help(capsys):
 def test_output_cut_short_is_not_an_error():
     # `pipeopt demo | head -1`: the reader closes the pipe; no traceback, no internal error
     proc = subprocess.run(f"{sys.executable} -m pipeopt.cli demo | head -1", shell=True,
-                          capture_output=True, text=True)
+                          capture_output=True, text=True, timeout=300)
     assert "internal error" not in proc.stderr and "Traceback" not in proc.stderr
+
+
+# ------------------------------------------------------------------------------------------
+# standard input, byte-order mark, checks before computing, the demo's one set
+# ------------------------------------------------------------------------------------------
+def test_dash_reads_the_study_from_standard_input(tmp_path):
+    text = (DATA / "tullomere_booster.toml").read_text(encoding="utf-8")
+    out = subprocess.run([sys.executable, "-m", "pipeopt.cli", "upgrade", "-", "--out",
+                          str(tmp_path / "res")], input=text, capture_output=True, text=True,
+                         timeout=300)
+    assert out.returncode == 0, out.stderr
+    assert "keep" in out.stdout and "NPV vs keep" in out.stdout
+    from pipeopt.outputs import read_manifest
+
+    assert "summary.csv" in read_manifest(tmp_path / "res").names
+
+
+def test_a_study_file_with_a_byte_order_mark_runs(tmp_path, capsys):
+    f = tmp_path / "bom.toml"
+    f.write_bytes(b"\xef\xbb\xbf" + (DATA / "tullomere_booster.toml").read_bytes())
+    assert main(["upgrade", str(f)]) == 0
+    assert "NPV vs keep" in capsys.readouterr().out
+
+
+def test_out_is_checked_before_computing(tmp_path, capsys, monkeypatch):
+    from collections import namedtuple
+
+    from pipeopt import outputs
+
+    usage = namedtuple("usage", "total used free")
+    monkeypatch.setattr(outputs.shutil, "disk_usage", lambda p: usage(10**9, 10**9, 10**5))
+    assert main(["upgrade", str(DATA / "tullomere_booster.toml"), "--out",
+                 str(tmp_path / "res")]) == 2
+    captured = capsys.readouterr()
+    assert "--out" in captured.err and "res" in captured.err and "MB free" in captured.err
+    assert captured.out == ""                       # nothing computed, nothing printed
+    assert not (tmp_path / "res").exists()
+
+
+def test_demo_writes_one_set_with_both_studies(tmp_path):
+    from pipeopt.outputs import read_manifest
+
+    out = run_cli("demo", "--out", str(tmp_path / "demo"))
+    assert out.returncode == 0, out.stderr
+    names = read_manifest(tmp_path / "demo").names
+    assert {"sizing/report.html", "sizing/candidates.csv", "upgrade/report.html",
+            "upgrade/summary.csv"} <= set(names)
+    assert f"wrote {tmp_path / 'demo' / 'manifest.json'}" in out.stdout

@@ -28,7 +28,7 @@ LAYERS = {
     "inputs": 3, "candidates": 3, "feasibility": 3, "optimum": 3, "results": 3, "sizing": 3,
     "upgrade": 3, "uncertainty": 3, "verification": 3,
     # presentation
-    "plots": 4, "widgets": 4, "report": 4, "cli": 4,
+    "plots": 4, "widgets": 4, "report": 4, "cli": 4, "outputs": 4,
     # the network subpackage, by module
     "network": 3, "network.hydraulics": 1, "network.published": 2, "network.lifecycle": 2,
     "network.design": 2, "network.study": 3, "network.plots": 4, "network.report": 4,

@@ -26,7 +26,8 @@ def report(tmp_path_factory):
 def test_files_are_written(report):
     result, out, written = report
     names = {p.relative_to(out).as_posix() for p in written}
-    assert names == {"pipes.csv", "nodes.csv", "cases.csv", "figures/network.png",
+    assert names == {"manifest.json", "pipes.csv", "nodes.csv", "cases.csv",
+                     "figures/network.png",
                      "report.md", "report.html"}
     assert not list(out.rglob("*.tmp"))
     pipes = pd.read_csv(out / "pipes.csv")

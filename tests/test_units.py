@@ -77,3 +77,62 @@ def test_one_registry():
 @pytest.mark.reference
 def test_format_si():  # 0.125 m3/s x 3600 s/h = 450 m3/h exactly
     assert format_si(0.125, "flow", "m^3/h") == "450 m³/h"
+
+
+# ------------------------------------------------------------------------------------------
+# bounded parsing: what pint never sees
+# ------------------------------------------------------------------------------------------
+@pytest.mark.parametrize(("text", "kind", "expected"), [   # exact unit definitions (common)
+    ("10 m^(3)/h", "flow", 10 / 3600), ("10 m³/h", "flow", 10 / 3600),
+    ("998 kg*m^-3", "density", 998.0), ("998 kg/m**3", "density", 998.0),
+    ("1.0 mPa s", "viscosity", 1e-3), ("1.0 mPa·s", "viscosity", 1e-3),
+    ("5 °C", "temperature", 278.15), ("1 (m/s)^2/(m/s)", "velocity", 1.0),
+    ("3 1/yr * m", "aging_rate", 3.0),
+])
+def test_ordinary_units_still_parse(text, kind, expected):
+    assert to_si(text, kind, "f") == pytest.approx(expected, rel=1e-12)
+
+
+@pytest.mark.parametrize(("text", "match"), [     # none of these can make pint work for long
+    ("1 m^2^2", "never another exponent"),
+    ("1 m**2**3", "never another exponent"),
+    ("1 m^(2^9)", "is not a number with a unit"),
+    ("1 m^999", "numbers in a unit only as exponents"),
+    ("2 km/0", "numbers in a unit only as exponents"),
+    ("3 m/(2)", "numbers in a unit only as exponents"),
+    ("1 m * 1000", "numbers in a unit only as exponents"),
+    ("1 ((((m))))", "parentheses nested deeper than 3"),
+    ("1 (m", "unbalanced parentheses"),
+    ("1 m)", "unbalanced parentheses"),
+    ("1 m; import os", "is not a number with a unit"),
+    ("1 " + "m*" * 60 + "m", "a text of 123 characters"),
+])
+def test_unit_texts_outside_the_grammar_are_refused(text, match):
+    with pytest.raises(InputError, match=match):
+        to_si(text, "length", "f")
+
+
+def test_towers_of_powers_are_refused_instantly():
+    # pint would evaluate 2**2**2**... as an exact integer: minutes and gigabytes; so the
+    # check runs in its own process with a deadline
+    import subprocess
+    import sys
+
+    code = ("import time\nfrom pipeopt.errors import InputError\nfrom pipeopt.units import to_si\n"
+            "t0 = time.perf_counter()\nfor k in range(2, 200):\n    try:\n"
+            "        to_si('1 m' + '**2' * k, 'length', 'f')\n    except InputError as e:\n"
+            "        assert 'another exponent' in str(e) or 'at most 100' in str(e), e\n"
+            "    else:\n"
+            "        raise SystemExit('accepted')\nprint(time.perf_counter() - t0)\n")
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          timeout=120)
+    assert proc.returncode == 0, proc.stderr
+    assert float(proc.stdout) < 2.0
+
+
+def test_magnitudes_are_bounded():
+    with pytest.raises(InputError, match=r"f: 1e13 m is beyond the accepted magnitude"):
+        to_si("1e13 m", "length", "f")
+    with pytest.raises(InputError, match="beyond the accepted magnitude"):
+        to_si("-2e12 Pa", "pressure", "f")
+    assert to_si("1e13 m", "length", "f", limit=None) == 1e13

@@ -55,7 +55,7 @@ from .._arrays import as_float_arrays as _as_arrays
 from .._arrays import restore as _restore
 from ..errors import InputError
 from ..pressure import STAINLESS_DEFAULTS, STEEL_DEFAULTS, barlow_pressure, derating_factor
-from ..units import to_si
+from ..units import KINDS, MAX_MAGNITUDE, to_si
 
 __all__ = [
     "Catalog",
@@ -81,6 +81,10 @@ SIZE_COLUMNS = ["material", "designation", "nominal", "pressure_class", "outside
 
 _BUNDLED_SIZE_FILES = ("steel", "steel-cement-lined", "steel-epoxy-lined", "stainless-steel",
                        "ductile-iron", "ductile-iron-k", "pe100", "pe80", "pvc-u", "copper")
+#: Largest size or materials file read [bytes].
+MAX_FILE_BYTES = 16 * 2**20
+#: Largest magnitude of a number in a cell, in the unit it is written in.
+MAX_CELL = MAX_MAGNITUDE
 
 # unit suffixes a column name may carry in a size or materials file
 _LENGTH_SUFFIX = {"mm": 1e-3, "m": 1.0, "in": 0.0254, "cm": 1e-2}
@@ -222,19 +226,35 @@ def _is_path(source: Any) -> bool:
 
 
 def _read_csv(source: Any, what: str) -> pd.DataFrame:
+    """A CSV table as text cells; messages name the file and the rule, never its contents."""
+    if isinstance(source, pd.DataFrame):
+        return source.copy()
+    if _is_path(source):
+        path = Path(source)
+        if not path.is_file():
+            raise InputError(f"{what}: no such file {str(path)!r}")
+        try:
+            with open(path, "rb") as fh:
+                data = fh.read(MAX_FILE_BYTES + 1)
+        except OSError as exc:
+            raise InputError(f"{what}: cannot be read ({exc.strerror})") from None
+        if len(data) > MAX_FILE_BYTES:
+            raise InputError(f"{what}: larger than {MAX_FILE_BYTES // 2**20} MB")
+        try:
+            text = data.decode("utf-8-sig")
+        except UnicodeDecodeError as exc:
+            raise InputError(f"{what}: not UTF-8 text (byte {exc.start})") from None
+    else:
+        text = str(source)
     try:
-        if isinstance(source, pd.DataFrame):
-            return source.copy()
-        if _is_path(source):
-            path = Path(source)
-            if not path.is_file():
-                raise InputError(f"{what}: no such file {str(path)!r}")
-            return pd.read_csv(path, comment="#", dtype=str, keep_default_na=False,
-                               skipinitialspace=True)
-        return pd.read_csv(io.StringIO(str(source)), comment="#", dtype=str,
-                           keep_default_na=False, skipinitialspace=True)
-    except (pd.errors.ParserError, UnicodeDecodeError) as exc:
-        raise InputError(f"{what}: not a readable CSV file ({exc})") from None
+        return pd.read_csv(io.StringIO(text), comment="#", dtype=str, keep_default_na=False,
+                           skipinitialspace=True)
+    except pd.errors.EmptyDataError:
+        raise InputError(f"{what}: the file is empty; it needs a header line and one row per "
+                         f"item") from None
+    except (pd.errors.ParserError, ValueError) as exc:
+        detail = re.sub(r"'[^']*'", "...", str(exc).splitlines()[0] if str(exc) else "")[:120]
+        raise InputError(f"{what}: not a readable CSV file ({detail})") from None
 
 
 def _column_unit(columns: list[str], base: str, suffixes: dict[str, float]) -> tuple[str, float]:
@@ -249,17 +269,36 @@ def _column_unit(columns: list[str], base: str, suffixes: dict[str, float]) -> t
     return "", 0.0
 
 
+def _cell_number(text: str, where: str) -> float:
+    """A plain number from a cell (never echoed in messages: the file may not be ours)."""
+    try:
+        value = float(text) if len(text) <= 40 else float("nan")
+    except ValueError:
+        raise InputError(f"{where}: expected a plain number (the unit is in the column "
+                         f"name)") from None
+    if not np.isfinite(value):
+        raise InputError(f"{where}: expected a finite number of at most 40 characters")
+    if abs(value) > MAX_CELL:
+        raise InputError(f"{where}: the number is beyond {MAX_CELL:g} in magnitude")
+    return value
+
+
 def _cell_to_si(text: str, factor: float, kind: str, where: str) -> float:
     text = str(text).strip()
     if factor:  # the column name carries the unit: the cell is a bare number
+        return _cell_number(text, where) * factor
+    try:
+        return float(to_si(text, kind, where))  # refuses a bare number: "missing unit"
+    except InputError:
+        k = KINDS[kind]
         try:
-            value = float(text)
+            float(text)
+            found = "a number with no unit"
         except ValueError:
-            raise InputError(f"{where}: expected a number, got {text!r}") from None
-        if not np.isfinite(value):
-            raise InputError(f"{where}: expected a finite number, got {text!r}")
-        return value * factor
-    return float(to_si(text, kind, where))  # refuses a bare number: "missing unit"
+            found = "no number with a known unit of that dimension"
+        raise InputError(f"{where}: expected {k.description} such as '{k.example}' (or the "
+                         f"unit in the column name, e.g. outside_diameter_mm); the cell holds "
+                         f"{found}") from None
 
 
 def read_sizes(source: Any, material: str | None = None, name: str = "sizes file") -> pd.DataFrame:
@@ -292,7 +331,9 @@ def read_sizes(source: Any, material: str | None = None, name: str = "sizes file
     raw.columns = [str(c).strip().lower() for c in raw.columns]
     cols = list(raw.columns)
     if "designation" not in cols:
-        raise InputError(f"{name}: missing column 'designation' (columns found: {cols})")
+        raise InputError(f"{name}: missing column 'designation' (a size file has the columns "
+                         f"designation, outside_diameter_mm, wall_mm and optionally material, "
+                         f"nominal, pressure_class, lining_mm, pressure_rating_bar, provenance)")
     if "material" not in cols and material is None:
         raise InputError(f"{name}: missing column 'material' (or pass material=...)")
     found = {}
@@ -316,10 +357,9 @@ def read_sizes(source: Any, material: str | None = None, name: str = "sizes file
         where = f"{name}: row {i}"
         if od is None or od <= 0:
             raise InputError(f"{where}, column {found['outside_diameter'][0]}: outside diameter "
-                             f"must be positive; got {rec[found['outside_diameter'][0]]!r}")
+                             f"must be positive")
         if wall is None or wall <= 0:
-            raise InputError(f"{where}, column {found['wall'][0]}: wall must be positive; got "
-                             f"{rec[found['wall'][0]]!r}")
+            raise InputError(f"{where}, column {found['wall'][0]}: wall must be positive")
         if lining < 0:
             raise InputError(f"{where}, column {found['lining'][0]}: lining must be >= 0")
         if 2 * (wall + lining) >= od:
@@ -355,8 +395,10 @@ def read_sizes(source: Any, material: str | None = None, name: str = "sizes file
     dup = out.duplicated(["material", "designation"], keep="first")
     if dup.any():
         i = int(np.flatnonzero(dup.to_numpy())[0]) + 1
-        raise InputError(f"{name}: row {i}, column designation: duplicate designation "
-                         f"{out['designation'].iloc[i - 1]!r}")
+        first = int(np.flatnonzero((out["designation"] == out["designation"].iloc[i - 1])
+                                   .to_numpy())[0]) + 1
+        raise InputError(f"{name}: row {i}, column designation: the same designation as row "
+                         f"{first}")
     return out
 
 
@@ -400,16 +442,13 @@ def read_materials(source: Any, name: str = "materials file") -> dict[str, Mater
             if text == "" and optional:
                 values[attr] = None
                 continue
-            try:
-                v = float(text)
-            except ValueError:
-                raise InputError(f"{where}: expected a number, got {text!r}") from None
-            bad = (not np.isfinite(v) or (rule == "pos" and v <= 0)
-                   or (rule == "nonneg" and v < 0) or (rule == "poisson" and not 0 <= v < 0.5))
+            v = _cell_number(text, where)
+            bad = ((rule == "pos" and v <= 0) or (rule == "nonneg" and v < 0)
+                   or (rule == "poisson" and not 0 <= v < 0.5))
             if bad:
                 words = {"pos": "must be positive", "nonneg": "must be >= 0",
                          "poisson": "must be in [0, 0.5)"}[rule]
-                raise InputError(f"{where}: {words}; got {text!r}")
+                raise InputError(f"{where}: {words}")
             values[attr] = v * factor
         sources = {k[:-len("_source")]: str(v) for k, v in rec.items()
                    if k.endswith("_source")}
@@ -635,9 +674,14 @@ class Catalog:
                    name: str = "sizes file") -> Catalog:
         """A new catalog with a user's sizes added (rows of the same material and designation
         replace the bundled ones)."""
+        if material is not None:
+            self.material(material)  # the caller's own word: suggest the nearest known keys
         new = read_sizes(source, material=material, name=name)
         for m in new["material"].unique():
-            self.material(m)
+            if m not in self._materials:
+                row = int(np.flatnonzero((new["material"] == m).to_numpy())[0]) + 1
+                raise InputError(f"{name}: row {row}, column material: not a material of the "
+                                 f"catalog (known: {', '.join(self._materials)})")
         keep = ~self._sizes.set_index(["material", "designation"]).index.isin(
             new.set_index(["material", "designation"]).index)
         merged = pd.concat([self._sizes[keep], new], ignore_index=True)

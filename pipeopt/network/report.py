@@ -4,7 +4,7 @@
 ``cases.csv``, ``figures/network.png``, ``report.md`` and ``report.html`` (self-contained,
 the map embedded). Each report states the job, the summary, the model's assumptions, where the
 data come from (and which figures are illustrative) and the cautions. Every file is built first
-and then written through :func:`pipeopt.report.write_atomic` (a temporary name and a rename).
+and then written as one result set through :func:`pipeopt.outputs.write_result_set`.
 """
 
 from __future__ import annotations
@@ -21,7 +21,7 @@ matplotlib.use("Agg", force=False)
 import matplotlib.pyplot as plt  # noqa: E402
 import pandas as pd  # noqa: E402
 
-from ..report import CAUTIONS, write_atomic  # noqa: E402
+from ..report import CAUTIONS  # noqa: E402
 from .plots import network  # noqa: E402
 
 __all__ = ["write_network_report", "ASSUMPTIONS_NETWORK"]
@@ -74,7 +74,8 @@ def _provenance(result) -> list[str]:
 
 
 def write_network_report(result, out: str | Path) -> list[Path]:
-    """Write the tables, the map and the reports of a network result into the folder ``out``.
+    """Write the tables, the map and the reports of a network result into the folder ``out``
+    as one result set (:func:`pipeopt.outputs.write_result_set`).
 
     Parameters
     ----------
@@ -87,7 +88,13 @@ def write_network_report(result, out: str | Path) -> list[Path]:
     list of Path
         The files written.
     """
-    out = Path(out)
+    from ..outputs import write_result_set
+
+    return write_result_set(Path(out), network_report_files(result))
+
+
+def network_report_files(result) -> dict[str, str | bytes]:
+    """The files of a network report (tables, map, Markdown and HTML), built in memory."""
     title = f"pipeopt network study: {result.study.name}"
     summary = result.text()
     png = _figure_png(result)
@@ -130,11 +137,7 @@ def write_network_report(result, out: str | Path) -> list[Path]:
     files["figures/network.png"] = png
     files["report.md"] = md
     files["report.html"] = page
-    written = []
-    for name, data in files.items():  # everything is built before the first file is written
-        write_atomic(out / name, data)
-        written.append(out / name)
-    return written
+    return files
 
 
 def _md_table(frame: pd.DataFrame) -> str:
