@@ -131,9 +131,9 @@ def _closed_form_diameter() -> float:
 
 def _r12(t_k: float, rho: float) -> Callable[[], float]:
     def f() -> float:
-        from .fluid import _coolprop
+        from .water import iapws2008_viscosity
 
-        return float(_coolprop().PropsSI("V", "T", t_k, "Dmass", rho, "Water") * 1e6)
+        return float(iapws2008_viscosity(t_k, rho) * 1e6)
     return f
 
 
