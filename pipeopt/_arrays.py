@@ -4,14 +4,23 @@ The public functions accept scalars, lists, numpy arrays and pandas Series, broa
 numpy, and give back the same kind: a plain ``float`` when every input was a scalar, a
 ``pandas.Series`` (keeping the first Series' index and name) when any input was a Series, and an
 ``numpy.ndarray`` otherwise (lists come back as arrays, as numpy itself does).
+
+pandas is not imported here: an input can only be a Series if pandas is already loaded, so the
+check looks it up in :data:`sys.modules` (importing pipeopt stays cheap).
 """
 
 from __future__ import annotations
 
+import sys
 from typing import Any
 
 import numpy as np
-import pandas as pd
+
+
+def series_type() -> type | tuple:
+    """``pandas.Series`` if pandas is loaded, else ``()`` (``isinstance(x, ())`` is False)."""
+    pd = sys.modules.get("pandas")
+    return pd.Series if pd is not None else ()
 
 
 def as_float_arrays(*values: Any) -> tuple[tuple[np.ndarray, ...], Any]:
@@ -23,8 +32,9 @@ def as_float_arrays(*values: Any) -> tuple[tuple[np.ndarray, ...], Any]:
     template: Any = None
     any_array = False
     converted = []
+    series = series_type()
     for v in values:
-        if isinstance(v, pd.Series):
+        if isinstance(v, series):
             if template is None or template == "array":
                 template = v
             converted.append(v.to_numpy(dtype=float))
@@ -43,7 +53,7 @@ def restore(result: np.ndarray, template: Any) -> Any:
     """Give ``result`` back in the kind recorded by :func:`as_float_arrays`."""
     if template is None:
         return float(np.asarray(result).reshape(()))
-    if isinstance(template, pd.Series):
-        return pd.Series(np.asarray(result).reshape(len(template)), index=template.index,
+    if isinstance(template, series_type()):
+        return type(template)(np.asarray(result).reshape(len(template)), index=template.index,
                          name=template.name)
     return np.asarray(result)

@@ -16,8 +16,6 @@ import traceback
 from collections.abc import Sequence
 from pathlib import Path
 
-import pandas as pd
-
 from .errors import InputError
 
 DEMO_NOTE = ("Demo scenario and numbers are invented for illustration only; they describe no "
@@ -210,6 +208,8 @@ def _cmd_init(args: argparse.Namespace) -> int:
 
 
 def _cmd_verify(args: argparse.Namespace) -> int:
+    import pandas as pd
+
     from .verification import run_checks
 
     table = run_checks()
@@ -222,6 +222,8 @@ def _cmd_verify(args: argparse.Namespace) -> int:
 
 
 def _cmd_catalog(args: argparse.Namespace) -> int:
+    import pandas as pd
+
     from . import catalog
 
     if not args.material:

@@ -29,9 +29,8 @@ import warnings
 from typing import Any, Literal
 
 import numpy as np
-import pandas as pd
 
-from ._arrays import as_float_arrays, restore
+from ._arrays import as_float_arrays, restore, series_type
 from .errors import InputError, RangeWarning, TransitionalFlowWarning
 
 __all__ = [
@@ -209,8 +208,8 @@ def flow_regime(reynolds: Any) -> Any:
                    np.where(re < TURBULENT_LIMIT, "transitional", "turbulent"))
     if tpl is None:
         return str(out)
-    if isinstance(tpl, pd.Series):
-        return pd.Series(out, index=tpl.index, name=tpl.name)
+    if isinstance(tpl, series_type()):
+        return type(tpl)(out, index=tpl.index, name=tpl.name)
     return out
 
 
