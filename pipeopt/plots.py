@@ -10,17 +10,24 @@ These functions only read result objects; they compute nothing that is not in th
 
 from __future__ import annotations
 
+import io
+import math
+from collections import OrderedDict
 from typing import Any
 
 import matplotlib.pyplot as plt
 import numpy as np
 import pandas as pd
+from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg, get_hinting_flag
+from matplotlib.text import Text
+from PIL import Image
 
 from . import friction as fr
 from .economics import capital_recovery_factor
 
-__all__ = ["PALETTE", "cost_curves", "cost_breakdown", "velocity_head", "friction_chart",
-           "tornado_chart", "probability_cheapest", "eac_distributions", "cumulative_cash_flow"]
+__all__ = ["PALETTE", "FIXED_MARGINS", "figure_png", "cost_curves", "cost_breakdown",
+           "velocity_head", "friction_chart", "tornado_chart", "probability_cheapest",
+           "eac_distributions", "cumulative_cash_flow"]
 
 #: Okabe & Ito colour-blind-safe palette.
 PALETTE = ["#0072B2", "#E69F00", "#009E73", "#D55E00", "#CC79A7", "#56B4E9", "#F0E442",
@@ -299,3 +306,136 @@ def cumulative_cash_flow(upgrade_result, ax=None):
     _style(ax, "Upgrade options: cumulative discounted cash flow")
     ax.legend(fontsize=7, frameon=False)
     return ax
+
+
+# --------------------------------------------------------------------------------------------
+# PNG bytes at low cost: one Agg draw with fixed margins, text bitmaps kept between draws
+# --------------------------------------------------------------------------------------------
+#: Margins (fractions of the figure) that leave room for seven-character tick labels, the axis
+#: labels and the title; :func:`figure_png` widens them where a figure needs more.
+FIXED_MARGINS = {"left": 0.115, "right": 0.975, "bottom": 0.115, "top": 0.925}
+
+
+class _TextCachingRenderer(RendererAgg):
+    """The Agg renderer, keeping the bitmap of every text it has rasterised.
+
+    matplotlib rasterises each text glyph by glyph on every draw (about a tenth of a millisecond
+    per character here), which is most of the cost of redrawing a figure whose lines change but
+    whose labels mostly do not. This renderer rasterises a (text, font, size, dpi) once, keeps
+    the bitmap (least recently used first out) and places it as Agg's own text path does; the
+    first failure of that path (a matplotlib version without these methods) switches it off
+    and every text goes through matplotlib's own code.
+    """
+
+    _bitmaps: OrderedDict = OrderedDict()   # shared by every figure of the process
+    _max_bitmaps = 4096
+    _enabled = True
+
+    def draw_text(self, gc, x, y, s, prop, angle, ismath=False, mtext=None):
+        if ismath or not _TextCachingRenderer._enabled:
+            return super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
+        flags = get_hinting_flag()
+        key = (s, hash(prop), self.dpi, bool(gc.get_antialiased()), flags)
+        try:
+            hit = self._bitmaps.get(key)
+            if hit is None:
+                font = self._prepare_font(prop)
+                font.set_text(s, 0, flags=flags)
+                font.draw_glyphs_to_bitmap(antialiased=gc.get_antialiased())
+                xo, yo = font.get_bitmap_offset()
+                hit = (np.array(font.get_image()), font.get_descent() / 64.0, xo / 64.0,
+                       yo / 64.0)
+                self._bitmaps[key] = hit
+                if len(self._bitmaps) > self._max_bitmaps:
+                    self._bitmaps.popitem(last=False)
+            else:
+                self._bitmaps.move_to_end(key)
+            bitmap, descent, xo, yo = hit
+            px = round(x + xo + descent * math.sin(math.radians(angle)))
+            py = round(y + yo + descent * math.cos(math.radians(angle)))
+            self._renderer.draw_text_image(bitmap, px, py + 1, angle, gc)
+        except (AttributeError, TypeError, ValueError):  # another matplotlib: its own path
+            _TextCachingRenderer._enabled = False
+            super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
+
+
+class _PngCanvas(FigureCanvasAgg):
+    """An Agg canvas drawing with :class:`_TextCachingRenderer`."""
+
+    _renderer_key: Any = None
+
+    def get_renderer(self):
+        size = (*self.get_width_height(physical=True), self.figure.dpi)
+        if self._renderer_key != size:
+            self.renderer = _TextCachingRenderer(*size)
+            self._renderer_key = size
+        return self.renderer
+
+
+def figure_png(figure, dpi: float | None = None, everything: bool = False) -> bytes:
+    """PNG bytes of a figure, drawn once by Agg with fixed margins and fast compression.
+
+    A figure with a layout engine (the ``layout="constrained"`` of this module's figures) is
+    switched to :data:`FIXED_MARGINS`: constrained layout measures every text before each draw
+    and ``savefig`` draws such a figure twice. After the draw, whatever fell outside the figure
+    widens the margins and the figure is drawn once more (rare; the margins then stay).
+
+    Parameters
+    ----------
+    figure : matplotlib.figure.Figure
+    dpi : float, optional
+        Resolution [dots per inch]; default the figure's own.
+    everything : bool
+        Check every artist's extent (a tight bounding box: for one-off figures such as a
+        report's) rather than only the titles and axis labels (cheap: for figures redrawn
+        while a user waits, whose tick labels stay within the fixed margins).
+
+    Returns
+    -------
+    bytes
+        The PNG file (RGB, zlib level 1, no metadata: the same figure gives the same bytes).
+    """
+    if dpi is not None and dpi != figure.dpi:
+        figure.set_dpi(dpi)
+    if figure.get_layout_engine() is not None:
+        figure.set_layout_engine(None)
+        margins = dict(FIXED_MARGINS)
+        if any(ax.yaxis.get_label_position() == "right" for ax in figure.axes):
+            margins["right"] = 0.9  # a twin axis: room for its labels, saves a second draw
+        figure.subplots_adjust(**margins)
+    canvas = figure.canvas if isinstance(figure.canvas, _PngCanvas) else _PngCanvas(figure)
+    canvas.draw()
+    if not _fit_margins(canvas, everything):
+        canvas.draw()
+    image = Image.frombuffer("RGBA", canvas.get_width_height(physical=True),
+                             canvas.buffer_rgba(), "raw", "RGBA", 0, 1).convert("RGB")
+    buffer = io.BytesIO()
+    image.save(buffer, format="png", compress_level=1)
+    return buffer.getvalue()
+
+
+def _fit_margins(canvas: FigureCanvasAgg, everything: bool, pad: float = 4.0) -> bool:
+    """Widen the margins where the last draw put something outside the figure; True when
+    everything fitted."""
+    figure = canvas.figure
+    width, height = canvas.get_width_height(physical=True)
+    renderer = canvas.get_renderer()
+    if everything:
+        boxes = [figure.get_tightbbox(renderer).transformed(figure.dpi_scale_trans)]
+    else:
+        boxes = []
+        for ax in figure.axes:
+            titles = [c for c in ax.get_children() if isinstance(c, Text)]  # the three titles
+            boxes += [text.get_window_extent(renderer)
+                      for text in (*titles, ax.xaxis.label, ax.yaxis.label)
+                      if text.get_visible() and text.get_text()]
+    grow = [0.0, 0.0, 0.0, 0.0]  # left, right, bottom, top [px]
+    for box in boxes:
+        grow = [max(grow[0], pad - box.x0), max(grow[1], box.x1 - width + pad),
+                max(grow[2], pad - box.y0), max(grow[3], box.y1 - height + pad)]
+    if max(grow) <= 0.0:
+        return True
+    p = figure.subplotpars
+    figure.subplots_adjust(left=p.left + grow[0] / width, right=p.right - grow[1] / width,
+                           bottom=p.bottom + grow[2] / height, top=p.top - grow[3] / height)
+    return False

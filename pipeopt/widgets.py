@@ -19,19 +19,13 @@ import abc
 import asyncio
 import dataclasses
 import html
-import io
-import math
 import time
-from collections import OrderedDict
 from typing import Any
 
 import ipywidgets as w
 import numpy as np
 from IPython.display import display
-from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg, get_hinting_flag
 from matplotlib.figure import Figure
-from matplotlib.text import Text
-from PIL import Image
 
 from . import plots
 from .costs import EnergyTariff
@@ -63,108 +57,12 @@ def explore(study, debounce: float = 0.15):
     raise TypeError(f"explore needs a SizingStudy or an UpgradeStudy; got {type(study).__name__}")
 
 
-class _TextCachingRenderer(RendererAgg):
-    """The Agg renderer, keeping the bitmap of every text it has rasterised.
-
-    matplotlib rasterises each text glyph by glyph on every draw (about a tenth of a millisecond
-    per character here), which is most of the cost of redrawing a figure whose lines change but
-    whose labels mostly do not. This renderer rasterises a (text, font, size, dpi) once, keeps
-    the bitmap (least recently used first out) and places it as Agg's own text path does; the
-    first failure of that path (a matplotlib version without these methods) switches it off
-    and every text goes through matplotlib's own code.
-    """
-
-    _bitmaps: OrderedDict = OrderedDict()   # shared by every explorer of the process
-    _max_bitmaps = 4096
-    _enabled = True
-
-    def draw_text(self, gc, x, y, s, prop, angle, ismath=False, mtext=None):
-        if ismath or not _TextCachingRenderer._enabled:
-            return super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
-        flags = get_hinting_flag()
-        key = (s, hash(prop), self.dpi, bool(gc.get_antialiased()), flags)
-        try:
-            hit = self._bitmaps.get(key)
-            if hit is None:
-                font = self._prepare_font(prop)
-                font.set_text(s, 0, flags=flags)
-                font.draw_glyphs_to_bitmap(antialiased=gc.get_antialiased())
-                xo, yo = font.get_bitmap_offset()
-                hit = (np.array(font.get_image()), font.get_descent() / 64.0, xo / 64.0,
-                       yo / 64.0)
-                self._bitmaps[key] = hit
-                if len(self._bitmaps) > self._max_bitmaps:
-                    self._bitmaps.popitem(last=False)
-            else:
-                self._bitmaps.move_to_end(key)
-            bitmap, descent, xo, yo = hit
-            x = round(x + xo + descent * math.sin(math.radians(angle)))
-            y = round(y + yo + descent * math.cos(math.radians(angle)))
-            self._renderer.draw_text_image(bitmap, x, y + 1, angle, gc)
-        except (AttributeError, TypeError, ValueError):  # another matplotlib: its own path
-            _TextCachingRenderer._enabled = False
-            super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
-
-
-class _ExplorerCanvas(FigureCanvasAgg):
-    """An Agg canvas drawing with :class:`_TextCachingRenderer`, giving PNG bytes."""
-
-    _renderer_key: Any = None
-
-    def get_renderer(self):
-        size = (*self.get_width_height(physical=True), self.figure.dpi)
-        if self._renderer_key != size:
-            self.renderer = _TextCachingRenderer(*size)
-            self._renderer_key = size
-        return self.renderer
-
-    def png(self) -> bytes:
-        """Draw the figure and encode it (RGB, fast PNG compression).
-
-        One draw, or two when a label or the title fell outside the figure and the margins had
-        to grow (an axis label gaining a scientific offset, for example).
-        """
-        self.draw()
-        if not self._fit_margins():
-            self.draw()
-        image = Image.frombuffer("RGBA", self.get_width_height(physical=True),
-                                 self.buffer_rgba(), "raw", "RGBA", 0, 1).convert("RGB")
-        buffer = io.BytesIO()
-        image.save(buffer, format="png", compress_level=1)
-        return buffer.getvalue()
-
-    def _fit_margins(self, pad: float = 4.0) -> bool:
-        """Widen the margins where the last draw put a title or an axis label outside the
-        figure; True when everything fitted. Reads the texts' cached extents: no layout pass."""
-        width, height = self.get_width_height(physical=True)
-        renderer = self.get_renderer()
-        grow = [0.0, 0.0, 0.0, 0.0]  # left, right, bottom, top [px]
-        for ax in self.figure.axes:
-            titles = [c for c in ax.get_children() if isinstance(c, Text)]  # the three titles
-            for text in (*titles, ax.xaxis.label, ax.yaxis.label):
-                if not (text.get_visible() and text.get_text()):
-                    continue
-                box = text.get_window_extent(renderer)
-                grow = [max(grow[0], pad - box.x0), max(grow[1], box.x1 - width + pad),
-                        max(grow[2], pad - box.y0), max(grow[3], box.y1 - height + pad)]
-        if max(grow) <= 0.0:
-            return True
-        p = self.figure.subplotpars
-        self.figure.subplots_adjust(left=p.left + max(grow[0], 0.0) / width,
-                                    right=p.right - max(grow[1], 0.0) / width,
-                                    bottom=p.bottom + max(grow[2], 0.0) / height,
-                                    top=p.top - max(grow[3], 0.0) / height)
-        return False
-
-
 class _Explorer(abc.ABC):
     """Shared machinery: controls, debounced updates, the figure as an image widget."""
 
-    #: Figure size [in], resolution [dpi] and the fixed margins (fractions of the figure) that
-    #: leave room for seven-character tick labels, the axis labels and the title.
+    #: Figure size [in] and resolution [dpi] of the picture.
     figsize = (7.5, 4.3)
     dpi = 100
-    margins = {"left": 0.115, "right": 0.975, "bottom": 0.115, "top": 0.925}
 
     def __init__(self, debounce: float) -> None:
         self.debounce = float(debounce)
@@ -176,9 +74,8 @@ class _Explorer(abc.ABC):
         self.status = w.HTML()
         # A figure of its own (not pyplot's): drawn only when the explorer asks for a picture.
         self.figure = Figure(figsize=self.figsize, dpi=self.dpi)
-        self.canvas = _ExplorerCanvas(self.figure)
         self.ax = self.figure.add_subplot()
-        self.figure.subplots_adjust(**self.margins)
+        self.figure.subplots_adjust(**plots.FIXED_MARGINS)
         self.image = w.Image(format="png")
         # the picture sits in the Output area, as a widget whose bytes each update replaces
         self.output.outputs = ({"output_type": "display_data",
@@ -212,7 +109,7 @@ class _Explorer(abc.ABC):
         self._pending = None
         t0 = time.perf_counter()
         self._update()
-        self.image.value = self.canvas.png()  # the one draw of this update
+        self.image.value = plots.figure_png(self.figure)  # the one draw of this update
         self.last_update_seconds = time.perf_counter() - t0
         self.updates += 1
 
