@@ -401,14 +401,19 @@ def iapws95_speed_of_sound(temperature: Any, density: Any) -> Any:
     >>> round(iapws95_speed_of_sound(298.15, iapws95_density(298.15, 101325.0)), 2)
     1496.7
     """
+    tf, rf, shape, tpl = _temperature_density(temperature, density)
+    return restore(_speed_of_sound(tf, rf / RHO_CRITICAL).reshape(shape), tpl)
+
+
+def _temperature_density(temperature: Any, density: Any) -> tuple[Any, ...]:
+    """Validated flat T and density arrays, the broadcast shape and the result template."""
     (t, rho), tpl = as_float_arrays(temperature, density)
     tf = np.ascontiguousarray(t, dtype=float).ravel()
     rf = np.ascontiguousarray(rho, dtype=float).ravel()
     _check_temperature(tf)
     if not np.all((rf > 0) & np.isfinite(rf)):
         raise InputError(f"density must be positive and finite; got {float(rf.min())!r}")
-    w = _speed_of_sound(tf, rf / RHO_CRITICAL)
-    return restore(w.reshape(t.shape), tpl)
+    return tf, rf, t.shape, tpl
 
 
 def _speed_of_sound(t: np.ndarray, delta: np.ndarray) -> np.ndarray:
@@ -453,13 +458,8 @@ def iapws2008_viscosity(temperature: Any, density: Any) -> Any:
     >>> round(iapws2008_viscosity(373.15, 1000.0) * 1e6, 6)   # R12-08 verification value
     307.883622
     """
-    (t, rho), tpl = as_float_arrays(temperature, density)
-    tf = np.ascontiguousarray(t, dtype=float).ravel()
-    rf = np.ascontiguousarray(rho, dtype=float).ravel()
-    _check_temperature(tf)
-    if not np.all((rf > 0) & np.isfinite(rf)):
-        raise InputError(f"density must be positive and finite; got {float(rf.min())!r}")
-    return restore(_viscosity(tf, rf).reshape(t.shape), tpl)
+    tf, rf, shape, tpl = _temperature_density(temperature, density)
+    return restore(_viscosity(tf, rf).reshape(shape), tpl)
 
 
 def _viscosity(t: np.ndarray, rho: np.ndarray) -> np.ndarray:
