@@ -18,6 +18,7 @@ from typing import Any
 import matplotlib.pyplot as plt
 import numpy as np
 import pandas as pd
+from matplotlib import ticker
 from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg, get_hinting_flag
 from matplotlib.text import Text
 from PIL import Image
@@ -44,6 +45,39 @@ def _axes(ax: Any, figsize: tuple[float, float] = (7.5, 4.5)):
 def _money(result_or_study: Any) -> str:
     study = getattr(result_or_study, "study", result_or_study)
     return study.currency or "currency"
+
+
+_SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+class _LogTickLabels(ticker.Formatter):
+    """Log-axis tick labels as plain text (10³; 0.2, 5 or 2×10⁻⁵ between decades), drawn
+    without building matplotlib's math-text parser (a few tenths of a second the first time).
+
+    Decades are always labelled; within a view of less than about one decade the multiples 2, 3
+    and 5 are too (every multiple below half a decade), as matplotlib's own log labels do.
+    """
+
+    def __call__(self, x: float, pos: int | None = None) -> str:
+        if not (x > 0 and math.isfinite(x)):
+            return ""
+        exponent = math.floor(math.log10(x) + 1e-9)
+        mantissa = round(x / 10.0 ** exponent, 6)
+        decade = "10" + str(exponent).translate(_SUPERSCRIPT)
+        low, high = sorted(self.axis.get_view_interval()) if self.axis else (x, x)
+        span = math.log10(high / low) if low > 0 else math.inf
+        if mantissa != 1 and not (span < 0.5 or (span < 1.2 and mantissa in (2, 3, 5))):
+            return ""
+        if span < 1.2 and -3 <= exponent <= 3:  # a short view: plain numbers read best
+            return f"{x:g}"
+        return decade if mantissa == 1 else f"{mantissa:g}×{decade}"
+
+
+def _log_labels(*axes) -> None:
+    """:class:`_LogTickLabels` on the major and minor ticks of log-scaled axes."""
+    for axis in axes:
+        axis.set_major_formatter(_LogTickLabels())
+        axis.set_minor_formatter(_LogTickLabels())
 
 
 def _style(ax, title: str | None = None) -> None:
@@ -173,6 +207,7 @@ def velocity_head(result, ax=None):
     twin.plot(d_mm, c["head_loss_m"], "s", color=PALETTE[1], markersize=3,
               label="head loss, largest duty, year 1")
     twin.set_yscale("log")
+    _log_labels(ax.yaxis, twin.yaxis)
     twin.set_ylabel("head loss [m]")
     _style(ax, "Velocity and head loss against diameter")
     lines = ax.get_legend_handles_labels()
@@ -209,6 +244,7 @@ def friction_chart(result=None, relative_roughness=(0.0, 1e-5, 1e-4, 1e-3, 5e-3,
                     color=PALETTE[3], markersize=8, label="chosen")
     ax.set_xscale("log")
     ax.set_yscale("log")
+    _log_labels(ax.xaxis, ax.yaxis)
     ax.set_xlabel("Reynolds number Re [-]")
     ax.set_ylabel("Darcy friction factor f [-]")
     _style(ax, "Friction factor (Colebrook–White, solved exactly)")

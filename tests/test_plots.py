@@ -123,3 +123,23 @@ def test_figure_png_widens_margins_for_what_falls_outside():
     assert fig.get_tightbbox(renderer).x0 >= 0  # inches: nothing left of the figure
     assert ax.yaxis.label.get_window_extent(renderer).x0 >= 0
     plt.close(fig)
+
+
+def test_log_tick_labels_are_plain_text():
+    # Common practice for log axes: decades as powers of ten; within a short view, the
+    # multiples 2, 3 and 5 as plain numbers. No math text (no "$" in any label).
+    fig, (wide, short) = plt.subplots(1, 2)
+    for ax, (low, high) in ((wide, (1e3, 1e8)), (short, (0.3, 2.5))):
+        ax.plot([low, high], [low, high])
+        ax.set_xscale("log")
+        ax.set_yscale("log")
+        plots._log_labels(ax.xaxis, ax.yaxis)
+        ax.set_xlim(low, high)
+    plots.figure_png(fig)
+    wide_labels = [t.get_text() for t in wide.xaxis.get_majorticklabels() if t.get_text()]
+    assert "10⁴" in wide_labels and "10⁸" in wide_labels
+    short_labels = [t.get_text() for t in short.xaxis.get_ticklabels(which="both")
+                    if t.get_text()]
+    assert {"0.3", "0.5", "1", "2"} <= set(short_labels)
+    assert not any("$" in t for t in wide_labels + short_labels)
+    plt.close(fig)
