@@ -422,9 +422,10 @@ def figure_png(figure, dpi: float | None = None, everything: bool = False) -> by
     dpi : float, optional
         Resolution [dots per inch]; default the figure's own.
     everything : bool
-        Check every artist's extent (a tight bounding box: for one-off figures such as a
-        report's) rather than only the titles and axis labels (cheap: for figures redrawn
-        while a user waits, whose tick labels stay within the fixed margins).
+        Check the extent of the axes' decorations (tick labels, titles, axis labels, legends:
+        for one-off figures such as a report's) rather than only the titles and axis labels
+        (cheaper: for figures redrawn while a user waits, whose tick labels stay within the
+        fixed margins).
 
     Returns
     -------
@@ -456,8 +457,8 @@ def _fit_margins(canvas: FigureCanvasAgg, everything: bool, pad: float = 4.0) ->
     figure = canvas.figure
     width, height = canvas.get_width_height(physical=True)
     renderer = canvas.get_renderer()
-    if everything:
-        boxes = [figure.get_tightbbox(renderer).transformed(figure.dpi_scale_trans)]
+    if everything:  # axes, tick labels, titles, legends; data never leaves its axes
+        boxes = [ax.get_tightbbox(renderer, bbox_extra_artists=[]) for ax in figure.axes]
     else:
         boxes = []
         for ax in figure.axes:
