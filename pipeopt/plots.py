@@ -364,7 +364,7 @@ class _TextCachingRenderer(RendererAgg):
     """
 
     _bitmaps: OrderedDict = OrderedDict()   # shared by every figure of the process
-    _max_bitmaps = 4096
+    _max_bitmaps = 1024  # a few kB each
     _enabled = True
 
     def draw_text(self, gc, x, y, s, prop, angle, ismath=False, mtext=None):

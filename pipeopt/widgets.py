@@ -7,10 +7,10 @@ candidates and everything that does not depend on the control are re-used) after
 the figure and the table. ``explorer.update_now()`` does the same at once (tests, scripts).
 
 The figure reaches the screen as a PNG in an ``ipywidgets.Image`` (sent to the browser as binary
-bytes, no base64, no output clearing), drawn once per update by the Agg renderer with a fixed
-layout (no constrained layout, no tight bounding box) and encoded with fast PNG compression.
-The renderer keeps the bitmaps of the texts it has drawn (tick labels, axis labels, legend
-entries), so an update redraws the lines and markers but rasterises only the texts that changed.
+bytes: no base64, no output clearing), drawn once per update by :func:`pipeopt.plots.figure_png`
+(fixed margins, no constrained layout, no tight bounding box, text bitmaps kept between draws,
+fast PNG compression): an update redraws the lines and markers and rasterises only the texts
+that changed.
 """
 
 from __future__ import annotations
