@@ -8,14 +8,23 @@ numpy, and give back the same kind: a plain ``float`` when every input was a sca
 A :class:`pint.Quantity` is converted to the SI base units of its dimension (``420 m^3/h``
 becomes 0.11667 m³/s, ``15 degC`` becomes 288.15 K): the functions work in SI, so a Quantity
 in any unit gives the right answer instead of having its unit stripped.
+
+pandas is not imported here: an input can only be a Series if pandas is already loaded, so the
+check looks it up in :data:`sys.modules` (importing pipeopt stays cheap).
 """
 
 from __future__ import annotations
 
+import sys
 from typing import Any
 
 import numpy as np
-import pandas as pd
+
+
+def series_type() -> type | tuple:
+    """``pandas.Series`` if pandas is loaded, else ``()`` (``isinstance(x, ())`` is False)."""
+    pd = sys.modules.get("pandas")
+    return pd.Series if pd is not None else ()
 
 
 def as_float_arrays(*values: Any) -> tuple[tuple[np.ndarray, ...], Any]:
@@ -27,10 +36,11 @@ def as_float_arrays(*values: Any) -> tuple[tuple[np.ndarray, ...], Any]:
     template: Any = None
     any_array = False
     converted = []
+    series = series_type()
     for v in values:
         if hasattr(v, "to_base_units") and hasattr(v, "magnitude"):  # a pint Quantity
             v = v.to_base_units().magnitude
-        if isinstance(v, pd.Series):
+        if isinstance(v, series):
             if template is None or template == "array":
                 template = v
             converted.append(v.to_numpy(dtype=float))
@@ -49,7 +59,7 @@ def restore(result: np.ndarray, template: Any) -> Any:
     """Give ``result`` back in the kind recorded by :func:`as_float_arrays`."""
     if template is None:
         return float(np.asarray(result).reshape(()))
-    if isinstance(template, pd.Series):
-        return pd.Series(np.asarray(result).reshape(len(template)), index=template.index,
+    if isinstance(template, series_type()):
+        return type(template)(np.asarray(result).reshape(len(template)), index=template.index,
                          name=template.name)
     return np.asarray(result)

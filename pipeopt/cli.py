@@ -25,8 +25,6 @@ import traceback
 from collections.abc import Sequence
 from pathlib import Path
 
-import pandas as pd
-
 from .errors import InputError
 from .outputs import printable
 
@@ -286,6 +284,8 @@ def _cmd_init(args: argparse.Namespace) -> int:
 
 
 def _cmd_verify(args: argparse.Namespace) -> int:
+    import pandas as pd
+
     from .verification import run_checks
 
     table = run_checks()
@@ -298,6 +298,8 @@ def _cmd_verify(args: argparse.Namespace) -> int:
 
 
 def _cmd_catalog(args: argparse.Namespace) -> int:
+    import pandas as pd
+
     from . import catalog
 
     if not args.material:

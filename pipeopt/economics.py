@@ -17,7 +17,6 @@ from __future__ import annotations
 from typing import Any
 
 import numpy as np
-from scipy import optimize
 
 from ._arrays import as_float_arrays, restore
 from .errors import InputError
@@ -303,6 +302,7 @@ def internal_rate_of_return(cash_flows: Any, low: float = -0.99, high: float = 1
     if signs.size == 0 or np.all(signs == signs[0]):
         return IRRResult(None, "no sign change in the cash flows: no IRR")
     t = np.arange(c.size)
+    from scipy.optimize import brentq  # imported where used: it costs a tenth of a second
 
     def npv(r: float) -> float:
         return float(np.sum(c * np.exp(-t * np.log1p(r))))
@@ -317,7 +317,7 @@ def internal_rate_of_return(cash_flows: Any, low: float = -0.99, high: float = 1
         if values[k] == 0:
             roots.append(a)
             continue
-        roots.append(optimize.brentq(npv, a, b, xtol=1e-14, rtol=1e-14, maxiter=200))
+        roots.append(brentq(npv, a, b, xtol=1e-14, rtol=1e-14, maxiter=200))
     roots = sorted({round(r, 10): r for r in roots}.values())
     if not roots:
         return IRRResult(None, f"the NPV has no root between {low:g} and {high:g}: no IRR")

@@ -10,17 +10,24 @@ These functions only read result objects; they compute nothing that is not in th
 
 from __future__ import annotations
 
+import io
+import math
+from collections import OrderedDict
 from typing import Any
 
 import matplotlib.pyplot as plt
 import numpy as np
 import pandas as pd
+from matplotlib import ticker
+from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg, get_hinting_flag
+from matplotlib.text import Text
+from PIL import Image
 
 from . import friction as fr
 
-__all__ = ["PALETTE", "cost_curves", "cost_breakdown", "velocity_head", "friction_chart",
-           "tornado_chart", "probability_cheapest", "eac_distributions", "cumulative_cash_flow",
-           "network"]
+__all__ = ["PALETTE", "FIXED_MARGINS", "figure_png", "cost_curves", "cost_breakdown",
+           "velocity_head", "friction_chart", "tornado_chart", "probability_cheapest",
+           "eac_distributions", "cumulative_cash_flow", "network"]
 
 #: Okabe & Ito colour-blind-safe palette.
 PALETTE = ["#0072B2", "#E69F00", "#009E73", "#D55E00", "#CC79A7", "#56B4E9", "#F0E442",
@@ -37,6 +44,39 @@ def _axes(ax: Any, figsize: tuple[float, float] = (7.5, 4.5)):
 def _money(result_or_study: Any) -> str:
     study = getattr(result_or_study, "study", result_or_study)
     return study.currency or "currency"
+
+
+_SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+class _LogTickLabels(ticker.Formatter):
+    """Log-axis tick labels as plain text (10³; 0.2, 5 or 2×10⁻⁵ between decades), drawn
+    without building matplotlib's math-text parser (a few tenths of a second the first time).
+
+    Decades are always labelled; within a view of less than about one decade the multiples 2, 3
+    and 5 are too (every multiple below half a decade), as matplotlib's own log labels do.
+    """
+
+    def __call__(self, x: float, pos: int | None = None) -> str:
+        if not (x > 0 and math.isfinite(x)):
+            return ""
+        exponent = math.floor(math.log10(x) + 1e-9)
+        mantissa = round(x / 10.0 ** exponent, 6)
+        decade = "10" + str(exponent).translate(_SUPERSCRIPT)
+        low, high = sorted(self.axis.get_view_interval()) if self.axis else (x, x)
+        span = math.log10(high / low) if low > 0 else math.inf
+        if mantissa != 1 and not (span < 0.5 or (span < 1.2 and mantissa in (2, 3, 5))):
+            return ""
+        if span < 1.2 and -3 <= exponent <= 3:  # a short view: plain numbers read best
+            return f"{x:g}"
+        return decade if mantissa == 1 else f"{mantissa:g}×{decade}"
+
+
+def _log_labels(*axes) -> None:
+    """:class:`_LogTickLabels` on the major and minor ticks of log-scaled axes."""
+    for axis in axes:
+        axis.set_major_formatter(_LogTickLabels())
+        axis.set_minor_formatter(_LogTickLabels())
 
 
 def _style(ax, title: str | None = None) -> None:
@@ -164,6 +204,7 @@ def velocity_head(result, ax=None):
     twin.plot(d_mm, c["head_loss_m"], "s", color=PALETTE[1], markersize=3,
               label="head loss, largest duty, year 1")
     twin.set_yscale("log")
+    _log_labels(ax.yaxis, twin.yaxis)
     twin.set_ylabel("head loss [m]")
     _style(ax, "Velocity and head loss against diameter")
     lines = ax.get_legend_handles_labels()
@@ -200,6 +241,7 @@ def friction_chart(result=None, relative_roughness=(0.0, 1e-5, 1e-4, 1e-3, 5e-3,
                     color=PALETTE[3], markersize=8, label="chosen")
     ax.set_xscale("log")
     ax.set_yscale("log")
+    _log_labels(ax.xaxis, ax.yaxis)
     ax.set_xlabel("Reynolds number Re [-]")
     ax.set_ylabel("Darcy friction factor f [-]")
     _style(ax, "Friction factor (Colebrook–White, solved exactly)")
@@ -301,6 +343,140 @@ def cumulative_cash_flow(upgrade_result, ax=None):
     _style(ax, "Upgrade options: cumulative discounted cash flow")
     ax.legend(fontsize=7, frameon=False)
     return ax
+
+
+# --------------------------------------------------------------------------------------------
+# PNG bytes at low cost: one Agg draw with fixed margins, text bitmaps kept between draws
+# --------------------------------------------------------------------------------------------
+#: Margins (fractions of the figure) that leave room for seven-character tick labels, the axis
+#: labels and the title; :func:`figure_png` widens them where a figure needs more.
+FIXED_MARGINS = {"left": 0.115, "right": 0.975, "bottom": 0.115, "top": 0.925}
+
+
+class _TextCachingRenderer(RendererAgg):
+    """The Agg renderer, keeping the bitmap of every text it has rasterised.
+
+    matplotlib rasterises each text glyph by glyph on every draw (about a tenth of a millisecond
+    per character here), which is most of the cost of redrawing a figure whose lines change but
+    whose labels mostly do not. This renderer rasterises a (text, font, size, dpi) once, keeps
+    the bitmap (least recently used first out) and places it as Agg's own text path does; the
+    first failure of that path (a matplotlib version without these methods) switches it off
+    and every text goes through matplotlib's own code.
+    """
+
+    _bitmaps: OrderedDict = OrderedDict()   # shared by every figure of the process
+    _max_bitmaps = 1024  # a few kB each
+    _enabled = True
+
+    def draw_text(self, gc, x, y, s, prop, angle, ismath=False, mtext=None):
+        if ismath or not _TextCachingRenderer._enabled:
+            return super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
+        flags = get_hinting_flag()
+        key = (s, hash(prop), self.dpi, bool(gc.get_antialiased()), flags)
+        try:
+            hit = self._bitmaps.get(key)
+            if hit is None:
+                font = self._prepare_font(prop)
+                font.set_text(s, 0, flags=flags)
+                font.draw_glyphs_to_bitmap(antialiased=gc.get_antialiased())
+                xo, yo = font.get_bitmap_offset()
+                hit = (np.array(font.get_image()), font.get_descent() / 64.0, xo / 64.0,
+                       yo / 64.0)
+                self._bitmaps[key] = hit
+                if len(self._bitmaps) > self._max_bitmaps:
+                    self._bitmaps.popitem(last=False)
+            else:
+                self._bitmaps.move_to_end(key)
+            bitmap, descent, xo, yo = hit
+            px = round(x + xo + descent * math.sin(math.radians(angle)))
+            py = round(y + yo + descent * math.cos(math.radians(angle)))
+            self._renderer.draw_text_image(bitmap, px, py + 1, angle, gc)
+        except (AttributeError, TypeError, ValueError):  # another matplotlib: its own path
+            _TextCachingRenderer._enabled = False
+            super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
+
+
+class _PngCanvas(FigureCanvasAgg):
+    """An Agg canvas drawing with :class:`_TextCachingRenderer`."""
+
+    _renderer_key: Any = None
+
+    def get_renderer(self):
+        size = (*self.get_width_height(physical=True), self.figure.dpi)
+        if self._renderer_key != size:
+            self.renderer = _TextCachingRenderer(*size)
+            self._renderer_key = size
+        return self.renderer
+
+
+def figure_png(figure, dpi: float | None = None, everything: bool = False) -> bytes:
+    """PNG bytes of a figure, drawn once by Agg with fixed margins and fast compression.
+
+    A figure with a layout engine (the ``layout="constrained"`` of this module's figures) is
+    switched to :data:`FIXED_MARGINS`: constrained layout measures every text before each draw
+    and ``savefig`` draws such a figure twice. After the draw, whatever fell outside the figure
+    widens the margins and the figure is drawn once more (rare; the margins then stay).
+
+    Parameters
+    ----------
+    figure : matplotlib.figure.Figure
+    dpi : float, optional
+        Resolution [dots per inch]; default the figure's own.
+    everything : bool
+        Check the extent of the axes' decorations (tick labels, titles, axis labels, legends:
+        for one-off figures such as a report's) rather than only the titles and axis labels
+        (cheaper: for figures redrawn while a user waits, whose tick labels stay within the
+        fixed margins).
+
+    Returns
+    -------
+    bytes
+        The PNG file (RGB, zlib level 1, no metadata: the same figure gives the same bytes).
+    """
+    if dpi is not None and dpi != figure.dpi:
+        figure.set_dpi(dpi)
+    if figure.get_layout_engine() is not None:
+        figure.set_layout_engine(None)
+        margins = dict(FIXED_MARGINS)
+        if any(ax.yaxis.get_label_position() == "right" for ax in figure.axes):
+            margins["right"] = 0.9  # a twin axis: room for its labels, saves a second draw
+        figure.subplots_adjust(**margins)
+    canvas = figure.canvas if isinstance(figure.canvas, _PngCanvas) else _PngCanvas(figure)
+    canvas.draw()
+    if not _fit_margins(canvas, everything):
+        canvas.draw()
+    image = Image.frombuffer("RGBA", canvas.get_width_height(physical=True),
+                             canvas.buffer_rgba(), "raw", "RGBA", 0, 1).convert("RGB")
+    buffer = io.BytesIO()
+    image.save(buffer, format="png", compress_level=1)
+    return buffer.getvalue()
+
+
+def _fit_margins(canvas: FigureCanvasAgg, everything: bool, pad: float = 4.0) -> bool:
+    """Widen the margins where the last draw put something outside the figure; True when
+    everything fitted."""
+    figure = canvas.figure
+    width, height = canvas.get_width_height(physical=True)
+    renderer = canvas.get_renderer()
+    if everything:  # axes, tick labels, titles, legends; data never leaves its axes
+        boxes = [ax.get_tightbbox(renderer, bbox_extra_artists=[]) for ax in figure.axes]
+    else:
+        boxes = []
+        for ax in figure.axes:
+            titles = [c for c in ax.get_children() if isinstance(c, Text)]  # the three titles
+            boxes += [text.get_window_extent(renderer)
+                      for text in (*titles, ax.xaxis.label, ax.yaxis.label)
+                      if text.get_visible() and text.get_text()]
+    grow = [0.0, 0.0, 0.0, 0.0]  # left, right, bottom, top [px]
+    for box in boxes:
+        grow = [max(grow[0], pad - box.x0), max(grow[1], box.x1 - width + pad),
+                max(grow[2], pad - box.y0), max(grow[3], box.y1 - height + pad)]
+    if max(grow) <= 0.0:
+        return True
+    p = figure.subplotpars
+    figure.subplots_adjust(left=p.left + grow[0] / width, right=p.right - grow[1] / width,
+                           bottom=p.bottom + grow[2] / height, top=p.top - grow[3] / height)
+    return False
 
 
 def network(result, ax=None, labels: bool = True):

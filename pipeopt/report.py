@@ -140,10 +140,9 @@ def _md_code(text: str) -> list[str]:
 
 
 def _png(ax) -> bytes:
-    buf = io.BytesIO()
-    ax.figure.savefig(buf, format="png", dpi=110, metadata={"Software": None})
+    png = plots.figure_png(ax.figure, dpi=110, everything=True)  # one draw, no layout passes
     plt.close(ax.figure)
-    return buf.getvalue()
+    return png
 
 
 def _inputs_sizing(study) -> pd.DataFrame:

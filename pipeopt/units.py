@@ -42,8 +42,24 @@ MAX_TEXT = 100
 #: Largest magnitude accepted for a dimensional input, in its SI unit.
 MAX_MAGNITUDE = 1e12
 
+
+
+def _registry() -> pint.UnitRegistry:
+    """pint's default registry, parsed once and then read from pint's disk cache.
+
+    Parsing pint's definition file takes about 0.2 s; pint keeps the parsed definitions in the
+    user's cache folder (``cache_folder=":auto:"``) keyed by the file's content, so later
+    starts read them back in a few milliseconds. Where the cache cannot be used (a read-only
+    home, a damaged cache file) the definitions are parsed as usual.
+    """
+    try:
+        return pint.UnitRegistry(cache_folder=":auto:")
+    except Exception:  # noqa: BLE001 - the cache is an optimisation, never a failure
+        return pint.UnitRegistry()
+
+
 #: The package's one unit registry. Use it (not a registry of your own) when passing Quantities.
-ureg = pint.UnitRegistry()
+ureg = _registry()
 ureg.formatter.default_format = "~P"
 # A year is a Julian year (365.25 d) in pint; rates per year in this package use it.
 Quantity = ureg.Quantity

@@ -271,9 +271,9 @@ def _closed_form_diameter() -> float:
 
 def _r12(t_k: float, rho: float) -> Callable[[], float]:
     def f() -> float:
-        import CoolProp.CoolProp as CP  # the formulation as CoolProp implements it
+        from .water import iapws2008_viscosity
 
-        return float(CP.PropsSI("V", "T", t_k, "Dmass", rho, "Water") * 1e6)
+        return float(iapws2008_viscosity(t_k, rho) * 1e6)
     return f
 
 

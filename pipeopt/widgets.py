@@ -5,6 +5,12 @@ notebook cell. Moving a control re-evaluates the study with the changed inputs (
 candidates and everything that does not depend on the control are re-used) after a short pause
 (``debounce`` seconds, so that dragging a slider does not queue many evaluations), then redraws
 the figure and the table. ``explorer.update_now()`` does the same at once (tests, scripts).
+
+The figure reaches the screen as a PNG in an ``ipywidgets.Image`` (sent to the browser as binary
+bytes: no base64, no output clearing), drawn once per update by :func:`pipeopt.plots.figure_png`
+(fixed margins, no constrained layout, no tight bounding box, text bitmaps kept between draws,
+fast PNG compression): an update redraws the lines and markers and rasterises only the texts
+that changed.
 """
 
 from __future__ import annotations
@@ -16,8 +22,8 @@ import time
 from typing import Any
 
 import ipywidgets as w
-import matplotlib.pyplot as plt
 from IPython.display import display
+from matplotlib.figure import Figure
 
 from . import plots
 
@@ -49,7 +55,11 @@ def explore(study, debounce: float = 0.15):
 
 
 class _Explorer(abc.ABC):
-    """Shared machinery: controls, debounced updates, a figure in an Output widget."""
+    """Shared machinery: controls, debounced updates, the figure as an image widget."""
+
+    #: Figure size [in] and resolution [dpi] of the picture.
+    figsize = (7.5, 4.3)
+    dpi = 100
 
     def __init__(self, debounce: float) -> None:
         self.debounce = float(debounce)
@@ -59,8 +69,14 @@ class _Explorer(abc.ABC):
         self.output = w.Output()
         self.table = w.HTML()
         self.status = w.HTML()
-        self.figure, self.ax = plt.subplots(figsize=(7.5, 4.3), layout="constrained")
-        plt.close(self.figure)  # drawn into the Output widget, not by pyplot
+        # A figure of its own (not pyplot's): drawn only when the explorer asks for a picture.
+        self.figure = Figure(figsize=self.figsize, dpi=self.dpi)
+        self.ax = self.figure.add_subplot()
+        self.figure.subplots_adjust(**plots.FIXED_MARGINS)
+        self.image = w.Image(format="png")
+        # the picture sits in the Output area, as a widget whose bytes each update replaces
+        self.output.outputs = ({"output_type": "display_data",
+                                "data": self.image._repr_mimebundle_(), "metadata": {}},)
 
     def _slider(self, description: str, value: float, low: float, high: float, step: float,
                 fmt: str = ".3g", integer: bool = False) -> w.Widget:
@@ -90,10 +106,7 @@ class _Explorer(abc.ABC):
         self._pending = None
         t0 = time.perf_counter()
         self._update()
-        self.ax.figure.canvas.draw()
-        with self.output:
-            self.output.clear_output(wait=True)
-            display(self.figure)
+        self.image.value = plots.figure_png(self.figure)  # the one draw of this update
         self.last_update_seconds = time.perf_counter() - t0
         self.updates += 1
 

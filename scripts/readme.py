@@ -119,7 +119,20 @@ def error_example() -> str:
     raise AssertionError("the example should fail")
 
 
+def network_demo() -> str:
+    import contextlib
+    import io
+
+    from pipeopt.cli import main
+
+    buf = io.StringIO()
+    with contextlib.redirect_stdout(buf):
+        main(["network", "--demo", "--quiet"])
+    return buf.getvalue().rstrip("\n")
+
+
 GENERATORS = {
+    "network-demo": network_demo,
     "demo-sizing-study": demo_sizing_study,
     "demo-sizing-output": demo_sizing_output,
     "demo-sizing-optimum": lambda: _optimum_lines(_sizing_text()),

@@ -87,6 +87,62 @@ def test_colebrook_large_arrays_span_several_blocks():
         assert f[i] == fr.colebrook_white(float(re[i]), float(rr[i]))
 
 
+def test_colebrook_wide_grid_to_machine_precision(colebrook_grid):
+    # Reference: 40-digit mpmath roots (conftest). The fast kernel (one Halley step from a
+    # tabulated Wright-omega guess) keeps the last digits, not just the 1e-13 of the contract.
+    re, rr, f_ref = colebrook_grid
+    assert np.max(np.abs(fr.colebrook_white(re, rr) / f_ref - 1.0)) <= 4e-15
+
+
+@settings(max_examples=150, deadline=None)
+@given(re=st.floats(4e3, 1e8),
+       rr=st.one_of(st.just(0.0), st.floats(1e-7, 0.05)))
+def test_colebrook_random_points_hypothesis(re, rr):
+    # Reference: 40-digit mpmath root (conftest), Colebrook (1939).
+    assert fr.friction_factor(re, rr) == pytest.approx(colebrook_mpmath(re, rr), rel=1e-13,
+                                                       abs=0)
+
+
+@pytest.mark.parametrize(("re", "rr"), [
+    (2000.0, 0.0), (2000.0, 0.05), (4000.0, 0.05), (1e8, 1e-7), (1e8, 0.05), (1e15, 0.0),
+    (1e15, 0.05), (1e16, 0.05), (1e20, 1e-3), (1e30, 0.0)])
+def test_colebrook_edges_of_both_kernels(re, rr):
+    # Reference: mpmath root (conftest). Re above 1e15 leaves the fast kernel's table and is
+    # solved by Clamond's iteration; both sides of the switch are exact.
+    assert fr.colebrook_white(re, rr) == pytest.approx(colebrook_mpmath(re, rr), rel=4e-15,
+                                                       abs=0)
+
+
+def test_fast_kernel_agrees_with_clamond_reference_kernel():
+    # The fast path against the reference path kept beside it (Clamond 2009, two steps), on
+    # random points over the whole fast range and the edges, across several blocks.
+    rng = np.random.default_rng(7)
+    n = 3 * fr._CHUNK + 5
+    re = 10 ** rng.uniform(np.log10(2e3), 15, n)
+    rr = np.where(rng.random(n) < 0.1, 0.0, 10 ** rng.uniform(-7, np.log10(0.05), n))
+    re[:4], rr[:4] = [2e3, 2e3, 1e15, 1e15], [0.0, 0.05, 0.0, 0.05]
+    fast, ref = np.empty(n), np.empty(n)
+    fr._colebrook_fast_kernel(re, rr, fast)
+    fr._colebrook_kernel(re, rr, ref)
+    assert np.max(np.abs(fast / ref - 1.0)) <= 8e-15  # each within about 4e-15 of the root
+
+
+def test_wright_omega_table_is_a_close_first_guess():
+    # Reference: mpmath's Lambert W, omega(z) = W(e^z) (the Wright omega function; Corless &
+    # Jeffrey 2002, from memory). The table's lines must be within 4e-5 of ln(omega) for one
+    # Halley step to reach 1e-16 (error about err**3 / (3 a**3), a >= 5); they are within 6e-6.
+    c0, c1 = fr._omega_table()
+    rng = np.random.default_rng(5)
+    z = np.exp(rng.uniform(np.log(4.0), np.log(2.0 ** 44), 300)).astype(np.float32)
+    idx = z.view(np.int32) >> (23 - fr._OMEGA_BITS)
+    guess = (c1[idx] * z + c0[idx]).astype(float)
+    shift = -fr._CL_X2   # ln(ln10 / 5.02), as in the kernel
+    with mp.workdps(30):
+        exact = np.array([float(mp.log(mp.lambertw(mp.exp(mp.mpf(float(v)) + shift))) - shift)
+                          for v in z])
+    assert np.max(np.abs(guess - exact)) <= 1e-5
+
+
 # ------------------------------------------------------------------------------------------
 # explicit methods: exactly the published formula, and within the measured accuracy band
 # ------------------------------------------------------------------------------------------

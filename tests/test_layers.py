@@ -20,7 +20,7 @@ LAYERS = {
     # base: errors, input kinds, units at the edge, input sections, study-file reading
     "errors": 0, "_arrays": 0, "units": 0, "fields": 0, "studyfile": 0,
     # physics
-    "friction": 1, "fluid": 1, "catalog": 1, "pressure": 1, "surge": 1,
+    "friction": 1, "fluid": 1, "water": 1, "catalog": 1, "pressure": 1, "surge": 1,
     # model
     "economics": 2, "costs": 2, "duty": 2, "hydraulics": 2, "cashflow": 2, "variations": 2,
     "lifecycle": 2, "renewal": 2, "upgrade_model": 2,

@@ -7,7 +7,6 @@ import subprocess
 import sys
 import tomllib
 from importlib import resources
-from pathlib import Path
 
 import pytest
 
@@ -35,17 +34,14 @@ def _mask_residuals(text: str) -> str:
     return re.sub(r"imbalance [0-9.e+-]+", "imbalance ~", text)
 
 
-def test_network_demo_prints_the_summary_shown_in_the_readme():
+def test_network_demo_prints_its_summary():
+    # the README shows this output through a generated block (tests/test_readme.py)
     out = run_cli("network", "--demo")
     assert out.returncode == 0, out.stderr
     assert "invented for illustration" in out.stdout
     assert "Sizes chosen" in out.stdout and "Caution:" in out.stdout
+    assert "mass and energy balance to 1e-9 held" in out.stdout
     assert "Traceback" not in out.stderr
-    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
-    section = readme.split("## Networks", 1)[1].split("\n## ", 1)[0]
-    shown = re.findall(r"```\n(Demo scenario.+?)\n```", section, flags=re.S)
-    assert len(shown) == 1
-    assert _mask_residuals(shown[0]) == _mask_residuals(out.stdout.rstrip("\n"))
 
 
 def test_network_file_writes_the_report(tmp_path):

@@ -73,3 +73,73 @@ def test_cumulative_cash_flow():
     assert ax.get_xlabel() == "study year [yr]"
     assert any("pays back" in t.get_text() for t in ax.texts)
     plt.close(ax.figure)
+
+
+def test_figure_png_matches_matplotlibs_own_drawing(demo):
+    # The text-bitmap cache must not change the picture: compared with matplotlib's own Agg
+    # drawing of the same figure at the same margins, lines and markers are identical and each
+    # text has the same ink, placed to within a pixel.
+    import io
+
+    import numpy as np
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.text import Text
+    from PIL import Image
+
+    _, result, _ = demo
+    ax = plots.cost_curves(result)
+    fig = ax.figure
+    png = plots.figure_png(fig, dpi=100)
+    again = plots.figure_png(fig, dpi=100)  # every text now comes from the cache
+    assert png == again and png[:8] == b"\x89PNG\r\n\x1a\n"
+    ours = np.asarray(Image.open(io.BytesIO(png)).convert("L"), dtype=float)
+    FigureCanvasAgg(fig).draw()
+    theirs = np.asarray(Image.fromarray(np.asarray(fig.canvas.buffer_rgba())).convert("L"),
+                        dtype=float)
+    assert ours.shape == theirs.shape
+    renderer = fig.canvas.get_renderer()
+    height = ours.shape[0]
+    texts = [t for t in fig.findobj(Text) if t.get_visible() and t.get_text()]
+    mask = np.zeros(ours.shape, dtype=bool)
+    for text in texts:
+        box = text.get_window_extent(renderer)
+        rows = slice(max(0, int(height - box.y1) - 2), int(height - box.y0) + 3)
+        cols = slice(max(0, int(box.x0) - 2), int(box.x1) + 3)
+        mask[rows, cols] = True
+        ink_ours, ink_theirs = (255 - ours[rows, cols]).sum(), (255 - theirs[rows, cols]).sum()
+        assert ink_ours == pytest.approx(ink_theirs, rel=0.12), text.get_text()
+    assert len(texts) > 20
+    np.testing.assert_array_equal(ours[~mask], theirs[~mask])
+    plt.close(fig)
+
+
+def test_figure_png_widens_margins_for_what_falls_outside():
+    fig, ax = plt.subplots(figsize=(4, 3))
+    ax.plot([0, 1], [0, 1e9])
+    ax.set_ylabel("a long label [unit]\nover two lines, pushed far left")
+    ax.yaxis.labelpad = 60
+    plots.figure_png(fig, everything=True)
+    renderer = fig.canvas.get_renderer()
+    assert fig.get_tightbbox(renderer).x0 >= 0  # inches: nothing left of the figure
+    assert ax.yaxis.label.get_window_extent(renderer).x0 >= 0
+    plt.close(fig)
+
+
+def test_log_tick_labels_are_plain_text():
+    # Common practice for log axes: decades as powers of ten; within a short view, the
+    # multiples 2, 3 and 5 as plain numbers. No math text (no "$" in any label).
+    fig, (wide, short) = plt.subplots(1, 2)
+    for ax, (low, high) in ((wide, (1e3, 1e8)), (short, (0.3, 2.5))):
+        ax.plot([low, high], [low, high])
+        ax.set_xscale("log")
+        ax.set_yscale("log")
+        plots._log_labels(ax.xaxis, ax.yaxis)
+        ax.set_xlim(low, high)
+    plots.figure_png(fig)
+    wide_labels = [t.get_text() for t in wide.xaxis.get_majorticklabels() if t.get_text()]
+    assert "10⁴" in wide_labels and "10⁸" in wide_labels
+    short_labels = [t.get_text() for t in short.xaxis.get_ticklabels(which="both")
+                    if t.get_text()]
+    assert {"0.3", "0.5", "1", "2"} <= set(short_labels)
+    assert not any("$" in t for t in wide_labels + short_labels)
+    plt.close(fig)

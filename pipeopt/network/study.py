@@ -806,7 +806,9 @@ class NetworkResult:
         cases = pd.DataFrame({"case": case_names, "total_demand_m3_s": dem.sum(axis=1),
                               "pump_head_m": ev.pump_head[0],
                               "power_kw": ev.power_kw[0].reshape(s),
-                              "least_margin_m": margin.min(axis=1)})
+                              "least_margin_m": margin.min(axis=1),
+                              "mass_imbalance_m3_s": float(ev.mass_residual[0]),
+                              "energy_imbalance_m": float(ev.energy_residual[0])})
         ok = bool(outcome.success and ev.feasible[0])
         msg = outcome.message
         if not ev.converged[0]:
@@ -863,9 +865,10 @@ class NetworkResult:
         for _, r in worst.iterrows():
             lines.append(f"  {r['node']:<16} {r['pressure_head_m']:7.2f} m against "
                          f"{r['min_pressure_head_m']:.2f} m ({r['case']})")
-        lines.append(f"Check: the design re-solved by the global gradient method; largest mass "
-                     f"imbalance {float(ev.mass_residual[0]):.1e} m3/s, largest energy "
-                     f"imbalance {float(ev.energy_residual[0]):.1e} m")
+        mass, energy = float(ev.mass_residual[0]), float(ev.energy_residual[0])
+        held = "held" if mass <= 1e-9 and energy <= 1e-9 else "NOT held"
+        lines.append(f"Check: the design re-solved by the global gradient method; mass and "
+                     f"energy balance to 1e-9 {held} (the residuals are in the cases table)")
         if int(ev.transitional[0]):
             lines.append(f"Note: {int(ev.transitional[0])} pipe(s) run in the laminar-turbulent "
                          f"band (2000 <= Re < 4000) in some case; their friction factor is "

@@ -1,0 +1,55 @@
+"""The package's entry points stay light: heavy libraries load only where they are used."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+
+import pytest
+
+import pipeopt
+
+# Libraries that take a large share of a second (or seconds: CoolProp's fluid library) to load.
+HEAVY = ("CoolProp", "matplotlib", "pandas.plotting._matplotlib", "openpyxl", "ipywidgets",
+         "tqdm")
+
+
+def _modules_after(code: str) -> set[str]:
+    out = subprocess.run([sys.executable, "-c", code + "\nimport sys, json\n"
+                          "print(json.dumps(sorted(sys.modules)))"],
+                         capture_output=True, text=True, timeout=120, check=True)
+    return set(json.loads(out.stdout.strip().splitlines()[-1]))
+
+
+def _loaded(modules: set[str], names) -> list[str]:
+    return sorted(n for n in names if n in modules or any(m.startswith(n + ".") for m in modules))
+
+
+def test_import_pipeopt_loads_no_numerical_library():
+    modules = _modules_after("import pipeopt")
+    assert _loaded(modules, HEAVY + ("pandas", "scipy", "numpy", "pint")) == []
+
+
+def test_help_loads_no_numerical_library():
+    modules = _modules_after("import pipeopt.cli\n"
+                             "try:\n    pipeopt.cli.main(['--help'])\nexcept SystemExit:\n"
+                             "    pass")
+    assert _loaded(modules, HEAVY + ("pandas", "scipy", "numpy", "pint")) == []
+
+
+def test_a_water_study_loads_no_fluid_library_and_no_plotting():
+    modules = _modules_after("from pipeopt import SizingStudy\n"
+                             "assert SizingStudy.demo().run().best is not None")
+    assert _loaded(modules, HEAVY) == []
+
+
+def test_lazy_names_resolve_and_unknown_names_fail():
+    from pipeopt.fluid import Fluid
+    from pipeopt.sizing import SizingStudy
+
+    assert pipeopt.Fluid is Fluid and pipeopt.SizingStudy is SizingStudy
+    assert pipeopt.catalog.__name__ == "pipeopt.catalog"
+    assert set(pipeopt.__all__) <= set(dir(pipeopt))
+    with pytest.raises(AttributeError, match="no attribute 'Unobtainium'"):
+        pipeopt.Unobtainium  # noqa: B018
