@@ -892,7 +892,8 @@ def read_manifest(folder: str | Path, verify: bool = True) -> Manifest:
     """
     f = Path(folder)
     relative = os.open in os.supports_dir_fd and hasattr(os, "O_DIRECTORY")
-    for attempt in range(3):
+    attempts = 50  # each repeat follows a swap by another run; they end when the runs do
+    for attempt in range(attempts):
         fd = None
         if relative:
             try:
@@ -905,7 +906,7 @@ def read_manifest(folder: str | Path, verify: bool = True) -> Manifest:
         try:
             return _read_manifest_in(f, fd, verify)
         except IncompleteResultSet:
-            if fd is None or attempt == 2:
+            if fd is None or attempt == attempts - 1:
                 raise
             try:
                 moved = os.stat(f).st_ino != os.fstat(fd).st_ino
@@ -913,6 +914,7 @@ def read_manifest(folder: str | Path, verify: bool = True) -> Manifest:
                 moved = True
             if not moved:
                 raise
+            time.sleep(0.001 * attempt)
         finally:
             if fd is not None:
                 os.close(fd)
