@@ -171,11 +171,14 @@ def _progress(args: argparse.Namespace) -> bool | None:
 
 
 def _cmd_run(args: argparse.Namespace) -> int:
-    from .sizing import SizingStudy
+    from .inputs import read_sizing
 
     out = _prepare_out(args)
     mapping, base, inputs = _read_study(args, out)
-    study = SizingStudy.from_dict(mapping, base_dir=base)
+    sections = read_sizing(mapping, base)   # every section checked before the heavy imports
+    from .sizing import SizingStudy
+
+    study = SizingStudy.from_sections(sections)
     result = study.run()
     extra: dict = {}
     _say(result.text())
@@ -193,11 +196,14 @@ def _cmd_run(args: argparse.Namespace) -> int:
 
 
 def _cmd_upgrade(args: argparse.Namespace) -> int:
-    from .upgrade import UpgradeStudy
+    from .inputs import read_upgrade
 
     out = _prepare_out(args)
     mapping, base, inputs = _read_study(args, out)
-    study = UpgradeStudy.from_dict(mapping, base_dir=base)
+    sections = read_upgrade(mapping, base)  # every section checked before the heavy imports
+    from .upgrade import UpgradeStudy
+
+    study = UpgradeStudy.from_sections(sections)
     result = study.run()
     _say(result.text())
     extra: dict = {}

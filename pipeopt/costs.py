@@ -16,7 +16,6 @@ from typing import Any
 import numpy as np
 
 from ._arrays import as_float_arrays, restore
-from .catalog import nearest_designations
 from .economics import growth_factors
 from .errors import InputError
 from .fields import InputSection, number, numbers, whole
@@ -155,6 +154,8 @@ class MassLayingCost(PipeCostModel, InputSection):
         for nom in np.atleast_1d(nominal):
             hit = self.laying_table.get(_norm(nom))
             if hit is None:
+                from .catalog import nearest_designations  # pandas: only on the error path
+
                 near = nearest_designations(str(nom), names)
                 raise InputError(f"cost.laying_table: no laying cost for nominal size "
                                  f"{str(nom)!r}; nearest listed: {', '.join(near) or 'none'}")
@@ -217,6 +218,8 @@ class DesignationCostTable(PipeCostModel):
         out = []
         for d in np.atleast_1d(designation):
             if _norm(d) not in table:
+                from .catalog import nearest_designations  # pandas: only on the error path
+
                 near = nearest_designations(str(d), [k for k, _ in self.rows])
                 raise InputError(f"cost.table: no cost for {str(d)!r}; nearest listed: "
                                  f"{', '.join(near) or 'none'}")

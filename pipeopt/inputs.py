@@ -15,10 +15,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from . import friction as fr
-from .catalog import Catalog, default_catalog, load_catalog
 from .costs import (
     DesignationCostTable,
     EnergyTariff,
@@ -44,6 +43,9 @@ from .fields import (
 from .fluid import Fluid
 from .studyfile import Section, StudyFileError
 from .surge import RESTRAINTS
+
+if TYPE_CHECKING:  # the catalog brings pandas: imported where a reader needs it
+    from .catalog import Catalog
 
 __all__ = ["StudyInfo", "FluidSpec", "Line", "Pumping", "Economics", "Constraints", "Carbon",
            "Hydraulics", "MaterialChoice", "FieldTest", "ExistingLine",
@@ -576,6 +578,8 @@ def _read_duty(top: Section) -> DutyProfile:
 
 
 def _read_catalog(top: Section, base: Path) -> Catalog:
+    from .catalog import default_catalog, load_catalog
+
     cat = top.table("catalog", ("sizes", "materials"))
     if not cat:
         return default_catalog()
@@ -589,8 +593,9 @@ def read_common(top: Section, base: Path) -> dict[str, Any]:
     """The sections a sizing and an upgrade study share, checked, as input sections.
 
     ``[study]``, ``[fluid]`` (a :class:`FluidSpec`, not yet evaluated), ``[[duty]]`` and
-    ``[growth]``, ``[pumping]``, ``[energy]``, ``[pump_station]``, ``[economics]``,
-    ``[catalog]`` (paths relative to ``base``) and the raw ``[uncertainty]`` table.
+    ``[growth]``, ``[pumping]``, ``[energy]``, ``[pump_station]``, ``[economics]`` and the raw
+    ``[uncertainty]`` table. The ``[catalog]`` files are read last, by :func:`read_sizing` and
+    :func:`read_upgrade`, once every other section has passed its checks.
     """
     station = top.table("pump_station", PumpStationCost.keys())
     return {
@@ -601,7 +606,6 @@ def read_common(top: Section, base: Path) -> dict[str, Any]:
         "energy": EnergyTariff.read(top.table("energy", EnergyTariff.keys(), required=True)),
         "pump_station": None if station is None else PumpStationCost.read(station),
         "economics": Economics.read(top.table("economics", Economics.keys(), required=True)),
-        "catalog": _read_catalog(top, base),
         "uncertainty": top.raw("uncertainty"),
     }
 
@@ -623,11 +627,12 @@ def read_sizing(mapping: dict, base: Path) -> dict[str, Any]:
     out["line"] = Line.read(top.table("line", Line.keys(), required=True))
     secs = top.tables("material", MaterialChoice.keys())
     out["materials"] = tuple(MaterialChoice.read(s) for s in secs)
-    _materials_known(list(out["materials"]), secs, out["catalog"])
     out["constraints"] = Constraints.read(top.table("constraints", Constraints.keys()))
     carbon = top.table("carbon", Carbon.keys())
     out["carbon"] = None if carbon is None else Carbon.read(carbon)
     out["hydraulics"] = Hydraulics.read(top.table("hydraulics", Hydraulics.keys()))
+    out["catalog"] = _read_catalog(top, base)
+    _materials_known(list(out["materials"]), secs, out["catalog"])
     return out
 
 
@@ -637,18 +642,17 @@ def read_upgrade(mapping: dict, base: Path) -> dict[str, Any]:
     out = read_common(top, base)
     ex = top.table("existing", ExistingLine.keys(), required=True)
     out["existing"] = ExistingLine.read(ex)
+    secs = top.tables("option", UpgradeOption.keys())
+    out["options"] = tuple(UpgradeOption.read(sec) for sec in secs)
+    out["catalog"] = _read_catalog(top, base)
     try:
         out["catalog"].material(out["existing"].material)
     except InputError as exc:
         raise StudyFileError(f"existing.material: {exc}") from None
-    options = []
-    for sec in top.tables("option", UpgradeOption.keys()):
-        opt = UpgradeOption.read(sec)
+    for opt, sec in zip(out["options"], secs, strict=True):
         if opt.material is not None:
             try:
                 out["catalog"].material(opt.material)
             except InputError as exc:
                 raise StudyFileError(f"{sec.key('material')}: {exc}") from None
-        options.append(opt)
-    out["options"] = tuple(options)
     return out

@@ -8,11 +8,11 @@ neighbouring sizes' ratings (conservative), and roughness and aging are the mate
 
 The minimization honours the velocity limits: velocity_max sets the smallest diameter (at the
 largest flow of the years of the horizon), velocity_min the largest (at the largest year-1
-duty). Two vectorized scans of the life-cycle model (every class at once) bracket each minimum,
-then one bounded :func:`scipy.optimize.minimize` (L-BFGS-B) over all the classes' diameters at
-once refines them (the objective is separable: the sum of the classes' EACs). The unconstrained
-optimum of each class is found the same way, and reported beside the constrained one when the
-limits move it.
+duty). A vectorized scan of the life-cycle model (every class at once) brackets each minimum, then
+one bounded :func:`scipy.optimize.minimize` (L-BFGS-B) over all the classes' diameters at once
+refines them (the objective is separable: the sum of the classes' EACs, each scaled by its
+curvature). Where a velocity limit holds the optimum, the unconstrained optimum of that class
+is found the same way and reported beside it.
 
 A material's optimum is its class with the least EAC among those that meet the velocity limits
 and hold the pressure at their optimum (operating pressure within PFA, MDP within PMA, at the
@@ -62,27 +62,29 @@ class _Classes:
                 "alpha": float(rows["aging_m_per_year"].iloc[0]),
                 "rated": bool(np.isfinite(rows["pressure_rating_pa"]).all()),
                 "hot": bool(np.isnan(rows["temperature_factor"]).any())})
+            grp = self.groups[-1]
+            grp["log_d"] = np.log(grp["d"])
+            grp["log_cost"] = np.log(np.maximum(grp["cost"], 1e-300))
 
-    def at(self, g: int, d: np.ndarray) -> dict[str, np.ndarray]:
+    def at(self, g: int, d: np.ndarray, keys: tuple[str, ...]) -> dict[str, np.ndarray]:
         grp = self.groups[g]
         x = grp["d"]
         if x.size == 1:
             one = np.ones_like(d)
-            return {k: grp[k][0] * one for k in ("cost", "co2", "wave", "pfa", "pma")}
+            return {k: grp[k][0] * one for k in keys}
         ld = np.log(np.clip(d, x[0], x[-1]))
-
-        def loglog(y: np.ndarray) -> np.ndarray:
-            return np.exp(np.interp(ld, np.log(x), np.log(np.maximum(y, 1e-300))))
-
-        # the lower rating of the two neighbouring catalog sizes (conservative)
-        k = np.clip(np.searchsorted(x, d, side="right") - 1, 0, x.size - 2)
-        exact = np.isclose(d, x[k], rtol=1e-12)
-        nxt = np.where(exact, k, k + 1)
-        return {"cost": loglog(grp["cost"]),
-                "co2": loglog(grp["co2"]) if np.all(grp["co2"] > 0) else np.zeros_like(d),
-                "wave": np.interp(d, x, grp["wave"]),
-                "pfa": np.minimum(grp["pfa"][k], grp["pfa"][nxt]),
-                "pma": np.minimum(grp["pma"][k], grp["pma"][nxt])}
+        out = {"cost": np.exp(np.interp(ld, grp["log_d"], grp["log_cost"])),
+               "co2": (np.exp(np.interp(ld, grp["log_d"], np.log(grp["co2"])))
+                       if np.all(grp["co2"] > 0) else np.zeros_like(d))}
+        if "wave" in keys:
+            # the lower rating of the two neighbouring catalog sizes (conservative)
+            k = np.clip(np.searchsorted(x, d, side="right") - 1, 0, x.size - 2)
+            exact = np.isclose(d, x[k], rtol=1e-12)
+            nxt = np.where(exact, k, k + 1)
+            out.update(wave=np.interp(d, x, grp["wave"]),
+                       pfa=np.minimum(grp["pfa"][k], grp["pfa"][nxt]),
+                       pma=np.minimum(grp["pma"][k], grp["pma"][nxt]))
+        return out
 
 
 def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFrame,
@@ -136,18 +138,22 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
     possible = c_lo <= c_hi
     c_lo, c_hi = np.where(possible, c_lo, d_lo), np.where(possible, c_hi, d_hi)
 
-    def curves(d: np.ndarray, groups: np.ndarray) -> dict[str, np.ndarray]:
-        out = {k: np.empty_like(d) for k in ("cost", "co2", "wave", "pfa", "pma")}
+    def curves(d: np.ndarray, groups: np.ndarray, full: bool) -> dict[str, np.ndarray]:
+        keys = ("cost", "co2", "wave", "pfa", "pma") if full else ("cost", "co2")
+        out = {k: np.empty_like(d) for k in keys}
         for g in np.unique(groups):
             sel = groups == g
-            for k, x in cl.at(int(g), d[sel]).items():
+            for k, x in cl.at(int(g), d[sel], keys).items():
                 out[k][sel] = x
-        out["eps"] = np.array([cl.groups[g]["eps"] for g in groups])
-        out["alpha"] = np.array([cl.groups[g]["alpha"] for g in groups])
+        out["eps"] = eps_g[groups]
+        out["alpha"] = alpha_g[groups]
         return out
 
+    eps_g = np.array([g["eps"] for g in cl.groups])
+    alpha_g = np.array([g["alpha"] for g in cl.groups])
+
     def model(d: np.ndarray, groups: np.ndarray, eac_only: bool = True) -> Any:
-        cv = curves(d, groups)
+        cv = curves(d, groups, full=not eac_only)
         lc = evaluate(s, d, cv["eps"], cv["alpha"], cv["cost"],
                       cv["co2"] if embodied else 0.0, variations=var, eac_only=eac_only,
                       yearly=False)
@@ -155,46 +161,63 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
             return lc if var is None else lc[0]
         return (lc if var is None else lc.take(0)), cv
 
-    def minimize(lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """Minimum of every class's EAC within [lo, hi]: two scans, then L-BFGS-B."""
-        groups = np.arange(n_g)
-        grids = np.geomspace(lo, hi, 65, axis=1)
-        values = model(grids.ravel(), np.repeat(groups, 65)).reshape(grids.shape)
-        k = np.argmin(values, axis=1)
-        a = grids[groups, np.maximum(k - 1, 0)]
-        b = grids[groups, np.minimum(k + 1, 64)]
-        grids = np.linspace(a, b, 33, axis=1)
+    def minimize(lo: np.ndarray, hi: np.ndarray,
+                 groups: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Minimum of each class's EAC within [lo, hi]: a scan, then one L-BFGS-B for all.
+
+        The scan (33 log-spaced diameters of every class, one evaluation) brackets each
+        minimum between the neighbours of its best point; L-BFGS-B then works on u in [0, 1]
+        across each bracket, with each class's EAC scaled by its curvature there (from the
+        scan's three points) so that the problem is well conditioned, and derivatives by
+        central differences (three diameters per class, one evaluation per iteration).
+        """
+        n = groups.size
+        r = np.arange(n)
+        grids = np.geomspace(lo, hi, 33, axis=1)
         values = model(grids.ravel(), np.repeat(groups, 33)).reshape(grids.shape)
         k = np.argmin(values, axis=1)
-        x0 = grids[groups, k]
-        e0 = values[groups, k]
-        a = grids[groups, np.maximum(k - 1, 0)]
-        b = grids[groups, np.minimum(k + 1, 32)]
-        scale = np.maximum(np.abs(e0), 1.0)
+        km, kp = np.maximum(k - 1, 0), np.minimum(k + 1, 32)
+        a, b = grids[r, km], grids[r, kp]
+        x0, e0 = grids[r, k], values[r, k]
+        width = b - a
+        inner = (k > 0) & (k < 32)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            f2 = 2.0 * ((values[r, kp] - e0) / (grids[r, kp] - x0)
+                        - (e0 - values[r, km]) / (x0 - grids[r, km])) / (b - a)
+        scale = np.where(inner & (f2 > 0), f2 * width**2, np.maximum(np.abs(e0), 1.0) * 1e-3)
+        scale = np.where(np.isfinite(scale) & (scale > 0), scale, 1.0)
+        if not np.any(width > 0):
+            return x0, e0
+        safe_w = np.where(width > 0, width, 1.0)
+        hu = 1e-5
 
-        def fun(x: np.ndarray) -> tuple[float, np.ndarray]:
-            # the classes' EACs (scaled) and their derivatives by central differences, all in
-            # one evaluation of the model: 3 diameters per class
-            h = np.maximum(1e-7 * x, 1e-9)
-            pts = np.concatenate([x, np.clip(x + h, a, b), np.clip(x - h, a, b)])
-            e = model(pts, np.tile(groups, 3)).reshape(3, n_g) / scale
-            step = np.clip(x + h, a, b) - np.clip(x - h, a, b)
-            grad = np.where(step > 0, (e[1] - e[2]) / np.where(step > 0, step, 1.0), 0.0)
+        def fun(u: np.ndarray) -> tuple[float, np.ndarray]:
+            up, um = np.minimum(u + hu, 1.0), np.maximum(u - hu, 0.0)
+            pts = np.tile(a, 3) + np.concatenate([u, up, um]) * np.tile(width, 3)
+            e = (model(pts, np.tile(groups, 3)).reshape(3, n) - e0) / scale
+            step = up - um
+            live = (step > 0) & (width > 0)
+            grad = np.where(live, (e[1] - e[2]) / np.where(live, step, 1.0), 0.0)
             return float(e[0].sum()), grad
 
-        span = np.where(b > a, b - a, 0.0)
-        if np.any(span > 0):
-            res = optimize.minimize(fun, x0, jac=True, method="L-BFGS-B",
-                                    bounds=optimize.Bounds(a, b),
-                                    options={"ftol": 1e-15, "gtol": 1e-12, "maxiter": 200})
-            x = np.clip(res.x, a, b)
-            e = model(x, groups)
-            better = e <= e0
-            return np.where(better, x, x0), np.where(better, e, e0)
-        return x0, e0
+        u0 = np.where(width > 0, (x0 - a) / safe_w, 0.0)
+        res = optimize.minimize(fun, u0, jac=True, method="L-BFGS-B",
+                                bounds=optimize.Bounds(np.zeros(n), np.ones(n)),
+                                options={"ftol": 1e-13, "gtol": 1e-7, "maxiter": 50})
+        x = a + np.clip(res.x, 0.0, 1.0) * width
+        e = model(x, groups)
+        better = e <= e0
+        return np.where(better, x, x0), np.where(better, e, e0)
 
-    d_free, e_free = minimize(d_lo, d_hi)
-    d_con, e_con = minimize(c_lo, c_hi)
+    everything = np.arange(n_g)
+    d_con, e_con = minimize(c_lo, c_hi, everything)
+    # the unconstrained optimum differs only where a velocity limit holds the optimum
+    held = possible & (((d_con <= c_lo * (1 + 1e-9)) & (c_lo > d_lo))
+                       | ((d_con >= c_hi * (1 - 1e-9)) & (c_hi < d_hi)))
+    d_free, e_free = d_con.copy(), e_con.copy()
+    if np.any(held):
+        g = np.flatnonzero(held)
+        d_free[g], e_free[g] = minimize(d_lo[g], d_hi[g], g)
     lc, cv = model(d_con, np.arange(n_g), eac_only=False)
     rho_g = s.density * GRAVITY
     surge = (np.full(n_g, float(constraints.surge_allowance))

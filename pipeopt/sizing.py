@@ -253,7 +253,12 @@ class SizingStudy(StudyFileMixin):
     # ----- study files ----------------------------------------------------------------------
     @classmethod
     def _from_dict(cls, mapping: dict, base: Path) -> SizingStudy:
-        sec = read_sizing(mapping, base)
+        return cls.from_sections(read_sizing(mapping, base))
+
+    @classmethod
+    def from_sections(cls, sec: dict[str, Any]) -> SizingStudy:
+        """Build the study from the checked sections of :func:`pipeopt.inputs.read_sizing`
+        (the fluid's properties are computed here)."""
         fluid = sec["fluid"].build()
         info, hyd = sec["info"], sec["hydraulics"]
         study = cls(fluid, sec["line"], sec["duty"], sec["pumping"], sec["energy"],

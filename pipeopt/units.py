@@ -29,10 +29,15 @@ import re
 from dataclasses import dataclass
 from typing import Any
 
+import functools
+from typing import TYPE_CHECKING
+
 import numpy as np
-import pint
 
 from .errors import InputError
+
+if TYPE_CHECKING:
+    import pint
 
 __all__ = ["ureg", "Quantity", "KINDS", "MAX_TEXT", "MAX_MAGNITUDE", "to_si", "parse_quantity",
            "format_si"]
@@ -44,7 +49,8 @@ MAX_MAGNITUDE = 1e12
 
 
 
-def _registry() -> pint.UnitRegistry:
+@functools.lru_cache(maxsize=1)
+def registry() -> pint.UnitRegistry:
     """pint's default registry, parsed once and then read from pint's disk cache.
 
     Parsing pint's definition file takes about 0.2 s; pint keeps the parsed definitions in the
@@ -52,17 +58,25 @@ def _registry() -> pint.UnitRegistry:
     starts read them back in a few milliseconds. Where the cache cannot be used (a read-only
     home, a damaged cache file) the definitions are parsed as usual.
     """
+    import pint  # imported on first use: a study file with no unit to parse never loads it
+
     try:
-        return pint.UnitRegistry(cache_folder=":auto:")
+        reg = pint.UnitRegistry(cache_folder=":auto:")
     except Exception:  # noqa: BLE001 - the cache is an optimisation, never a failure
-        return pint.UnitRegistry()
+        reg = pint.UnitRegistry()
+    reg.formatter.default_format = "~P"
+    # A year is a Julian year (365.25 d) in pint; rates per year in this package use it.
+    return reg
 
 
-#: The package's one unit registry. Use it (not a registry of your own) when passing Quantities.
-ureg = _registry()
-ureg.formatter.default_format = "~P"
-# A year is a Julian year (365.25 d) in pint; rates per year in this package use it.
-Quantity = ureg.Quantity
+def __getattr__(name: str) -> Any:
+    """``ureg`` (the package's one unit registry: use it, not a registry of your own, when
+    passing Quantities) and ``Quantity``, created on first use (PEP 562)."""
+    if name == "ureg":
+        return registry()
+    if name == "Quantity":
+        return registry().Quantity
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 @dataclass(frozen=True)
@@ -151,6 +165,12 @@ def _check_unit(unit: str, value: str, field: str) -> None:
         raise InputError(f"{field}: {value!r}: unbalanced parentheses")
 
 
+def _pint_errors():
+    import pint
+
+    return pint.errors
+
+
 def parse_quantity(value: Any, field: str) -> pint.Quantity:
     """Turn a string or Quantity into a :class:`pint.Quantity` of this package's registry.
 
@@ -162,10 +182,13 @@ def parse_quantity(value: Any, field: str) -> pint.Quantity:
     InputError
         When the value is not a Quantity or a string with a number and a unit.
     """
+    import pint
+
+    ureg = registry()
     if isinstance(value, pint.Quantity):
         if value._REGISTRY is ureg:
             return value
-        return Quantity(value.magnitude, str(value.units))
+        return ureg.Quantity(value.magnitude, str(value.units))
     if isinstance(value, str):
         if len(value) > MAX_TEXT:
             raise InputError(f"{field}: expected a number with a unit such as '3.2 km'; got a "
@@ -177,7 +200,7 @@ def parse_quantity(value: Any, field: str) -> pint.Quantity:
         number, unit = m.groups()
         _check_unit(unit, value, field)
         try:
-            return Quantity(float(number), unit or "dimensionless")
+            return ureg.Quantity(float(number), unit or "dimensionless")
         except Exception as exc:  # noqa: BLE001 - any failure of pint on a user's text
             raise InputError(f"{field}: unknown unit {unit!r} in {value!r}") from exc
     raise InputError(f"{field}: expected a number with a unit such as '3.2 km'; got "
@@ -240,7 +263,7 @@ def to_si(value: Any, kind: str, field: str,
     q = parse_quantity(value, field)
     try:
         out = q.to(k.si_unit).magnitude
-    except pint.errors.DimensionalityError:
+    except _pint_errors().DimensionalityError:
         raise InputError(f"{field}: expected {k.description} such as '{k.example}', got "
                          f"{value!s} (dimension {q.dimensionality})") from None
     except (OverflowError, ZeroDivisionError, ValueError) as exc:
@@ -261,5 +284,5 @@ def format_si(value: float, kind: str, unit: str, digits: int = 4) -> str:
     >>> format_si(0.125, "flow", "m^3/h")
     '450 m³/h'
     """
-    q = Quantity(value, KINDS[kind].si_unit).to(unit)
+    q = registry().Quantity(value, KINDS[kind].si_unit).to(unit)
     return f"{q.magnitude:.{digits}g} {q.units:~P}"

@@ -347,7 +347,11 @@ class UpgradeStudy(StudyFileMixin):
     # ----- study files ----------------------------------------------------------------------
     @classmethod
     def _from_dict(cls, mapping: dict, base: Path) -> UpgradeStudy:
-        sec = read_upgrade(mapping, base)
+        return cls.from_sections(read_upgrade(mapping, base))
+
+    @classmethod
+    def from_sections(cls, sec: dict[str, Any]) -> UpgradeStudy:
+        """Build the study from the checked sections of :func:`pipeopt.inputs.read_upgrade`."""
         fluid = sec["fluid"].build()
         info = sec["info"]
         study = cls(fluid, sec["existing"], sec["duty"], sec["pumping"], sec["energy"],
