@@ -25,12 +25,10 @@ Examples
 
 from __future__ import annotations
 
+import functools
 import re
 from dataclasses import dataclass
-from typing import Any
-
-import functools
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
