@@ -37,8 +37,9 @@ from .errors import InputError
 if TYPE_CHECKING:
     import pint
 
-__all__ = ["ureg", "Quantity", "KINDS", "MAX_TEXT", "MAX_MAGNITUDE", "to_si", "parse_quantity",
-           "format_si"]
+# ureg and Quantity come from __getattr__ (created on first use)
+__all__ = ["ureg", "Quantity", "KINDS", "MAX_TEXT", "MAX_MAGNITUDE", "to_si",  # noqa: F822
+           "parse_quantity", "format_si"]
 
 #: Longest text accepted for a quantity such as ``"450 m^3/h"`` [characters].
 MAX_TEXT = 100
