@@ -32,8 +32,8 @@ import pandas as pd
 from .economics import capital_recovery_factor, discount_factor, straight_line_residual
 from .errors import InputError
 
-__all__ = ["Timeline", "Purchases", "purchases", "station_stages", "StationStages",
-           "CashFlows"]
+__all__ = ["Timeline", "Purchases", "purchases", "station_stages", "stage_last_years",
+           "StationStages", "CashFlows"]
 
 
 class Timeline:
@@ -243,8 +243,20 @@ class StationStages:
                 "residual": np.einsum("scj,sj->sc", cap, p.residual_fraction)}
 
 
-def station_stages(station: Any, peak_kw: np.ndarray, timeline: Timeline,
-                   cost_factor: Any = 1.0, scale: Any = 1.0) -> StationStages:
+def stage_last_years(station: Any, timeline: Timeline) -> np.ndarray:
+    """Index (year − 1) of the last year each stage is sized for, per sample: (S, J).
+
+    Stage j serves until the year before stage j + 1 is built, the last stage until the
+    sample's horizon.
+    """
+    b = np.asarray(station.stages, dtype=int)
+    ends = np.append(b[1:], np.iinfo(np.int64).max)
+    return np.minimum(ends[None, :], timeline.horizon[:, None]) - 1
+
+
+def station_stages(station: Any, peak_kw: np.ndarray | None, timeline: Timeline,
+                   cost_factor: Any = 1.0, scale: Any = 1.0,
+                   stage_peaks: np.ndarray | None = None) -> StationStages:
     """Size and price the stages of a pump station from the peak demand of every year.
 
     Stage j, built in year b_j (b_0 = 0), brings the station up to the largest peak demand of
@@ -263,6 +275,9 @@ def station_stages(station: Any, peak_kw: np.ndarray, timeline: Timeline,
         Factor on the station capital (sensitivity).
     scale : float or ndarray, shape (S,)
         Factor on ``peak_kw`` of each sample (1/η when the peaks were computed at η = 1).
+    stage_peaks : ndarray, shape (S, C, J), optional
+        Instead of ``peak_kw``: the largest peak of the years each stage is sized for
+        (:func:`stage_last_years`), already known to the caller.
 
     Returns
     -------
@@ -271,12 +286,13 @@ def station_stages(station: Any, peak_kw: np.ndarray, timeline: Timeline,
     from .hydraulics import running_max
 
     b = np.asarray(station.stages, dtype=int)
-    n = timeline.horizon
-    ends = np.append(b[1:], np.iinfo(np.int64).max)                              # (J,)
-    last = np.minimum(ends[None, :], n[:, None]) - 1                              # (S, J)
-    # one running maximum per stage (a handful), each over every sample and candidate
-    peak = np.stack([running_max(peak_kw, last[:, j]) for j in range(b.size)], axis=-1)
-    peak = np.maximum.accumulate(peak, axis=-1) * np.asarray(scale, dtype=float).reshape(-1, 1, 1)
+    if stage_peaks is None:
+        last = stage_last_years(station, timeline)                              # (S, J)
+        # one running maximum per stage (a handful), each over every sample and candidate
+        stage_peaks = np.stack([running_max(peak_kw, last[:, j]) for j in range(b.size)],
+                               axis=-1)
+    peak = (np.maximum.accumulate(stage_peaks, axis=-1)
+            * np.asarray(scale, dtype=float).reshape(-1, 1, 1))
     step = np.diff(peak, axis=-1, prepend=0.0)
     factor = np.asarray(cost_factor, dtype=float).reshape(-1, 1, 1)
     capital = np.asarray(station.capital(step)) * factor
