@@ -3,7 +3,8 @@
 Layers: physics (:mod:`~pipeopt.friction`, :mod:`~pipeopt.fluid`, :mod:`~pipeopt.catalog`,
 :mod:`~pipeopt.pressure`, :mod:`~pipeopt.surge`), model (:mod:`~pipeopt.economics`,
 :mod:`~pipeopt.costs`, :mod:`~pipeopt.duty`, :mod:`~pipeopt.lifecycle`,
-:mod:`~pipeopt.renewal`), study (:class:`SizingStudy`, :class:`UpgradeStudy`), presentation
+:mod:`~pipeopt.renewal`, :mod:`~pipeopt.replacement`, :mod:`~pipeopt.schedule`), study
+(:class:`SizingStudy`, :class:`UpgradeStudy`, :class:`ProgrammeStudy`), presentation
 (:mod:`~pipeopt.cli`). Units are parsed at the edge (:mod:`pipeopt.units`); everything below
 works in SI.
 """
@@ -11,6 +12,7 @@ works in SI.
 from . import catalog, friction, units
 from .errors import FluidStateError, InputError, PipeoptError
 from .fluid import Fluid
+from .programme import ProgrammeResult, ProgrammeStudy
 from .sizing import SizingResult, SizingStudy
 from .units import Quantity, ureg
 from .upgrade import UpgradeResult, UpgradeStudy
@@ -25,6 +27,7 @@ def explore(study, debounce: float = 0.15):
     return _explore(study, debounce)
 
 
-__all__ = ["Fluid", "SizingStudy", "SizingResult", "UpgradeStudy", "UpgradeResult", "Quantity",
+__all__ = ["Fluid", "SizingStudy", "SizingResult", "UpgradeStudy", "UpgradeResult",
+           "ProgrammeStudy", "ProgrammeResult", "Quantity",
            "ureg", "catalog", "friction", "units", "InputError", "PipeoptError",
            "FluidStateError", "explore", "__version__"]

@@ -304,7 +304,76 @@ def build_parser() -> argparse.ArgumentParser:
     cat.add_argument("--max-diameter", help='largest inner diameter, e.g. "0.6 m"')
     cat.add_argument("--class", dest="pressure_class", help='a pressure class, e.g. "C40"')
     cat.set_defaults(func=_cmd_catalog)
+    _add_programme(sub)
     return parser
+
+
+# ----- renewal programme: `pipeopt programme` ---------------------------------------------------
+def _cmd_programme(args: argparse.Namespace) -> int:
+    """Value every main of a register, schedule the renewals within the budgets, report."""
+    from .programme import ProgrammeStudy
+    from .register import INVENTED_UTILITY
+
+    out = _prepare_out(args.out, args.force)
+    if args.demo:
+        if args.register:
+            raise InputError("programme: give a REGISTER file or --demo, not both")
+        study = ProgrammeStudy.from_toml(args.study) if args.study else ProgrammeStudy.demo()
+        register = ProgrammeStudy.demo_register()
+        source = f"the invented register of {INVENTED_UTILITY}"
+        print(DEMO_NOTE)
+        print()
+    else:
+        if not args.register or not args.study:
+            raise InputError("programme: give a REGISTER file (CSV or Parquet) and --study "
+                             "FILE, or --demo")
+        study = ProgrammeStudy.from_toml(args.study)
+        register, source = args.register, None
+    dask = None if args.dask is None else (True if args.dask == "local" else args.dask)
+    progress = False if args.quiet else (True if args.progress else None)
+    result = study.run(register, dask=dask, partition_rows=args.partition_rows,
+                       progress=progress, source=source)
+    print(result.text())
+    if out is not None:
+        from .programme_report import write_programme_report
+        from .report import write_atomic
+
+        written = write_programme_report(result, out)
+        if args.demo:  # the register and the study file, as templates for a planner's own
+            from importlib import resources
+
+            write_atomic(out / "register.csv", register.to_csv(index=False, lineterminator="\n"))
+            text = resources.files("pipeopt").joinpath("data", "demo_programme.toml").read_text(
+                "utf-8") if not args.study else Path(args.study).read_text("utf-8")
+            write_atomic(out / "study.toml", text)
+            written += [out / "register.csv", out / "study.toml"]
+        for p in written:
+            print(f"wrote {p}")
+    return 0 if result.success else 1
+
+
+def _add_programme(sub) -> None:
+    prog = sub.add_parser(
+        "programme", help="a budgeted renewal programme over a register of mains",
+        description="Value replacing every main of a register (CSV or Parquet) in every year, "
+                    "then choose the year of renewal of each within the yearly budgets of the "
+                    "study file (TOML).",
+        epilog="examples: pipeopt programme mains.csv --study programme.toml --out results; "
+               "pipeopt programme --demo --out demo-programme")
+    prog.add_argument("register", nargs="?", help="the register of mains (.csv or .parquet)")
+    prog.add_argument("--study", help="the programme study file (TOML)")
+    prog.add_argument("--demo", action="store_true",
+                      help="the bundled invented register and demo study (illustrative)")
+    prog.add_argument("--dask", nargs="?", const="local", metavar="ADDRESS",
+                      help="value the mains on Dask: a local cluster, or the scheduler at "
+                           "ADDRESS (e.g. tcp://10.0.0.5:8786)")
+    prog.add_argument("--partition-rows", type=int, default=50_000,
+                      help="rows per Dask partition (default 50000)")
+    _add_out(prog)
+    prog.add_argument("--quiet", action="store_true", help="no progress bar")
+    prog.add_argument("--progress", action="store_true",
+                      help="a progress bar even when stderr is not a terminal")
+    prog.set_defaults(func=_cmd_programme)
 
 
 def main(argv: Sequence[str] | None = None) -> int:

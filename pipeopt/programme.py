@@ -659,7 +659,7 @@ class ProgrammeStudy(StudyFileMixin):
 
     # ----- running --------------------------------------------------------------------------
     def evaluate(self, register: Any, dask: Any = None, partition_rows: int = 50_000,
-                 progress: bool | None = None) -> RegisterEvaluation:
+                 progress: bool | None = None, source: str | None = None) -> RegisterEvaluation:
         """Read, check and value every main of a register (no schedule yet).
 
         Parameters
@@ -675,12 +675,15 @@ class ProgrammeStudy(StudyFileMixin):
         progress : bool, optional
             A progress bar (tqdm) on stderr: True, False, or None for one only when stderr
             is a terminal.
+        source : str, optional
+            How to name the register in reports (default: its path).
 
         Returns
         -------
         RegisterEvaluation
         """
         t0 = time.perf_counter()
+        label = source
         if dask is None or dask is False:
             frame, source = read_frame(register)
             ignored = check_columns(frame.columns)
@@ -692,10 +695,11 @@ class ProgrammeStudy(StudyFileMixin):
             finally:
                 if bar is not None:
                     bar.close()
-            return RegisterEvaluation(table, npv, rejected, source, ignored,
+            return RegisterEvaluation(table, npv, rejected, label or source, ignored,
                                       self.growth_rates(pooled), 1, time.perf_counter() - t0)
         out = _evaluate_on_dask(self, register, dask, partition_rows, progress)
         out.seconds = time.perf_counter() - t0
+        out.source = label or out.source
         return out
 
     def schedule(self, evaluation: RegisterEvaluation) -> ProgrammeResult:
@@ -713,14 +717,14 @@ class ProgrammeStudy(StudyFileMixin):
         return _result(self, evaluation, plan, time.perf_counter() - t0)
 
     def run(self, register: Any, dask: Any = None, partition_rows: int = 50_000,
-            progress: bool | None = None) -> ProgrammeResult:
+            progress: bool | None = None, source: str | None = None) -> ProgrammeResult:
         """Value every main of ``register`` and schedule the programme (see :meth:`evaluate`).
 
         Returns
         -------
         ProgrammeResult
         """
-        return self.schedule(self.evaluate(register, dask, partition_rows, progress))
+        return self.schedule(self.evaluate(register, dask, partition_rows, progress, source))
 
     def __repr__(self) -> str:
         return (f"ProgrammeStudy({self.name!r}: {len(self.materials)} material class(es), "
@@ -776,8 +780,12 @@ def _dask_frame(register: Any, partition_rows: int):
 
 def _evaluate_on_dask(study: ProgrammeStudy, register: Any, scheduler: Any,
                       partition_rows: int, progress: bool | None) -> RegisterEvaluation:
-    import dask
-    from distributed import Client, LocalCluster, as_completed
+    try:
+        import dask
+        from distributed import Client, LocalCluster, as_completed
+    except ImportError:
+        raise InputError("dask: Dask is not installed; install it with "
+                         "python -m pip install \"pipeopt[dask]\"") from None
 
     if int(partition_rows) != partition_rows or partition_rows < 1:
         raise InputError(f"partition_rows must be a whole number >= 1; got {partition_rows!r}")
@@ -1007,7 +1015,10 @@ class ProgrammeResult:
             f"economics: {s.horizon} years at {s.scenario.discount_rate * 100:g} % real; a "
             f"repair costs {s.scenario.break_cost:,.0f}{cur}",
             f"break growth from {grown}: "
-            + ", ".join(f"{k} {v * 100:.1f} %" for k, v in g["break_growth_per_year"].items()),
+            + ", ".join(f"{k} {v * 100:.1f} %" + ("*" if src.startswith("register") else "")
+                        for k, v, src in zip(g.index, g["break_growth_per_year"], g["source"],
+                                             strict=True))
+            + (" (* fitted)" if len(fitted) else ""),
             f"renewal pays within the horizon for {int(m['renewal_pays'].sum()):,} of "
             f"{len(m):,} mains (NPV {m.loc[m['renewal_pays'], 'npv_best'].sum():,.0f}{cur} if "
             f"each were renewed in its best year)", "",

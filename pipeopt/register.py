@@ -225,7 +225,7 @@ def validate(frame: pd.DataFrame, materials: Any = None, first_year: int | None 
         cells = _cells(raw[col])
         clauses.append((missing, lambda ix: np.full(ix.size, f"{col} is missing")))
         clauses.append((nan, lambda ix: f"{col} is not a number: " + cells[ix].astype(str)))
-        clauses.append((bad, lambda ix: f"{col} must be {rule}; got " + cells[ix].astype(str)))
+        clauses.append((bad, lambda ix: f"{col} must be {rule}, got " + cells[ix].astype(str)))
         return missing | nan | bad
 
     bad = np.zeros(n, dtype=bool)
