@@ -41,6 +41,7 @@ import html
 import math
 import sys
 import time
+import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -803,6 +804,13 @@ def _evaluate_on_dask(study: ProgrammeStudy, register: Any, scheduler: Any,
         raise InputError(f"dask must be True, a scheduler address or a distributed.Client; got "
                          f"{scheduler!r}")
     try:
+        if isinstance(register, pd.DataFrame):
+            # rows already in memory: place them on the workers once for the passes below (a
+            # file is read again by each pass instead, so that a worker holds one partition);
+            # sending them is the point, so distributed's advice against it is not shown
+            with warnings.catch_warnings():
+                warnings.filterwarnings("ignore", message="Sending large graph")
+                ddf = client.persist(ddf)
         parts = ddf.to_delayed()
         # every partition's ids come back (small beside the rows) and are counted here, so
         # that an id repeated across partitions is found as in a whole register
@@ -831,9 +839,12 @@ def _evaluate_on_dask(study: ProgrammeStudy, register: Any, scheduler: Any,
             client.close()
         if cluster is not None:
             cluster.close()
-    table = pd.concat([r[0] for r in results], ignore_index=True).astype(_TABLE_COLUMNS)
+    table = pd.concat([r[0] for r in results], ignore_index=True)
     npv = np.concatenate([r[1] for r in results], axis=0)
     rejected = pd.concat([r[2] for r in results], ignore_index=True)
+    del results
+    if len(parts) and table.dtypes.to_dict() != pd.Series(_TABLE_COLUMNS).to_dict():
+        table = table.astype(_TABLE_COLUMNS)       # every part is typed; this is a safeguard
     return RegisterEvaluation(table, npv, rejected, source, ignored,
                               study.growth_rates(pooled), len(parts))
 
@@ -843,7 +854,7 @@ def _evaluate_on_dask(study: ProgrammeStudy, register: Any, scheduler: Any,
 # --------------------------------------------------------------------------------------------
 def _result(study: ProgrammeStudy, ev: RegisterEvaluation, plan: Schedule,
             seconds: float) -> ProgrammeResult:
-    table = ev.table.copy()
+    table = ev.table.copy(deep=False)              # new columns only: the evaluation keeps its own
     w = study.years
     year = plan.year
     count = len(table)

@@ -389,9 +389,12 @@ def schedule_renewals(npv: np.ndarray, capital: np.ndarray, budget: np.ndarray,
     _check(npv, capital, budget)
     if method not in METHODS:
         raise InputError(f"method must be one of {', '.join(METHODS)}; got {method!r}")
-    values = _values(npv, capital, budget)
-    pairs = int(np.isfinite(values).sum())
     m, w = npv.shape
+    # only mains with a candidate year take part; the others are never renewed
+    full = _values(npv, capital, budget)
+    keep = np.flatnonzero(np.isfinite(full).any(axis=1))
+    values, npv, capital = full[keep], npv[keep], capital[keep]
+    pairs = int(np.isfinite(values).sum())
     if pairs == 0:
         return Schedule(np.full(m, -1, dtype=np.int64), 0.0, 0.0, 0.0, "milp", True,
                         "no main has a positive NPV within a year's budget: nothing to renew",
@@ -431,5 +434,7 @@ def schedule_renewals(npv: np.ndarray, capital: np.ndarray, budget: np.ndarray,
         bound = max(bound, objective) if np.isfinite(bound) else objective
     gap = 0.0 if bound <= 0 else max(0.0, (bound - objective) / bound)
     spent = np.bincount(year[chosen], weights=capital[chosen], minlength=w)
-    return Schedule(year, objective, float(bound), float(gap), used, bool(optimal),
+    every = np.full(m, -1, dtype=np.int64)
+    every[keep] = year
+    return Schedule(every, objective, float(bound), float(gap), used, bool(optimal),
                     "; ".join(notes), pairs, spent)
