@@ -1019,17 +1019,16 @@ class ProgrammeResult:
             lines.append(f"  ... and {len(self.rejected) - 5:,} more (see rejected.csv)")
         g = self.growth
         fitted = g[g["source"].str.startswith("register")]
-        grown = ("the study's material classes" if s.growth_from == "material" else
-                 f"the register's history, pooled by material ({len(fitted)} of {len(g)} "
-                 f"classes had {s.min_fit_breaks} breaks or more in each 5-year window)")
+        grown = ("the study's rates" if s.growth_from == "material" else
+                 f"* fitted from the register, pooled: {len(fitted)} of {len(g)} classes had "
+                 f"{s.min_fit_breaks} breaks or more in each 5-year window")
         lines += [
             f"economics: {s.horizon} years at {s.scenario.discount_rate * 100:g} % real; a "
             f"repair costs {s.scenario.break_cost:,.0f}{cur}",
-            f"break growth from {grown}: "
-            + ", ".join(f"{k} {v * 100:.1f} %" + ("*" if src.startswith("register") else "")
-                        for k, v, src in zip(g.index, g["break_growth_per_year"], g["source"],
-                                             strict=True))
-            + (" (* fitted)" if len(fitted) else ""),
+            f"break growth per year by material ({grown}):",
+            "  " + ", ".join(f"{k} {v * 100:.1f} %" + ("*" if src.startswith("register") else "")
+                             for k, v, src in zip(g.index, g["break_growth_per_year"],
+                                                  g["source"], strict=True)),
             f"renewal pays within the horizon for {int(m['renewal_pays'].sum()):,} of "
             f"{len(m):,} mains (NPV {m.loc[m['renewal_pays'], 'npv_best'].sum():,.0f}{cur} if "
             f"each were renewed in its best year)", "",

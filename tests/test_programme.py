@@ -279,6 +279,7 @@ def test_cli_errors_are_one_line(tmp_path):
 def test_readme_shows_what_the_demo_prints_today(capsys):
     text = (ROOT / "README.md").read_text()
     section = text[text.index("## Renewal programme"):]
+    section = section[section.index("The demo prints:"):]
     block = section[section.index("```\n") + 4:]
     block = block[:block.index("```")]
     assert main(["programme", "--demo", "--quiet"]) == 0
