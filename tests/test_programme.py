@@ -24,12 +24,14 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from pipeopt import UpgradeStudy, plots
+from pipeopt import plots
 from pipeopt.cli import main
 from pipeopt.programme import STATUS, ProgrammeStudy, evaluate_rows
 from pipeopt.register import INVENTED_MATERIALS, invented_register
 from pipeopt.report import CAUTIONS
 from pipeopt.studyfile import StudyFileError, read_toml
+
+from .conftest import upgrade_study_for_main
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = read_toml(ROOT / "pipeopt" / "data" / "demo_programme.toml")
@@ -98,27 +100,12 @@ def test_fifty_register_mains_agree_with_the_upgrade_study():
         bore = r["inner_diameter_mm"] / 1000.0
         new_bore = (r["replacement_inner_diameter_mm"] / 1000.0
                     if not pd.isna(r["replacement_inner_diameter_mm"]) else bore)
-        upgrade = UpgradeStudy.from_dict({
-            "fluid": {"kind": "water", "temperature": "10 degC"},
-            "existing": {"material": "cast-iron-aged", "inner_diameter": f"{bore!r} m",
-                         "length": f"{r['length_m']!r} m",
-                         "static_head": f"{r['static_head_m']!r} m",
-                         "minor_loss_k": s.minor_loss_k,
-                         "roughness": f"{mat.roughness + mat.aging * age!r} m",
-                         "aging": f"{mat.aging!r} m/yr", "breaks_per_year": n0,
-                         "break_growth": a, "break_cost": s.break_cost},
-            "duty": [{"flow": f"{r['pumped_flow_m3_h']!r} m^3/h",
-                      "hours": r["hours_per_year"]}],
-            "growth": {"flow_per_year": s.flow_growth},
-            "pumping": {"efficiency": s.efficiency},
-            "energy": {"price": s.tariff.price, "escalation": s.tariff.escalation,
-                       "demand_charge": s.tariff.demand_charge},
-            "economics": {"discount_rate": s.discount_rate, "horizon": s.horizon,
-                          "pipe_life": s.life},
-            "option": [{"kind": "replace", "name": "replace", "material": "ductile-iron",
-                        "inner_diameter": f"{new_bore!r} m",
-                        "roughness": f"{s.new_roughness!r} m", "aging": f"{s.new_aging!r} m/yr",
-                        "cost_per_metre": r["replacement_cost_per_m"], "life": s.life}]})
+        main = {"diameter": bore, "length": r["length_m"], "static_head": r["static_head_m"],
+                "roughness": mat.roughness + mat.aging * age, "aging": mat.aging,
+                "flow": r["pumped_flow_m3_h"] / 3600.0, "hours": r["hours_per_year"],
+                "breaks_now": n0, "break_growth": a,
+                "capital": r["replacement_cost_per_m"] * r["length_m"], "new_diameter": new_bore}
+        upgrade = upgrade_study_for_main(main, s)
         best = upgrade.best_year("replace")
         assert table["best_year"].iloc[k] == best.year
         assert table["pv_keep"].iloc[k] == pytest.approx(best.keep_pv_cost, rel=1e-9)

@@ -18,10 +18,12 @@ import math
 import numpy as np
 import pytest
 
-from pipeopt import Fluid, UpgradeStudy
+from pipeopt import Fluid
 from pipeopt.costs import EnergyTariff
 from pipeopt.errors import InputError
 from pipeopt.replacement import Mains, RenewalScenario, evaluate_mains
+
+from .conftest import upgrade_study_for_main
 
 WATER = Fluid.water("10 degC")
 
@@ -47,30 +49,6 @@ def scenario(flow_growth: float, new_aging: float, horizon: int = 40) -> Renewal
                            minor_loss_k=3.0, flow_growth=flow_growth)
 
 
-def upgrade_study(m: dict[str, float], s: RenewalScenario) -> UpgradeStudy:
-    """The same main as a single-main upgrade study with one 'replace' option."""
-    return UpgradeStudy.from_dict({
-        "fluid": {"kind": "water", "temperature": "10 degC"},
-        "existing": {"material": "cast-iron-aged", "inner_diameter": f"{m['diameter']!r} m",
-                     "length": f"{m['length']!r} m", "static_head": f"{m['static_head']!r} m",
-                     "minor_loss_k": s.minor_loss_k, "roughness": f"{m['roughness']!r} m",
-                     "aging": f"{m['aging']!r} m/yr", "breaks_per_year": m["breaks_now"],
-                     "break_growth": m["break_growth"], "break_cost": s.break_cost},
-        "duty": [{"flow": f"{m['flow']!r} m^3/s", "hours": m["hours"]}],
-        "growth": {"flow_per_year": s.flow_growth},
-        "pumping": {"efficiency": s.efficiency},
-        "energy": {"price": s.tariff.price, "escalation": s.tariff.escalation,
-                   "demand_charge": s.tariff.demand_charge},
-        "economics": {"discount_rate": s.discount_rate, "horizon": s.horizon,
-                      "pipe_life": s.life},
-        "option": [{"kind": "replace", "name": "replace", "material": "ductile-iron",
-                    "inner_diameter": f"{m['new_diameter']!r} m",
-                    "roughness": f"{s.new_roughness!r} m", "aging": f"{s.new_aging!r} m/yr",
-                    "cost_per_metre": m["capital"] / m["length"], "life": s.life,
-                    "maintenance": s.maintenance}],
-    })
-
-
 @pytest.mark.parametrize(("flow_growth", "new_aging"),
                          [(0.0, 0.0), (0.01, 0.0), (0.0, 2e-5), (0.008, 1.5e-5)])
 def test_agrees_with_the_single_main_upgrade_study(flow_growth, new_aging):
@@ -82,7 +60,7 @@ def test_agrees_with_the_single_main_upgrade_study(flow_growth, new_aging):
     econ = evaluate_mains(s, Mains(**inputs))
     for k in range(inputs["length"].size):
         main = {key: float(v[k]) for key, v in inputs.items()}
-        best = upgrade_study(main, s).best_year("replace")
+        best = upgrade_study_for_main(main, s).best_year("replace")
         pv = best.table["pv_cost"].to_numpy()
         assert econ.best_year[k] == best.year
         np.testing.assert_allclose(econ.pv_replace[k], pv, rtol=1e-9, atol=0)
@@ -101,7 +79,7 @@ def test_benefit_cost_ratio_agrees_with_the_upgrade_summary():
     econ = evaluate_mains(s, Mains(**inputs))
     for k in range(6):
         main = {key: float(v[k]) for key, v in inputs.items()}
-        study = upgrade_study(main, s)
+        study = upgrade_study_for_main(main, s)
         study.states[0].year = int(econ.best_year[k])
         row = study.run().summary.set_index("option").loc["replace"]
         assert econ.benefit_cost_ratio[k] == pytest.approx(row["benefit_cost_ratio"], rel=1e-9)
