@@ -54,7 +54,6 @@ from .errors import InputError
 from .fluid import Fluid
 from .register import (
     BREAK_WINDOW,
-    INVENTED_UTILITY,
     check_columns,
     duplicate_ids,
     invented_register,
@@ -1077,8 +1076,3 @@ class ProgrammeResult:
         text = html.escape(self.text()).replace("\n", "<br>")
         sched = self.schedule.to_html(index=False, border=0, float_format=lambda x: f"{x:,.4g}")
         return f"<div><p style='font-family:monospace'>{text}</p>{sched}</div>"
-
-
-def demo_register_note() -> str:
-    """Where the demo register comes from (for printed summaries)."""
-    return f"the invented register of {INVENTED_UTILITY}"
