@@ -869,9 +869,11 @@ def _result(study: ProgrammeStudy, ev: RegisterEvaluation, plan: Schedule,
         ["renew", "defer", "over budget", "later"], "keep").astype(object)
     best = table["best_year"].to_numpy()
     reason = np.select(
-        [scheduled & (year == best), scheduled & (year > best), scheduled & (year < best),
+        [scheduled & (year == best), scheduled & (year > best),
+         scheduled & (year < best) & (best >= w), scheduled & (year < best),
          status == "defer", status == "over budget", status == "later"],
         ["renewed in its best year", "renewed after its best year (budget)",
+         "renewed before its best year, which is after the programme's years",
          "renewed before its best year (budget)",
          "deferred: the budget went to mains of higher NPV per unit of capital",
          "its capital exceeds every year's budget",
@@ -1048,6 +1050,16 @@ class ProgrammeResult:
         lines.append(f"solver: {how}, {proof}; total NPV {p.objective:,.0f}{cur}, bound "
                      f"{p.bound:,.0f}, gap {p.gap * 100:.3g} % ({p.pairs:,} candidate "
                      f"main-years)")
+        capped = int((m["roughness_capped"]).sum())
+        transitional = int((m["transitional_flow"]).sum())
+        if capped:
+            lines.append(f"note: {capped:,} pumped main(s) reach a relative roughness of 0.05, "
+                         f"the edge of the Moody chart, and are computed there "
+                         f"(roughness_capped)")
+        if transitional:
+            lines.append(f"note: {transitional:,} pumped main(s) have 2000 <= Re < 4000 in some "
+                         f"year; the turbulent friction factor is used there, conservative "
+                         f"(transitional_flow)")
         counts = m["status"].value_counts()
         rest = [f"{int(counts.get(k, 0)):,} {k}" for k in ("defer", "over budget", "later",
                                                              "keep")]
