@@ -3,9 +3,10 @@
 Layers: physics (:mod:`~pipeopt.friction`, :mod:`~pipeopt.fluid`, :mod:`~pipeopt.water`,
 :mod:`~pipeopt.catalog`, :mod:`~pipeopt.pressure`, :mod:`~pipeopt.surge`), model
 (:mod:`~pipeopt.economics`, :mod:`~pipeopt.costs`, :mod:`~pipeopt.duty`,
-:mod:`~pipeopt.lifecycle`, :mod:`~pipeopt.renewal`), study (:class:`SizingStudy`,
-:class:`UpgradeStudy`), presentation (:mod:`~pipeopt.cli`). Units are parsed at the edge
-(:mod:`pipeopt.units`); everything below works in SI.
+:mod:`~pipeopt.lifecycle`, :mod:`~pipeopt.renewal`, :mod:`~pipeopt.replacement`,
+:mod:`~pipeopt.schedule`), study (:class:`SizingStudy`, :class:`UpgradeStudy`,
+:class:`ProgrammeStudy`, :class:`NetworkStudy`), presentation (:mod:`~pipeopt.cli`). Units
+are parsed at the edge (:mod:`pipeopt.units`); everything below works in SI.
 
 The names below are imported on first use (PEP 562): ``import pipeopt`` loads no numerical
 library, so the command line answers ``--help`` or a malformed study file at once.
@@ -27,6 +28,10 @@ _LAZY = {
     "SizingResult": (".sizing", "SizingResult"),
     "UpgradeStudy": (".upgrade", "UpgradeStudy"),
     "UpgradeResult": (".upgrade", "UpgradeResult"),
+    "ProgrammeStudy": (".programme", "ProgrammeStudy"),
+    "ProgrammeResult": (".programme", "ProgrammeResult"),
+    "NetworkStudy": (".network", "NetworkStudy"),
+    "NetworkResult": (".network", "NetworkResult"),
     "Quantity": (".units", "Quantity"),
     "ureg": (".units", "ureg"),
     "catalog": (".catalog", None),
@@ -38,6 +43,8 @@ _LAZY = {
 if TYPE_CHECKING:  # for type checkers and editors; at run time __getattr__ does this
     from . import catalog, friction, units, water
     from .fluid import Fluid
+    from .network import NetworkResult, NetworkStudy
+    from .programme import ProgrammeResult, ProgrammeStudy
     from .sizing import SizingResult, SizingStudy
     from .units import Quantity, ureg
     from .upgrade import UpgradeResult, UpgradeStudy
@@ -66,6 +73,7 @@ def explore(study, debounce: float = 0.15):
     return _explore(study, debounce)
 
 
-__all__ = ["Fluid", "SizingStudy", "SizingResult", "UpgradeStudy", "UpgradeResult", "Quantity",
+__all__ = ["Fluid", "SizingStudy", "SizingResult", "UpgradeStudy", "UpgradeResult",
+           "ProgrammeStudy", "ProgrammeResult", "NetworkStudy", "NetworkResult", "Quantity",
            "ureg", "catalog", "friction", "units", "water", "InputError", "PipeoptError",
            "FluidStateError", "explore", "__version__"]

@@ -422,6 +422,7 @@ def build_parser() -> argparse.ArgumentParser:
     cat.add_argument("--max-diameter", help='largest inner diameter, e.g. "0.6 m"')
     cat.add_argument("--class", dest="pressure_class", help='a pressure class, e.g. "C40"')
     cat.set_defaults(func=_cmd_catalog)
+    _add_programme(sub)
     return parser
 
 
@@ -484,6 +485,78 @@ def _run(args: argparse.Namespace) -> int:
         print(printable(f"pipeopt: internal error ({type(exc).__name__}: {exc}); please report "
                         f"it, with --debug for details", one_line=True), file=sys.stderr)
         return 3
+
+
+# ----- renewal programme: `pipeopt programme` ---------------------------------------------------
+def _cmd_programme(args: argparse.Namespace) -> int:
+    """Value every main of a register, schedule the renewals within the budgets, report."""
+    from .programme import ProgrammeStudy
+    from .register import INVENTED_UTILITY
+
+    out = _prepare_out(args)
+    inputs: tuple = ()
+    if args.demo:
+        if args.register:
+            raise InputError("programme: give a REGISTER file or --demo, not both")
+        study = ProgrammeStudy.from_toml(args.study) if args.study else ProgrammeStudy.demo()
+        register = ProgrammeStudy.demo_register()
+        source = f"the invented register of {INVENTED_UTILITY}"
+        _say(DEMO_NOTE)
+        _say()
+    else:
+        if not args.register or not args.study:
+            raise InputError("programme: give a REGISTER file (CSV or Parquet) and --study "
+                             "FILE, or --demo")
+        study = ProgrammeStudy.from_toml(args.study)
+        register, source = args.register, None
+        inputs = (Path(args.study).resolve(), Path(args.register).resolve())
+        if out is not None:
+            from .outputs import check_inputs
+            from .programme_report import SET_PATTERNS
+
+            check_inputs(out, inputs, list(SET_PATTERNS), what="--out")
+    dask = None if args.dask is None else (True if args.dask == "local" else args.dask)
+    progress = False if args.quiet else (True if args.progress else None)
+    result = study.run(register, dask=dask, partition_rows=args.partition_rows,
+                       progress=progress, source=source)
+    _say(result.text())
+    if out is not None:
+        from .programme_report import programme_report_files
+
+        files = programme_report_files(result)
+        if args.demo:  # the register and the study file, as templates for a planner's own
+            from importlib import resources
+
+            files["register.csv"] = register.to_csv(index=False, lineterminator="\n")
+            files["study.toml"] = resources.files("pipeopt").joinpath(
+                "data", "demo_programme.toml").read_text("utf-8") if not args.study \
+                else Path(args.study).read_text("utf-8")
+        _write(out, files, args, inputs)
+    return 0 if result.success else 1
+
+
+def _add_programme(sub) -> None:
+    prog = sub.add_parser(
+        "programme", help="a budgeted renewal programme over a register of mains",
+        description="Value replacing every main of a register (CSV or Parquet) in every year, "
+                    "then choose the year of renewal of each within the yearly budgets of the "
+                    "study file (TOML).",
+        epilog="examples: pipeopt programme mains.csv --study programme.toml --out results; "
+               "pipeopt programme --demo --out demo-programme")
+    prog.add_argument("register", nargs="?", help="the register of mains (.csv or .parquet)")
+    prog.add_argument("--study", help="the programme study file (TOML)")
+    prog.add_argument("--demo", action="store_true",
+                      help="the bundled invented register and demo study (illustrative)")
+    prog.add_argument("--dask", nargs="?", const="local", metavar="ADDRESS",
+                      help="value the mains on Dask: a local cluster, or the scheduler at "
+                           "ADDRESS (e.g. tcp://10.0.0.5:8786)")
+    prog.add_argument("--partition-rows", type=int, default=50_000,
+                      help="rows per Dask partition (default 50000)")
+    _add_out(prog)
+    prog.add_argument("--quiet", action="store_true", help="no progress bar")
+    prog.add_argument("--progress", action="store_true",
+                      help="a progress bar even when stderr is not a terminal")
+    prog.set_defaults(func=_cmd_programme)
 
 
 def main(argv: Sequence[str] | None = None) -> int:

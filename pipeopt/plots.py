@@ -27,7 +27,7 @@ from . import friction as fr
 
 __all__ = ["PALETTE", "FIXED_MARGINS", "figure_png", "cost_curves", "cost_breakdown",
            "velocity_head", "friction_chart", "tornado_chart", "probability_cheapest",
-           "eac_distributions", "cumulative_cash_flow", "network"]
+           "eac_distributions", "cumulative_cash_flow", "network", "yearly_capital"]
 
 #: Okabe & Ito colour-blind-safe palette.
 PALETTE = ["#0072B2", "#E69F00", "#009E73", "#D55E00", "#CC79A7", "#56B4E9", "#F0E442",
@@ -492,3 +492,48 @@ def network(result, ax=None, labels: bool = True):
     from .network.plots import network as _network
 
     return _network(result, ax=ax, labels=labels)
+
+
+# --------------------------------------------------------------------------------------------
+# renewal programme
+# --------------------------------------------------------------------------------------------
+def yearly_capital(programme_result, ax=None):
+    """Capital of a renewal programme by year, against the budget.
+
+    Bars: the capital of the mains renewed in each year (the number of mains inside each bar);
+    steps: the year's budget. The legend sits beside the axes, off the data.
+
+    Parameters
+    ----------
+    programme_result : ProgrammeResult
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+    """
+    from matplotlib.ticker import FuncFormatter
+
+    ax = _axes(ax)
+    sc = programme_result.schedule
+    years = sc["calendar_year"].to_numpy()
+    money = _money(programme_result)
+    bars = ax.bar(years, sc["capital"].to_numpy(), color=PALETTE[0], width=0.7,
+                  label="capital of the mains renewed")
+    ax.step(np.concatenate([years - 0.5, [years[-1] + 0.5]]),
+            np.concatenate([sc["budget"].to_numpy(), [sc["budget"].to_numpy()[-1]]]),
+            where="post", color="#000000", linewidth=1.4, linestyle="--", label="budget")
+    for rect, n in zip(bars, sc["mains"].to_numpy(), strict=True):
+        if rect.get_height() > 0:
+            ax.annotate(f"{int(n)}", (rect.get_x() + rect.get_width() / 2, rect.get_height()),
+                        textcoords="offset points", xytext=(0, -10), ha="center", fontsize=7,
+                        color="#ffffff")
+    ax.set_xticks(years)
+    ax.tick_params(axis="x", labelrotation=45, labelsize=8)
+    ax.yaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:,.0f}"))
+    ax.set_xlabel("year of renewal [calendar year]")
+    ax.set_ylabel(f"capital [{money}]")
+    ax.set_ylim(0, max(float(sc["budget"].max()), float(sc["capital"].max()), 1.0) * 1.1)
+    _style(ax, "Renewal programme: capital by year (mains renewed inside each bar)")
+    ax.legend(fontsize=7, frameon=False, loc="upper left", bbox_to_anchor=(1.01, 1.0))
+    return ax
+

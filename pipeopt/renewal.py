@@ -5,6 +5,11 @@ N(t) = N(t0) e^{A (t − t0)}. pipeopt counts study years t = 1 … N from now (
 breaks of year t are the rate integrated over that year, N0 e^{A (t − 1)} (e^A − 1) / A (N0 when
 A = 0), so that yearly counts and the continuous model of Shamir & Howard agree.
 
+A register of mains gives counts of breaks over past windows of years rather than a rate:
+:func:`break_rate_from_count` turns the count of the last ``w`` years into the rate now under
+the same exponential law, and :func:`break_growth_from_counts` fits the growth rate A from the
+counts of two successive windows.
+
 References
 ----------
 .. [1] U. Shamir, C. D. D. Howard, "An analytic approach to scheduling pipe replacement",
@@ -14,12 +19,15 @@ References
 from __future__ import annotations
 
 import math
+from typing import Any
 
 import numpy as np
 
+from ._arrays import as_float_arrays, restore
 from .errors import InputError
 
-__all__ = ["break_counts", "shamir_howard_replacement_time"]
+__all__ = ["break_counts", "shamir_howard_replacement_time", "break_rate_from_count",
+           "break_growth_from_counts"]
 
 
 def break_counts(breaks_now: float, growth: float | np.ndarray, years: int) -> np.ndarray:
@@ -97,3 +105,93 @@ def shamir_howard_replacement_time(breaks_now: float, growth: float, break_cost:
         raise InputError("Shamir-Howard needs positive breaks, growth, costs and discount rate")
     x = math.log1p(discount_rate) * replacement_cost / (break_cost * breaks_now)
     return max(0.0, math.log(x) / growth)
+
+
+def break_rate_from_count(count: Any, window: float, growth: Any) -> Any:
+    """Break rate now from the breaks counted over the last ``window`` years.
+
+    Under N(s) = N0 e^{A s} (s in years, 0 = now), the breaks of the last w years are
+    ∫_{−w}^{0} N0 e^{A s} ds = N0 (1 − e^{−A w}) / A, so
+
+    .. math:: N_0 = \\frac{n A}{1 - e^{-A w}}, \\qquad N_0 = n / w \\text{ when } A = 0
+
+    Parameters
+    ----------
+    count : float or array_like
+        Breaks counted over the last ``window`` years, n [-], >= 0.
+    window : float
+        Length of the counting window, w [yr], > 0.
+    growth : float or array_like
+        Break growth rate A [1/yr].
+
+    Returns
+    -------
+    float, ndarray or Series
+        Break rate now, N0 [1/yr].
+
+    References
+    ----------
+    .. [1] U. Shamir, C. D. D. Howard, "An analytic approach to scheduling pipe replacement",
+       J. AWWA 71(5), 248–258, 1979 (the exponential break law; the window integral is ours).
+
+    Examples
+    --------
+    >>> round(break_rate_from_count(10.0, 5.0, 0.0), 6)
+    2.0
+    >>> round(break_rate_from_count(10.0, 5.0, 0.1), 6)
+    2.541494
+    """
+    (n, a), tpl = as_float_arrays(count, growth)
+    if not (math.isfinite(window) and window > 0):
+        raise InputError(f"window must be a positive number of years; got {window!r}")
+    if not np.all(np.isfinite(n)) or np.any(n < 0):
+        raise InputError(f"count must be a number of breaks >= 0; got {n.ravel()[np.argmin(n)]!r}")
+    if not np.all(np.isfinite(a)):
+        raise InputError("growth must be finite")
+    # special case: no growth, the rate is the mean count per year
+    safe = np.where(a == 0, 1.0, a)
+    fraction = np.where(a == 0, window, -np.expm1(-safe * window) / safe)
+    return restore(n / fraction, tpl)
+
+
+def break_growth_from_counts(recent: Any, prior: Any, window: float) -> Any:
+    """Break growth rate A fitted from the counts of two successive windows of years.
+
+    Under N(s) = N0 e^{A s}, the count of the last w years over the count of the w years before
+    them is e^{A w}, so A = ln(n_recent / n_prior) / w. Both counts must be positive; small
+    counts give a noisy rate (a count of n has a Poisson spread of about √n), so callers should
+    fit only where both windows hold enough breaks.
+
+    Parameters
+    ----------
+    recent : float or array_like
+        Breaks of the last ``window`` years [-], > 0.
+    prior : float or array_like
+        Breaks of the ``window`` years before those [-], > 0.
+    window : float
+        Length of each window, w [yr], > 0.
+
+    Returns
+    -------
+    float, ndarray or Series
+        Growth rate A [1/yr].
+
+    References
+    ----------
+    .. [1] U. Shamir, C. D. D. Howard, "An analytic approach to scheduling pipe replacement",
+       J. AWWA 71(5), 248–258, 1979.
+
+    Examples
+    --------
+    >>> round(break_growth_from_counts(12.0, 8.0, 5.0), 6)
+    0.081093
+    """
+    (r, p), tpl = as_float_arrays(recent, prior)
+    if not (math.isfinite(window) and window > 0):
+        raise InputError(f"window must be a positive number of years; got {window!r}")
+    bad = ~(np.isfinite(r) & np.isfinite(p) & (r > 0) & (p > 0))
+    if np.any(bad):
+        k = int(np.flatnonzero(bad.ravel())[0])
+        raise InputError(f"recent and prior break counts must be positive to fit a growth rate; "
+                         f"got {r.ravel()[k]!r} and {p.ravel()[k]!r}")
+    return restore(np.log(r / p) / window, tpl)

@@ -131,7 +131,20 @@ def network_demo() -> str:
     return buf.getvalue().rstrip("\n")
 
 
+def programme_demo() -> str:
+    import contextlib
+    import io
+
+    from pipeopt.cli import main
+
+    buf = io.StringIO()
+    with contextlib.redirect_stdout(buf):
+        main(["programme", "--demo", "--quiet"])
+    return buf.getvalue().rstrip("\n")
+
+
 GENERATORS = {
+    "programme-demo": programme_demo,
     "network-demo": network_demo,
     "demo-sizing-study": demo_sizing_study,
     "demo-sizing-output": demo_sizing_output,

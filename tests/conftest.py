@@ -107,3 +107,35 @@ classes = ["SDR 17"]
 cost = {{ coefficient = 1400.0, exponent = 1.4 }}
 ''', encoding="utf-8")
     return study
+
+
+def upgrade_study_for_main(main: dict, s) -> object:
+    """One main as a single-main upgrade study with one "replace" option (public from_dict).
+
+    ``main`` holds SI values: diameter, length, static_head, roughness (now), aging, flow
+    [m³/s], hours, breaks_now, break_growth, capital, new_diameter; ``s`` is the
+    :class:`pipeopt.replacement.RenewalScenario` whose shared inputs the study takes.
+    """
+    from pipeopt import UpgradeStudy
+
+    return UpgradeStudy.from_dict({
+        "fluid": {"kind": "water", "temperature": "10 degC"},
+        "existing": {"material": "cast-iron-aged", "inner_diameter": f"{main['diameter']!r} m",
+                     "length": f"{main['length']!r} m",
+                     "static_head": f"{main['static_head']!r} m",
+                     "minor_loss_k": s.minor_loss_k, "roughness": f"{main['roughness']!r} m",
+                     "aging": f"{main['aging']!r} m/yr", "breaks_per_year": main["breaks_now"],
+                     "break_growth": main["break_growth"], "break_cost": s.break_cost},
+        "duty": [{"flow": f"{main['flow']!r} m^3/s", "hours": main["hours"]}],
+        "growth": {"flow_per_year": s.flow_growth},
+        "pumping": {"efficiency": s.efficiency},
+        "energy": {"price": s.tariff.price, "escalation": s.tariff.escalation,
+                   "demand_charge": s.tariff.demand_charge},
+        "economics": {"discount_rate": s.discount_rate, "horizon": s.horizon,
+                      "pipe_life": s.life},
+        "option": [{"kind": "replace", "name": "replace", "material": "ductile-iron",
+                    "inner_diameter": f"{main['new_diameter']!r} m",
+                    "roughness": f"{s.new_roughness!r} m", "aging": f"{s.new_aging!r} m/yr",
+                    "cost_per_metre": main["capital"] / main["length"], "life": s.life,
+                    "maintenance": s.maintenance}],
+    })

@@ -11,8 +11,8 @@ from nbclient import NotebookClient
 NOTEBOOKS = sorted((Path(__file__).resolve().parents[1] / "notebooks").glob("*.ipynb"))
 
 
-def test_there_are_four_notebooks_stored_without_outputs():
-    assert len(NOTEBOOKS) == 4
+def test_there_are_five_notebooks_stored_without_outputs():
+    assert len(NOTEBOOKS) == 5
     for path in NOTEBOOKS:
         book = nbformat.read(path, as_version=4)
         for cell in book.cells:

@@ -48,6 +48,13 @@ def workdir(tmp_path):
         shutil.copy(data / "demo_sizing.toml", tmp_path / name)
     for name in ("main.toml", "my-main.toml"):
         shutil.copy(data / "demo_upgrade.toml", tmp_path / name)
+    shutil.copy(data / "demo_programme.toml", tmp_path / "programme.toml")
+    shutil.copy(data / "demo_network.toml", tmp_path / "town.toml")
+    from pipeopt.register import invented_register
+
+    register = invented_register()
+    register.to_csv(tmp_path / "mains.csv", index=False)
+    register.to_parquet(tmp_path / "mains.parquet", index=False)
     return tmp_path
 
 
@@ -66,21 +73,22 @@ def test_python_blocks_run(index, workdir):
 
 
 def _commands() -> list[str]:
-    found = re.findall(r"`(pipeopt (?:init|run|upgrade|demo|catalog|verify)[^`]*)`", README)
-    found += re.findall(r"^(pipeopt (?:init|run|upgrade|demo|catalog|verify).*)$", README,
-                        re.M)
+    verbs = "init|run|upgrade|demo|catalog|verify|network|programme"
+    found = re.findall(rf"`(pipeopt (?:{verbs})[^`]*)`", README)
+    for block in re.findall(r"```bash\n(.*?)\n```", README, re.S):
+        found += re.findall(rf"^(pipeopt (?:{verbs}).*)$", block, re.M)
     return sorted({c.strip() for c in found if "[" not in c and "..." not in c})
 
 
 @pytest.mark.slow
 @pytest.mark.parametrize("command", _commands())
 def test_commands_shown_run(command, workdir):
-    args = shlex.split(command)[1:]
-    if "--out" in args:  # a fresh folder per command
-        args[args.index("--out") + 1] = str(workdir / ("out-" + args[0]))
-    if args[0] == "init":  # the file the README names exists already: write a new one
-        args[1] = str(workdir / "new.toml")
+    # run as a shell would (redirections, comments), with a fresh folder for --out and a new
+    # file for init, in a folder holding the files the README names
     exe = shutil.which("pipeopt") or str(Path(sys.executable).parent / "pipeopt")
-    run = subprocess.run([exe, *args], cwd=workdir, capture_output=True, text=True,
+    line = re.sub(r"--out \S+", lambda m: f"--out {shlex.quote(str(workdir / 'out'))}", command)
+    line = re.sub(r"^pipeopt init \S+", "pipeopt init new.toml", line)
+    line = shlex.quote(exe) + line[len("pipeopt"):]
+    run = subprocess.run(["bash", "-c", line], cwd=workdir, capture_output=True, text=True,
                          timeout=600, env={**os.environ, "MPLBACKEND": "Agg"})
     assert run.returncode == 0, f"{command}: {run.stderr[-2000:]}"

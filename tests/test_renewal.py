@@ -59,3 +59,31 @@ def test_errors():
         break_counts(-1.0, 0.05, 3)
     with pytest.raises(InputError, match="positive"):
         shamir_howard_replacement_time(0.0, 0.05, 1.0, 1.0, 0.05)
+
+
+def test_break_rate_from_a_window_count():
+    # the count of the last w years is the integral of N0 e^{A s} over (-w, 0) (Shamir & Howard
+    # 1979's law); scipy's quad integrates it independently
+    from scipy.integrate import quad
+
+    from pipeopt.renewal import break_rate_from_count
+
+    for n0, a in ((2.0, 0.06), (0.4, -0.03), (3.0, 0.0)):
+        count = quad(lambda s, n0=n0, a=a: n0 * math.exp(a * s), -5.0, 0.0)[0]
+        assert break_rate_from_count(count, 5.0, a) == pytest.approx(n0, rel=1e-12)
+    out = break_rate_from_count([10.0, 0.0], 5.0, [0.1, 0.1])
+    assert out.tolist()[1] == 0.0
+
+
+def test_break_growth_from_two_windows():
+    # the counts of two successive windows under N0 e^{A s} are in the ratio e^{A w}
+    from scipy.integrate import quad
+
+    from pipeopt.renewal import break_growth_from_counts
+
+    a = 0.045
+    recent = quad(lambda s: 2.0 * math.exp(a * s), -5.0, 0.0)[0]
+    prior = quad(lambda s: 2.0 * math.exp(a * s), -10.0, -5.0)[0]
+    assert break_growth_from_counts(recent, prior, 5.0) == pytest.approx(a, rel=1e-12)
+    with pytest.raises(InputError, match="must be positive to fit a growth rate"):
+        break_growth_from_counts(3.0, 0.0, 5.0)

@@ -1,0 +1,180 @@
+"""Tests of pipeopt.replacement: the value of replacing each main in each year.
+
+Checks, each with its source:
+- the single-main upgrade study (pipeopt.upgrade.UpgradeStudy.best_year, built through its
+  public from_dict with a "replace" option) on 50 random mains: the same best year, and the
+  same PV of keeping and of replacing in every year to 1e-9 (an independent path through the
+  package: its own hydraulics, tariff and discounting code);
+- Shamir & Howard (1979), "An analytic approach to scheduling pipe replacement", J. AWWA
+  71(5):248-258: for breaks only, the optimal replacement time
+  t* = (1/A) ln(ln(1+R) C_r / (C_b N0)), written out here, within one year of the yearly scan;
+- a three-year case computed by hand from the module's conventions.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import numpy as np
+import pytest
+
+from pipeopt import Fluid
+from pipeopt.costs import EnergyTariff
+from pipeopt.errors import InputError
+from pipeopt.replacement import Mains, RenewalScenario, evaluate_mains
+
+from .conftest import upgrade_study_for_main
+
+WATER = Fluid.water("10 degC")
+
+
+def random_mains(rng: np.random.Generator, n: int, pumped: bool = True) -> dict[str, np.ndarray]:
+    d = rng.uniform(0.1, 0.5, n)
+    return {
+        "length": rng.uniform(80.0, 3000.0, n), "diameter": d,
+        "roughness": rng.uniform(0.05e-3, 3e-3, n), "aging": rng.uniform(0.0, 4e-5, n),
+        "flow": (rng.uniform(0.3, 1.4, n) * np.pi * d * d / 4.0) if pumped else np.zeros(n),
+        "hours": rng.uniform(2000.0, 8000.0, n), "static_head": rng.uniform(4.0, 50.0, n),
+        "breaks_now": rng.uniform(0.0, 4.0, n), "break_growth": rng.uniform(-0.02, 0.1, n),
+        # per metre here; the tests multiply by the length
+        "capital": rng.uniform(200.0, 1500.0, n), "new_diameter": d * rng.uniform(0.9, 1.1, n),
+    }
+
+
+def scenario(flow_growth: float, new_aging: float, horizon: int = 40) -> RenewalScenario:
+    return RenewalScenario(density=WATER.density, viscosity=WATER.viscosity, efficiency=0.7,
+                           tariff=EnergyTariff(0.15, 0.01, 40.0), discount_rate=0.04,
+                           horizon=horizon, break_cost=7000.0, new_roughness=2e-5,
+                           new_aging=new_aging, life=80.0, maintenance=0.002, break_factor=0.0,
+                           minor_loss_k=3.0, flow_growth=flow_growth)
+
+
+@pytest.mark.parametrize(("flow_growth", "new_aging"),
+                         [(0.0, 0.0), (0.01, 0.0), (0.0, 2e-5), (0.008, 1.5e-5)])
+def test_agrees_with_the_single_main_upgrade_study(flow_growth, new_aging):
+    # 50 random mains in all, across the four ways the new main's energy is formed
+    rng = np.random.default_rng(int(flow_growth * 1e4 + new_aging * 1e7))
+    inputs = random_mains(rng, 13 if flow_growth == 0 and new_aging == 0 else 12)
+    inputs["capital"] = inputs["capital"] * inputs["length"]
+    s = scenario(flow_growth, new_aging)
+    econ = evaluate_mains(s, Mains(**inputs))
+    for k in range(inputs["length"].size):
+        main = {key: float(v[k]) for key, v in inputs.items()}
+        best = upgrade_study_for_main(main, s).best_year("replace")
+        pv = best.table["pv_cost"].to_numpy()
+        assert econ.best_year[k] == best.year
+        np.testing.assert_allclose(econ.pv_replace[k], pv, rtol=1e-9, atol=0)
+        assert econ.pv_keep[k] == pytest.approx(best.keep_pv_cost, rel=1e-9)
+        np.testing.assert_allclose(econ.npv[k], best.table["npv_vs_keep"].to_numpy(), rtol=1e-9,
+                                   atol=1e-9 * best.keep_pv_cost)
+
+
+def test_benefit_cost_ratio_agrees_with_the_upgrade_summary():
+    # the upgrade study's B/C (PV of running-cost savings over PV of net capital) at the year
+    # of action the programme finds best
+    rng = np.random.default_rng(5)
+    inputs = random_mains(rng, 6)
+    inputs["capital"] = inputs["capital"] * inputs["length"]
+    s = scenario(0.005, 0.0)
+    econ = evaluate_mains(s, Mains(**inputs))
+    for k in range(6):
+        main = {key: float(v[k]) for key, v in inputs.items()}
+        study = upgrade_study_for_main(main, s)
+        option = dataclasses.replace(study.options[0], year=int(econ.best_year[k]))
+        study = study.replace(options=(option,))  # a study is frozen: a new one
+        row = study.run().summary.set_index("option").loc["replace"]
+        assert econ.benefit_cost_ratio[k] == pytest.approx(row["benefit_cost_ratio"], rel=1e-9)
+        assert econ.npv_best[k] == pytest.approx(row["npv_vs_keep"], rel=1e-9,
+                                                 abs=1e-9 * row["pv_cost"])
+
+
+@pytest.mark.parametrize(
+    ("n0", "a", "cb", "cr", "rate"),
+    [(2.0, 0.08, 1e4, 1.5e6, 0.05), (5.0, 0.05, 8e3, 2e6, 0.04), (1.0, 0.12, 1.5e4, 3e6, 0.06),
+     (8.0, 0.03, 5e3, 3e6, 0.03)],
+)
+def test_breaks_only_best_year_is_shamir_howard(n0, a, cb, cr, rate):
+    # Shamir & Howard (1979), J. AWWA 71(5):248-258: t* = (1/A) ln(ln(1+R) C_r / (C_b N0)),
+    # their continuous optimum; the yearly scan (cash flows at year ends, a long horizon and
+    # a full residual credit so that the horizon does not pull the year) is within one year
+    t_star = math.log(math.log(1.0 + rate) * cr / (cb * n0)) / a
+    s = RenewalScenario(density=WATER.density, viscosity=WATER.viscosity, efficiency=0.7,
+                        tariff=EnergyTariff(0.1), discount_rate=rate, horizon=150,
+                        break_cost=cb, new_roughness=1e-4, life=1e9)
+    m = Mains(length=[1000.0], diameter=[0.3], roughness=[1e-4], aging=[0.0], flow=[0.0],
+              hours=[0.0], static_head=[0.0], breaks_now=[n0], break_growth=[a], capital=[cr],
+              new_diameter=[0.3])
+    e = evaluate_mains(s, m)
+    assert 0 < t_star < 100
+    assert abs(int(e.best_year[0]) - t_star) <= 1.0
+    assert e.npv_best[0] > 0
+
+
+def test_three_years_by_hand():
+    # breaks 2 a year now growing 10 %, 1,000 a repair; capital 5,000, life 10 years,
+    # maintenance 1 % a year, 5 % real; year t costs b_t = 2 (e^0.1 - 1)/0.1 e^{0.1 (t-1)} 1000
+    s = RenewalScenario(density=WATER.density, viscosity=WATER.viscosity, efficiency=0.7,
+                        tariff=EnergyTariff(0.1), discount_rate=0.05, horizon=3,
+                        break_cost=1000.0, new_roughness=1e-4, life=10.0, maintenance=0.01)
+    m = Mains(length=[100.0], diameter=[0.2], roughness=[1e-4], aging=[0.0], flow=[0.0],
+              hours=[0.0], static_head=[0.0], breaks_now=[2.0], break_growth=[0.1],
+              capital=[5000.0], new_diameter=[0.2])
+    e = evaluate_mains(s, m)
+    b = [2.0 * (math.exp(0.1) - 1) / 0.1 * math.exp(0.1 * (t - 1)) * 1000.0 for t in (1, 2, 3)]
+    d = [1.05 ** -t for t in range(4)]
+    keep = sum(b[t - 1] * d[t] for t in (1, 2, 3))
+    assert e.pv_keep[0] == pytest.approx(keep, rel=1e-13)
+    for a in range(3):
+        before = sum(b[t - 1] * d[t] for t in range(1, a + 1))
+        upkeep = sum(0.01 * 5000.0 * d[t] for t in range(a + 1, 4))
+        residual = 5000.0 * max(0.0, 1.0 - (3 - a) / 10.0) * d[3]
+        expected = before + 5000.0 * d[a] + upkeep - residual
+        assert e.pv_replace[0, a] == pytest.approx(expected, rel=1e-13)
+    assert int(e.best_year[0]) == int(np.argmin([e.pv_replace[0, a] for a in range(3)]))
+
+
+def test_results_do_not_depend_on_how_mains_are_split():
+    # every number of a main comes from that main alone: whole or in two parts, bit for bit
+    rng = np.random.default_rng(9)
+    inputs = random_mains(rng, 200)
+    inputs["flow"][::3] = 0.0
+    inputs["capital"] = inputs["capital"] * inputs["length"]
+    for s in (scenario(0.01, 2e-5), scenario(0.0, 2e-5), scenario(0.01, 0.0)):
+        whole = evaluate_mains(s, Mains(**inputs))
+        parts = [evaluate_mains(s, Mains(**{k: v[sl] for k, v in inputs.items()}))
+                 for sl in (slice(0, 77), slice(77, 200))]
+        for name in ("pv_keep", "pv_replace", "npv", "best_year", "benefit_cost_ratio",
+                     "energy_kwh_year1", "transitional", "roughness_capped"):
+            joined = np.concatenate([getattr(p, name) for p in parts])
+            assert np.array_equal(getattr(whole, name), joined), name
+
+
+def test_a_main_that_is_not_pumped_has_no_energy_and_pumping_costs_energy():
+    s = scenario(0.0, 0.0)
+    m = Mains(length=[500.0, 500.0], diameter=[0.2, 0.2], roughness=[2e-3, 2e-3],
+              aging=[0.0, 0.0], flow=[0.0, 0.02], hours=[0.0, 6000.0], static_head=[0.0, 20.0],
+              breaks_now=[0.0, 0.0], break_growth=[0.0, 0.0], capital=[1e5, 1e5],
+              new_diameter=[0.2, 0.2])
+    e = evaluate_mains(s, m)
+    assert e.energy_kwh_year1[0] == 0.0 and e.pv_keep[0] == 0.0
+    # 0.02 m3/s lifted 20 m plus friction at 70 %: more than rho g Q z / eta x hours
+    assert e.energy_kwh_year1[1] > WATER.density * 9.80665 * 0.02 * 20.0 / 0.7 * 6000 / 1000
+    # the rough old main costs more to pump through than the smooth new one
+    assert e.pv_saving_energy[1] > 0
+
+
+def test_errors_name_the_input():
+    good = {k: [1.0] for k in ("length", "diameter", "roughness", "aging", "flow", "hours",
+                               "static_head", "breaks_now", "break_growth", "capital",
+                               "new_diameter")}
+    good["break_growth"] = [0.05]
+    Mains(**good)
+    with pytest.raises(InputError, match="Mains.length is out of range at main 0"):
+        Mains(**{**good, "length": [-1.0]})
+    with pytest.raises(InputError, match="one value per main"):
+        Mains(**{**good, "capital": [1.0, 2.0]})
+    with pytest.raises(InputError, match="Mains.hours"):
+        Mains(**{**good, "hours": [9000.0]})
+    with pytest.raises(InputError, match="discount_rate is out of range"):
+        RenewalScenario(998.0, 1e-3, 0.7, EnergyTariff(0.1), -0.01, 40, 1000.0, 1e-5)
