@@ -221,6 +221,187 @@ def _base_timeline(rate: float, horizon: int) -> Timeline:
     return Timeline(rate, horizon)
 
 
+def _direct_hydraulics(s: Scenario, d: np.ndarray, eps0: np.ndarray, alpha: np.ndarray,
+                       v: dict, tl: Timeline, years_mode: str,
+                       weights: dict[str, np.ndarray]) -> dict[str, Any]:
+    """Hydraulics of every candidate, year and duty point solved directly, and the sums the
+    money needs (the reference path).
+
+    Arrays over hydraulic samples S_h (1 when every sample shares the flows, growth and aging),
+    candidates C, years T (1 when every year is the same) and duty points K. Returns the design
+    figures (S_h, C), the largest velocity and pump head within each sample's horizon (S, C),
+    the weighted sums of energy and peak demand at η = 1 (S, C), and the yearly energy and peak
+    (S_h, C, T) for the cash flows and the station.
+    """
+    hyd_keys = ("flow_factor", "growth", "aging_factor")
+    shared = all(np.ptp(v[k]) == 0 for k in hyd_keys)
+    hv = {k: (v[k][:1] if shared else v[k]) for k in hyd_keys}
+    same_every_year = (years_mode == "auto" and not np.any(hv["growth"]) and not np.any(alpha))
+    t_eval = 1 if same_every_year else tl.n_max
+    m = s.duty.multipliers(t_eval, growth=hv["growth"], flow_factor=hv["flow_factor"])
+    hyd = candidate_years(s, d, eps0, alpha, m, hv["aging_factor"])
+    k = int(np.argmax(s.duty.flow_array))
+    energy0, peak0 = hyd["energy"], hyd["peak"]
+    last = tl.horizon - 1
+    return {
+        "velocity_design": hyd["velocity"][:, :, 0, k],
+        "reynolds_design": hyd["reynolds"][:, :, 0, k],
+        "friction_factor_design": hyd["friction_factor"][:, :, 0, k],
+        "head_loss_design": hyd["head_loss"][:, :, 0, k],
+        "pump_head_design": hyd["pump_head"][:, :, 0, k],
+        "peak_year1": peak0[:, :, 0], "energy_year1": energy0[:, :, 0],
+        "velocity_max": running_max(hyd["velocity"].max(axis=3), last),
+        "pump_head_max": running_max(hyd["pump_head"].max(axis=3), last),
+        "energy_price": _weighted(energy0, weights["price"]),
+        "energy_run": _weighted(energy0, weights["run"]),
+        "peak_run": _weighted(peak0, weights["run"]),
+        "energy": energy0, "peak": peak0,
+        "capped": np.any(hyd["capped"], axis=(2, 3)),
+        "transitional": np.count_nonzero(hyd["transitional"], axis=(2, 3)),
+    }
+
+
+#: Samples evaluated together in a matrix product of the series path. Results of a sample
+#: depend only on its block, so a batch in chunks that are multiples of BLOCK (counted from its
+#: first sample) gives the same bits whatever the chunking.
+BLOCK = 256
+
+
+def _series_applies(s: Scenario, v: dict) -> bool:
+    """Whether the friction-series path holds for a batch whose flows vary by sample: flows
+    that never fall with the years (so the largest velocity, head and demand of a sample's
+    horizon are those of its last year), shared aging, and a non-negative static head (the
+    largest duty point is then the largest demand)."""
+    return (np.ptp(v["aging_factor"]) == 0 and bool(np.all(v["growth"] >= 0))
+            and s.static_head >= 0)
+
+
+@functools.lru_cache(maxsize=8)
+def _cached_series(s: Scenario, re0: bytes, rr: bytes, shape: tuple, lo: bytes,
+                   hi: bytes) -> Any:
+    """The friction series of a batch (fitted once; every chunk of the batch reuses it)."""
+    from .surrogate import friction_series
+
+    c, k, t = shape
+    return friction_series(s, np.frombuffer(re0).reshape(c, k), np.frombuffer(rr).reshape(c, t),
+                           np.frombuffer(lo), np.frombuffer(hi))
+
+
+def _series_hydraulics(s: Scenario, d: np.ndarray, eps0: np.ndarray, alpha: np.ndarray,
+                       v: dict, tl: Timeline, m_range: tuple,
+                       weights: dict[str, np.ndarray]) -> dict[str, Any]:
+    """The sums the money needs, by Chebyshev series of the friction factor in ln m.
+
+    f(Re0[c, k] m, ε_t/D) = Σ_j a_j[c, t, k] T_j(x[s, t]) (:mod:`pipeopt.surrogate`), so the
+    energy of every sample, candidate and year, summed over duty points and weighted over the
+    years, is a matrix product of the basis (S, T·J) with coefficients (T·J, C); the largest
+    velocity, head and demand of a horizon are those of its last year (flows that never fall).
+    Candidates whose series misses its error bound are solved directly.
+    """
+    from .cashflow import stage_last_years
+
+    duty = s.duty
+    q, hrs = duty.flow_array, duty.hours_array                                    # (K,)
+    kmax = int(np.argmax(q))
+    n_t = tl.n_max
+    area = np.pi * d * d / 4.0
+    v0 = (q[None, :] / s.parallel) / area[:, None]                                # (C, K)
+    re0 = s.density * v0 * d[:, None] / s.viscosity
+    years = np.arange(n_t)
+    rr_raw = (eps0[:, None] + alpha[:, None] * float(v["aging_factor"][0]) * years) / d[:, None]
+    capped = np.any(rr_raw > fr.MAX_RELATIVE_ROUGHNESS, axis=1)
+    rr = np.minimum(rr_raw, fr.MAX_RELATIVE_ROUGHNESS)
+    lo, hi = (np.ascontiguousarray(np.asarray(x, dtype=float)[:n_t]) for x in m_range)
+    series = _cached_series(s, np.ascontiguousarray(re0).tobytes(),
+                            np.ascontiguousarray(rr).tobytes(), (d.size, q.size, n_t),
+                            lo.tobytes(), hi.tobytes())
+    a = series.coefficients                                                       # (C,T,K,J)
+    m = duty.multipliers(n_t, growth=v["growth"], flow_factor=v["flow_factor"])   # (S, T)
+    basis = series.basis(m)                                                       # (S,T,J)
+    g = fr.GRAVITY
+    rg = s.density * g / 1000.0
+    c2 = v0 * v0 / (2.0 * g)                                                      # (C, K)
+    l_d = s.length / d
+    w_total = float(np.sum(q * hrs))
+    g_c = s.minor_loss_k * (c2 * (q * hrs)[None, :]).sum(axis=1)                  # (C,)
+    b_e = l_d[:, None, None] * np.einsum("ck,ctkj->ctj", c2 * (q * hrs)[None, :], a)
+    a_p = a[:, :, kmax, :]                                                        # (C,T,J)
+    ap0 = s.minor_loss_k * c2[:, kmax]
+    ap1 = l_d * c2[:, kmax]
+    m3 = m**3
+
+    def contract(w: np.ndarray, coef: np.ndarray) -> np.ndarray:
+        """Σ_{t,j} basis[s,t,j] m³[s,t] w[s,t] coef[c,t,j], in blocks of BLOCK samples."""
+        u = (basis * (m3 * w)[:, :, None]).reshape(m.shape[0], -1)
+        flat = coef.reshape(coef.shape[0], -1).T
+        out = np.empty((m.shape[0], coef.shape[0]))
+        for start in range(0, m.shape[0], BLOCK):
+            out[start:start + BLOCK] = u[start:start + BLOCK] @ flat
+        return out
+
+    def energy_sum(w: np.ndarray) -> np.ndarray:   # Σ_t E0[s,c,t] w[s,t] at η = 1
+        return rg * (s.static_head * w_total * (m * w).sum(axis=1)[:, None]
+                     + g_c[None, :] * (m3 * w).sum(axis=1)[:, None] + contract(w, b_e))
+
+    run = weights["run"]
+    zero = np.zeros((m.shape[0], d.size))
+    # the sums a study does not need are not formed (no demand charge, no carbon price)
+    peak_run = (rg * q[kmax] * (s.static_head * (m * run).sum(axis=1)[:, None]
+                                + ap0[None, :] * (m3 * run).sum(axis=1)[:, None]
+                                + ap1[None, :] * contract(run, a_p))
+                if np.any(v["demand_charge"]) else zero)
+
+    def at_year(y: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Friction factor (largest duty), multiplier and head of each sample's year y.
+
+        One contraction per distinct year (einsum: the same sums whatever the samples)."""
+        f = np.empty((y.size, d.size))
+        for year in np.unique(y):
+            rows = np.flatnonzero(y == year)
+            f[rows] = np.einsum("sj,cj->sc", basis[rows, year], a_p[:, year])
+        my = m[np.arange(y.size), y][:, None]
+        return f, my, s.static_head + my * my * (ap0[None, :] + ap1[None, :] * f)
+
+    last = tl.horizon - 1
+    _, m_last, head_last = at_year(last)
+    f0, m0, head0 = at_year(np.zeros(last.size, dtype=int))
+    out = {
+        "velocity_design": v0[None, :, kmax] * m0,
+        "reynolds_design": re0[None, :, kmax] * m0,
+        "friction_factor_design": f0,
+        "head_loss_design": head0 - s.static_head, "pump_head_design": head0,
+        "peak_year1": rg * q[kmax] * m0 * head0,
+        "energy_year1": rg * m0 * (s.static_head * w_total + m0 * m0 * (
+            g_c[None, :] + np.einsum("sj,cj->sc", basis[:, 0], b_e[:, 0]))),
+        "velocity_max": v0[None, :, kmax] * m_last, "pump_head_max": head_last,
+        "energy_price": energy_sum(weights["price"]),
+        "energy_run": energy_sum(run) if weights.get("carbon") else zero,
+        "peak_run": peak_run,
+        "capped": np.broadcast_to(capped, (m.shape[0], d.size)),
+        "transitional": np.zeros((m.shape[0], d.size), dtype=int),
+    }
+    if s.pump_station is not None:
+        ends = stage_last_years(s.pump_station, tl)                              # (S, J)
+        stage = []
+        for j in range(ends.shape[1]):
+            _, m_j, head_j = at_year(ends[:, j])
+            stage.append(rg * q[kmax] * m_j * head_j)
+        out["stage_peaks"] = np.stack(stage, axis=-1)
+    bad = ~series.accurate
+    if np.any(bad):  # candidates whose series misses its bound: solved directly
+        exact = _direct_hydraulics(s, d[bad], eps0[bad], alpha[bad], v, tl, "auto", weights)
+        for key, value in out.items():
+            if key in exact and np.ndim(value) == 2:
+                value = np.array(value)
+                value[:, bad] = exact[key]
+                out[key] = value
+        if "stage_peaks" in out:
+            peaks = np.stack([running_max(exact["peak"], ends[:, j])
+                              for j in range(ends.shape[1])], axis=-1)
+            out["stage_peaks"][:, bad] = peaks
+    return out
+
+
 def evaluate(s: Scenario, diameter: Any, roughness: Any, aging_rate: Any,
              pipe_cost_per_metre: Any, embodied_co2_per_metre: Any = 0.0,
              years_mode: Literal["auto", "full"] = "auto",
@@ -270,38 +451,27 @@ def evaluate(s: Scenario, diameter: Any, roughness: Any, aging_rate: Any,
     tl = (_base_timeline(s.discount_rate, s.horizon) if variations is None
           else Timeline(v["discount_rate"], v["horizon"], variations.n_years))
     n_samples, n_years = tl.size, tl.n_max
-    last = tl.horizon - 1                                  # index of each sample's last year
-    duty = s.duty
-    k_design = int(np.argmax(duty.flow_array))
     col = (slice(None), None)                              # (S,) -> (S, 1)
 
-    # --- hydraulics on (S_h, C, T, K); T = 1 when every year is the same --------------------
-    # Flows, growth and aging change the hydraulics; when every sample shares them (S_h = 1)
-    # the hydraulics are evaluated once: efficiency and hours only scale energy and demand.
-    hyd_keys = ("flow_factor", "growth", "aging_factor")
-    shared = all(np.ptp(v[k]) == 0 for k in hyd_keys)
-    hv = {k: (v[k][:1] if shared else v[k]) for k in hyd_keys}
-    same_every_year = (years_mode == "auto" and not np.any(hv["growth"]) and not np.any(alpha))
-    t_eval = 1 if same_every_year else n_years
-    m = duty.multipliers(t_eval, growth=hv["growth"], flow_factor=hv["flow_factor"])
-    hyd = candidate_years(s, d, eps0, alpha, m, hv["aging_factor"])
-    vel, re, f, h = hyd["velocity"], hyd["reynolds"], hyd["friction_factor"], hyd["head_loss"]
-    head, energy0, peak0 = hyd["pump_head"], hyd["energy"], hyd["peak"]
-    capped = np.any(hyd["capped"], axis=(2, 3))
-    transitional = np.count_nonzero(hyd["transitional"], axis=(2, 3))
     inv_eta = 1.0 / v["efficiency"]                                             # (S,)
     e_scale = v["hours_factor"] * inv_eta                                       # (S,)
+    run = tl.running[:, 1:]                                                     # (S, N)
+    price = s.tariff.price_by_year(n_years, v["energy_price"], v["escalation"])  # (S, N)
+    carbon_rate = s.grid_factor * s.carbon_price
+    weights = {"price": price * run, "run": run, "carbon": bool(carbon_rate)}
+    use_series = (variations is not None and variations.m_range is not None and not yearly
+                  and years_mode == "auto" and _series_applies(s, v))
+    hs = (_series_hydraulics(s, d, eps0, alpha, v, tl, variations.m_range, weights)
+          if use_series else
+          _direct_hydraulics(s, d, eps0, alpha, v, tl, years_mode, weights))
 
     def per_sample(x: np.ndarray) -> np.ndarray:
         return np.broadcast_to(x, (n_samples,) + x.shape[1:])
 
     # --- money: (S, C); yearly amounts are weighted sums, never (S, C, N) arrays ---------------
-    run = tl.running[:, 1:]                                                     # (S, N)
-    price = s.tariff.price_by_year(n_years, v["energy_price"], v["escalation"])  # (S, N)
-    pv_energy = (e_scale[:, None] * _weighted(energy0, price * run)
-                 + (v["demand_charge"] * inv_eta)[:, None] * _weighted(peak0, run))
-    carbon_rate = s.grid_factor * s.carbon_price
-    pv_op_carbon = (e_scale[:, None] * carbon_rate * _weighted(energy0, run) if carbon_rate
+    pv_energy = (e_scale[:, None] * hs["energy_price"]
+                 + (v["demand_charge"] * inv_eta)[:, None] * hs["peak_run"])
+    pv_op_carbon = (e_scale[:, None] * carbon_rate * hs["energy_run"] if carbon_rate
                     else np.zeros_like(pv_energy))
     capex_pipe = cost_m[None, :] * v["pipe_cost_factor"] * s.length * s.parallel       # (S, C)
     embodied_cost = np.broadcast_to(co2_m * s.length * s.parallel * s.carbon_price,
@@ -311,8 +481,8 @@ def evaluate(s: Scenario, diameter: Any, roughness: Any, aging_rate: Any,
     pv_st = {"capital": zero, "renewal": zero, "maintenance": zero, "residual": zero}
     installed, capex_ps = zero, zero
     if s.pump_station is not None:
-        station = station_stages(s.pump_station, peak0, tl, v["station_cost_factor"],
-                                 scale=inv_eta)
+        station = station_stages(s.pump_station, hs.get("peak"), tl, v["station_cost_factor"],
+                                 scale=inv_eta, stage_peaks=hs.get("stage_peaks"))
         pv_st = station.present_values(s.pump_station.maintenance)
         installed, capex_ps = station.installed, station.capital.sum(axis=-1)
     pipe_residual = capex_pipe * np.asarray(straight_line_residual(tl.horizon, s.pipe_life))[col]
@@ -328,11 +498,10 @@ def evaluate(s: Scenario, diameter: Any, roughness: Any, aging_rate: Any,
     # --- yearly amounts (S, C, N) and the cash-flow rows t = 0 … N ---------------------------
     energy = peak = energy_cost = carbon_cost = flows = None
     if yearly:
-        full = ((lambda x: np.broadcast_to(x, x.shape[:2] + (n_years,))) if same_every_year
-                else (lambda x: x))
         live = tl.live[:, None, 1:]
-        energy = full(energy0) * e_scale[:, None, None] * live
-        peak = full(peak0) * inv_eta[:, None, None] * live
+        full = lambda x: np.broadcast_to(x, x.shape[:2] + (n_years,))  # noqa: E731
+        energy = full(hs["energy"]) * e_scale[:, None, None] * live
+        peak = full(hs["peak"]) * inv_eta[:, None, None] * live
         energy_cost = energy * price[:, None, :] + v["demand_charge"][:, None, None] * peak
         carbon_cost = energy * carbon_rate
 
@@ -359,22 +528,22 @@ def evaluate(s: Scenario, diameter: Any, roughness: Any, aging_rate: Any,
     replacement_years = (tl.years[station.schedule.renewal[0].any(axis=0)].astype(float)
                          if station is not None else np.zeros(0))
     out = LifeCycle(
-        velocity_design=per_sample(vel[:, :, 0, k_design]),
-        reynolds_design=per_sample(re[:, :, 0, k_design]),
-        friction_factor_design=per_sample(f[:, :, 0, k_design]),
-        head_loss_design=per_sample(h[:, :, 0, k_design]),
-        pump_head_design=per_sample(head[:, :, 0, k_design]),
-        pump_power_peak_year1=per_sample(peak0[:, :, 0]) * inv_eta[:, None],
-        energy_year1=per_sample(energy0[:, :, 0]) * e_scale[:, None],
-        velocity_max=running_max(vel.max(axis=3), last),
-        pump_head_max=running_max(head.max(axis=3), last),
+        velocity_design=per_sample(hs["velocity_design"]),
+        reynolds_design=per_sample(hs["reynolds_design"]),
+        friction_factor_design=per_sample(hs["friction_factor_design"]),
+        head_loss_design=per_sample(hs["head_loss_design"]),
+        pump_head_design=per_sample(hs["pump_head_design"]),
+        pump_power_peak_year1=per_sample(hs["peak_year1"]) * inv_eta[:, None],
+        energy_year1=per_sample(hs["energy_year1"]) * e_scale[:, None],
+        velocity_max=hs["velocity_max"], pump_head_max=hs["pump_head_max"],
         installed_power=installed, capex_pipe=capex_pipe, capex_pump_station=capex_ps,
         pv_pump_station=pv_st["capital"], pv_energy=pv_energy, pv_maintenance=pv_maintenance,
         pv_replacement=pv_st["renewal"], pv_residual=pv_residual, pv_carbon=pv_carbon,
         pv_total=pv_total, eac=eac, crf=tl.crf, energy_kwh=energy, peak_kw=peak,
         energy_cost=energy_cost, carbon_cost=carbon_cost, embodied_carbon_cost=embodied_cost,
         maintenance=maintenance, replacement_years=replacement_years,
-        transitional_points=per_sample(transitional), roughness_capped=per_sample(capped),
+        transitional_points=per_sample(hs["transitional"]),
+        roughness_capped=per_sample(hs["capped"]),
         cash_flows=flows,
     )
     if variations is None:  # a single scenario: drop the sample axis

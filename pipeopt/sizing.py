@@ -66,6 +66,22 @@ def _section(value: Any, cls: type, build: Any) -> Any:
     return value if isinstance(value, cls) else build(value)
 
 
+def _refuse_non_finite(lc: LifeCycle, candidates: pd.DataFrame,
+                       inputs: dict[str, Any] | None) -> None:
+    """Refuse a result whose money is not a finite number (inputs so extreme that a sum
+    overflowed): a table of inf or nan would rank nothing and mean nothing."""
+    eac = np.asarray(lc.eac, dtype=float)
+    bad = ~np.isfinite(eac)
+    if not np.any(bad):
+        return
+    names = (candidates["material"] + " " + candidates["size"])[bad].tolist()
+    shown = ", ".join(names[:3]) + (f" and {len(names) - 3} more" if len(names) > 3 else "")
+    given = f" with inputs {inputs}" if inputs else ""
+    raise InputError(f"run: the life-cycle cost of {shown} is not a finite number{given}; an "
+                     "input is far outside any real line (check the energy price, flows, "
+                     "lengths, costs and economics for a misplaced exponent or unit)")
+
+
 class SizingStudy(StudyFileMixin):
     """A life-cycle-cost sizing study of one pumped line.
 
@@ -317,6 +333,7 @@ class SizingStudy(StudyFileMixin):
         lc = self.evaluate(variations=variations)
         if variations is not None:
             lc = lc.take(0)
+        _refuse_non_finite(lc, self.candidates, inputs)
         table = self._table(lc)
         feasible = table[table["feasible"]]
         if feasible.empty:

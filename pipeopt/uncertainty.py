@@ -246,10 +246,26 @@ class _SizingDecision(_Decision):
         c = self.study.candidates
         return (c["material"] + " " + c["size"]).tolist()
 
-    def evaluate(self, values, n_years=None):
+    def series_range(self, values: dict[str, np.ndarray], n_years: int) -> tuple | None:
+        """The batch's smallest and largest flow multiplier of each year, when the friction
+        series path applies to the whole batch (flows that vary and never fall, shared aging,
+        a non-negative static head); None otherwise."""
+        if not any(k in values for k in ("flow_factor", "growth")) or "aging_factor" in values:
+            return None
+        s = self.study.scenario
+        growth = values.get("growth", np.array([s.duty.growth]))
+        if np.any(growth < 0) or s.static_head < 0 or self.study.hydraulics.friction_method \
+                not in ("colebrook", "swamee-jain", "haaland", "serghides", "churchill"):
+            return None
+        m = s.duty.multipliers(n_years, growth=growth,
+                               flow_factor=values.get("flow_factor", np.ones(1)))
+        m = np.atleast_2d(m)
+        return (m.min(axis=0), m.max(axis=0))
+
+    def evaluate(self, values, n_years=None, m_range=None):
         var = self.study.variations(values) if values else None
         if var is not None and n_years is not None:
-            var = _with_years(var, n_years)
+            var = _with_years(var, n_years, m_range)
         lc = self.study.evaluate(variations=var, yearly=False)
         eac = np.atleast_2d(lc.eac)
         feas = np.atleast_2d(self.study.check(lc)["feasible"])
@@ -263,7 +279,7 @@ class _UpgradeDecision(_Decision):
     def labels(self) -> list[str]:
         return ["keep", *[o.name for o in self.study.states]]
 
-    def evaluate(self, values, n_years=None):
+    def evaluate(self, values, n_years=None, m_range=None):
         var = self.study.variations(values)
         if n_years is not None:
             var = _with_years(var, n_years)
@@ -271,10 +287,10 @@ class _UpgradeDecision(_Decision):
         return pv, np.ones(pv.shape, dtype=bool)
 
 
-def _with_years(var: Any, n_years: int) -> Any:
+def _with_years(var: Any, n_years: int, m_range: tuple | None = None) -> Any:
     from dataclasses import replace
 
-    return replace(var, n_years=int(n_years))
+    return replace(var, n_years=int(n_years), m_range=m_range)
 
 
 def _decision(study: Any) -> _Decision:
@@ -641,15 +657,26 @@ HYDRAULIC_INPUTS = ("flow_factor", "growth", "aging_factor")
 
 def _evaluate_samples(d: _Decision, values: dict[str, np.ndarray], n: int, size: int,
                       workers: int, bar: Any) -> tuple[np.ndarray, np.ndarray]:
-    """Every sample's figure and feasibility, in chunks of ``size`` samples (one year axis)."""
-    n_years = int(values["horizon"].max()) if "horizon" in values else None
+    """Every sample's figure and feasibility, in chunks of ``size`` samples (one year axis).
+
+    When the friction series apply to the whole batch (:mod:`pipeopt.surrogate`), the chunks
+    are whole multiples of :data:`pipeopt.lifecycle.BLOCK` samples, so that every sample is
+    computed in the same block of the series' matrix products whatever the chunk size.
+    """
+    from .lifecycle import BLOCK
+
+    n_years = int(values["horizon"].max()) if "horizon" in values \
+        else int(d.base_value("horizon"))
+    m_range = d.series_range(values, n_years) if hasattr(d, "series_range") else None
+    if m_range is not None:
+        size = BLOCK * max(1, -(-size // BLOCK))
     c = len(d.labels)
     value = np.empty((n, c))
     feas = np.empty((n, c), dtype=bool)
 
     def run_chunk(start: int) -> int:
         stop = min(start + size, n)
-        v, f = d.evaluate({k: x[start:stop] for k, x in values.items()}, n_years)
+        v, f = d.evaluate({k: x[start:stop] for k, x in values.items()}, n_years, m_range)
         value[start:stop], feas[start:stop] = v, f  # disjoint slices: no two chunks share rows
         return stop - start
 

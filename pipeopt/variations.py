@@ -126,8 +126,11 @@ class Variations:
     """Per-sample values of named inputs (see :data:`INPUTS`), each None or an array (S,).
 
     Factors multiply the study's value; the others replace it. ``pipe_cost_factor`` may also be
-    an (S, C) array, one factor per candidate. ``n_years`` (not an input) fixes the length of
-    the year axis for a batch evaluated in chunks (see :class:`pipeopt.cashflow.Timeline`).
+    an (S, C) array, one factor per candidate. ``n_years`` and ``m_range`` are not inputs but
+    facts of the batch a chunk belongs to: the length of the year axis (see
+    :class:`pipeopt.cashflow.Timeline`) and the smallest and largest flow multiplier of each
+    year over the batch, (low (T,), high (T,)), which lets :func:`pipeopt.lifecycle.evaluate`
+    use Chebyshev series of the friction factor (:mod:`pipeopt.surrogate`).
     """
 
     energy_price: np.ndarray | None = None
@@ -147,6 +150,7 @@ class Variations:
     break_cost_factor: np.ndarray | None = None
     leakage_cost_factor: np.ndarray | None = None
     n_years: int | None = None
+    m_range: tuple | None = None
 
     @classmethod
     def of(cls, values: Mapping[str, Any]) -> Variations:

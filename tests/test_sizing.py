@@ -183,6 +183,25 @@ def test_no_feasible_candidate_is_reported_not_raised():
     assert "No feasible candidate" in res.text()
 
 
+def test_non_finite_money_is_refused_naming_the_candidates(monkeypatch):
+    # a backstop behind the bounded inputs: an overflowed sum must never rank candidates
+    import dataclasses
+
+    st = SizingStudy.demo()
+    real = SizingStudy.evaluate
+
+    def overflowing(self, *args, **kwargs):
+        lc = real(self, *args, **kwargs)
+        eac = np.array(lc.eac, dtype=float)
+        eac[..., 1] = np.inf
+        return dataclasses.replace(lc, eac=eac)
+
+    monkeypatch.setattr(SizingStudy, "evaluate", overflowing)
+    name = st.candidates["material"].iloc[1] + " " + st.candidates["size"].iloc[1]
+    with pytest.raises(InputError, match=f"life-cycle cost of {name} is not a finite number"):
+        st.run()
+
+
 def test_toml_study_with_cost_table():
     st_ = SizingStudy.from_toml(DATA / "marrowin_flats.toml")
     res = st_.run()
