@@ -275,6 +275,11 @@ class Evaluation:
     transitional : ndarray of int, shape (B,)
         Most pipes in the laminar-turbulent band (2000 <= Re < 4000) in any case
         (Darcy–Weisbach only).
+    case_violation : ndarray, shape (B, S)
+        The violation of each demand case alone (pressure shortfalls, excess velocities, a
+        large number where the hydraulics did not converge).
+    hydraulic_kw : ndarray, shape (B, S)
+        Power the pumped sources give the water, ρ g Q H, in each case [kW] (0 for gravity).
     """
 
     cost: np.ndarray
@@ -294,6 +299,8 @@ class Evaluation:
     mass_residual: np.ndarray
     source_flow: np.ndarray
     transitional: np.ndarray
+    case_violation: np.ndarray
+    hydraulic_kw: np.ndarray
 
 
 def evaluate(problem: DesignProblem, choice: Any, flow0: np.ndarray | None = None,
@@ -368,20 +375,24 @@ def evaluate(problem: DesignProblem, choice: Any, flow0: np.ndarray | None = Non
         pump = (lift * (source_flow > 0)).max(axis=2)
     short = np.maximum(0.0, required - head)                                  # (B, S, J)
     velocity = flow / (np.pi * diam_for_velocity[:, None, :] ** 2 / 4.0)
-    v_excess = np.zeros(b)
+    v_case = np.zeros((b, s))
     if pr.velocity_max is not None:
-        v_excess = np.maximum(0.0, np.abs(velocity[:, :, new]) - pr.velocity_max).sum(axis=(1, 2))
-    converged = st.converged.reshape(b, s).all(axis=1)
+        v_case = np.maximum(0.0, np.abs(velocity[:, :, new]) - pr.velocity_max).sum(axis=2)
+    v_excess = v_case.sum(axis=1)
+    converged_case = st.converged.reshape(b, s)
+    converged = converged_case.all(axis=1)
     violation = short.sum(axis=(1, 2)) + v_excess + np.where(converged, 0.0, _UNSOLVED)
+    case_violation = short.sum(axis=2) + v_case + np.where(converged_case, 0.0, _UNSOLVED)
     shortfall = short.max(axis=(1, 2))
     power = np.zeros((b, t_, k_))
     lc = None
     cost = capital.copy()
+    # power given to the water by every pumped source, rho g Q H, only while it delivers
+    q_out = np.maximum(source_flow, 0.0)
+    water_w = (pr.density * fr.GRAVITY * q_out * lift).sum(axis=2)              # (B, S)
     if pr.pumped and pr.economics is not None:
-        # electrical power of every pumped source: rho g Q H / eta, only while it delivers
-        q_out = np.maximum(source_flow, 0.0)
-        power = ((pr.density * fr.GRAVITY * q_out * lift).sum(axis=2)
-                 / pr.economics.efficiency / 1000.0).reshape(b, t_, k_)
+        # electrical power: rho g Q H / eta
+        power = (water_w / pr.economics.efficiency / 1000.0).reshape(b, t_, k_)
         lc = life_cycle(pr.economics, capital, power)
         cost = lc.pv_total
     feasible = converged & (violation <= HEAD_TOLERANCE * max(1, s * j))
@@ -392,7 +403,8 @@ def evaluate(problem: DesignProblem, choice: Any, flow0: np.ndarray | None = Non
                       energy_residual=st.energy_residual.reshape(b, s).max(axis=1),
                       mass_residual=st.mass_residual.reshape(b, s).max(axis=1),
                       source_flow=source_flow,
-                      transitional=st.transitional.reshape(b, s).max(axis=1))
+                      transitional=st.transitional.reshape(b, s).max(axis=1),
+                      case_violation=case_violation, hydraulic_kw=water_w / 1000.0)
 
 
 class _SeriesLaw:

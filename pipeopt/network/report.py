@@ -103,6 +103,9 @@ def network_report_files(result) -> dict[str, str | bytes]:
     png = _figure_png(result)
     tables = {"pipes": result.pipes, "nodes": result.nodes, "cases": result.cases,
               "cash_flows": result.cash_flows}
+    if result.monte_carlo is not None:
+        tables["monte_carlo"] = result.monte_carlo.designs
+        tables["monte_carlo_correlation"] = result.monte_carlo.correlation
     provenance = _provenance(result)
     cautions = [CAUTION, NETWORK_CAUTION]
     md = "\n".join([

@@ -458,15 +458,20 @@ class NetworkStudy(StudyFileMixin):
         return study
 
     # ----- running ---------------------------------------------------------------------------
-    def run(self, progress: bool | None = None, method: str = "auto") -> NetworkResult:
+    def run(self, progress: bool | None = None, method: str = "auto",
+            uncertainty: bool = True) -> NetworkResult:
         """Size the pipes and check every junction's pressure.
 
         Parameters
         ----------
         progress : bool, optional
-            Progress bar of the looped search (default: when standard error is a terminal).
+            Progress bars of the looped search and the Monte Carlo (default: when standard
+            error is a terminal).
         method : {"auto", "milp", "search"}
             ``"auto"``: exact programming when the network is branched, the search otherwise.
+        uncertainty : bool
+            Where the study has ``[uncertainty]`` and a design was found, also run its Monte
+            Carlo (:meth:`monte_carlo`) and attach it to the result.
 
         Returns
         -------
@@ -491,7 +496,22 @@ class NetworkStudy(StudyFileMixin):
         else:
             outcome = ds.design_looped(pr, seed=o.seed, evaluations=o.evaluations,
                                        chains=o.chains, target=o.target, progress=progress)
-        return NetworkResult.build(self, outcome)
+        result = NetworkResult.build(self, outcome)
+        if uncertainty and self.uncertainty and result.success:
+            result.monte_carlo = self.monte_carlo(result=result, progress=progress)
+        return result
+
+    def monte_carlo(self, distributions: dict[str, Any] | None = None, n: int | None = None,
+                    seed: int | None = None, designs: int | None = None, result: Any = None,
+                    progress: bool | None = None) -> Any:
+        """Monte Carlo of the life-cycle cost of the chosen design and its runners-up.
+
+        See :func:`pipeopt.network.uncertainty.monte_carlo`; the arguments default to the
+        study's ``[uncertainty]``.
+        """
+        from .uncertainty import monte_carlo
+
+        return monte_carlo(self, distributions, n, seed, designs, result, progress)
 
     def __repr__(self) -> str:
         n_new = self.problem.n_design
@@ -539,6 +559,8 @@ class NetworkResult(StudyResult):
     cases : pandas.DataFrame
         One row per demand case (duty point, year): total demand, pump head, power, least
         margin, the hydraulic residuals.
+    monte_carlo : NetworkMonteCarloResult or None
+        The Monte Carlo of the study's ``[uncertainty]``, where it has one.
     cash_flows : pandas.DataFrame
         The chosen design's money year by year (:class:`~pipeopt.cashflow.CashFlows`): ``year``
         0 … N, ``capital_pipe``, ``capital_station``, ``station_renewal``, ``energy``,
@@ -558,6 +580,7 @@ class NetworkResult(StudyResult):
     cases: pd.DataFrame = field(repr=False, default_factory=pd.DataFrame)
     cash_flows: pd.DataFrame = field(repr=False, default_factory=pd.DataFrame)
     critical_case: int = 0
+    monte_carlo: Any = field(repr=False, default=None)
 
     @property
     def currency(self) -> str:
@@ -665,8 +688,11 @@ class NetworkResult(StudyResult):
         return f"{self.study.name}: total cost {self.total_cost:,.0f}{cur}; {state}"
 
     def tables(self) -> dict[str, pd.DataFrame]:
-        return {"Pipes": self.pipes, "Nodes": self.nodes.drop(columns=["x_m", "y_m"]),
-                "Demand cases": self.cases, "Cash flows": self.cash_flows}
+        out = {"Pipes": self.pipes, "Nodes": self.nodes.drop(columns=["x_m", "y_m"]),
+               "Demand cases": self.cases, "Cash flows": self.cash_flows}
+        if self.monte_carlo is not None:
+            out.update(self.monte_carlo.tables())
+        return out
 
     def text(self) -> str:
         """A plain-text summary: cost, method, sizes, pressures, the hydraulic check, caution."""
@@ -728,6 +754,8 @@ class NetworkResult(StudyResult):
         if s.fluid_is_default and pr.head_loss == "darcy-weisbach":
             lines.append("Fluid: water at 15 degC (no [fluid] section)")
         lines += [f"Note: {n}" for n in s.notes]
+        if self.monte_carlo is not None:
+            lines += ["", self.monte_carlo.text()]
         lines += ["", "Caution: " + CAUTION]
         return "\n".join(lines)
 
