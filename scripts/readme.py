@@ -119,6 +119,23 @@ def error_example() -> str:
     raise AssertionError("the example should fail")
 
 
+def demo_network_study() -> str:
+    """An excerpt of the demo network: one table of each kind, in the file's order."""
+    wanted = [("[network]", None), ("[[duty]]", "peak hour"), ("[[source]]", None),
+              ("[[node]]", "Vellum Heights"), ("[[pipe]]", "cross link"),
+              ("[[pipe]]", "old Nibsworth main"), ("[[diameter_option]]", "DN 200")]
+    keep = []
+    for block in _demo_file("demo_network.toml").split("\n\n"):
+        lines = [x for x in block.splitlines() if not x.startswith("#")]
+        if not lines:
+            continue
+        name = next((x for x in lines if x.startswith("name = ")), "")
+        if any(lines[0] == head and (want is None or name.startswith(f'name = "{want}"'))
+               for head, want in wanted):
+            keep.append("\n".join(lines))
+    return "\n\n".join(keep)
+
+
 def network_demo() -> str:
     import contextlib
     import io
@@ -145,6 +162,7 @@ def programme_demo() -> str:
 
 GENERATORS = {
     "programme-demo": programme_demo,
+    "network-demo-study": demo_network_study,
     "network-demo": network_demo,
     "demo-sizing-study": demo_sizing_study,
     "demo-sizing-output": demo_sizing_output,

@@ -32,7 +32,8 @@ LAYERS = {
     "plots": 4, "widgets": 4, "report": 4, "cli": 4, "outputs": 4,
     "programme_report": 4,
     # the network subpackage, by module
-    "network": 3, "network.hydraulics": 1, "network.published": 2, "network.lifecycle": 2,
+    "network": 3, "network.inputs": 3, "network.uncertainty": 3, "network.hydraulics": 1,
+    "network.published": 2, "network.lifecycle": 2,
     "network.design": 2, "network.study": 3, "network.plots": 4, "network.report": 4,
 }
 NAMES = {0: "base", 1: "physics", 2: "model", 3: "study", 4: "presentation"}

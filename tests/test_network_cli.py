@@ -53,6 +53,18 @@ def test_network_file_writes_the_report(tmp_path):
         assert (tmp_path / "res" / name).is_file()
 
 
+def test_a_network_file_with_uncertainty_prints_and_writes_its_monte_carlo(tmp_path, capsys):
+    f = quick_file(tmp_path)
+    f.write_text(f.read_text(encoding="utf-8") + "\n[uncertainty]\nsamples = 200\nseed = 3\n"
+                 "energy_price = { distribution = \"uniform\", low = 0.1, high = 0.2 }\n",
+                 encoding="utf-8")
+    code = main(["network", str(f), "--out", str(tmp_path / "res")])
+    assert code == 0
+    out = capsys.readouterr().out
+    assert "Monte Carlo of the life-cycle cost: 200 samples (seed 3)" in out
+    assert (tmp_path / "res" / "monte_carlo.csv").is_file()
+
+
 def test_a_full_output_folder_is_kept_without_force(tmp_path, capsys):
     f = quick_file(tmp_path)
     res = tmp_path / "res"

@@ -331,3 +331,60 @@ def test_pipes_in_the_transition_band_are_counted():
     re = 4 * 0.00025 / (np.pi * 0.1 * pr.viscosity / pr.density)
     assert 2000 < re < 4000
     assert int(ev.transitional[0]) == 1
+
+
+def test_pumped_tree_with_a_staged_station_equals_enumeration():
+    # the tree above with demands growing 3 % a year for 30 years and the station built in two
+    # stages (years 0 and 12): the programme's design against every design priced by hand
+    # (stage 0 sized on the largest peak of years 1-12, stage 1 on the rest of the largest of
+    # years 1-30; each bought again after 15 years while before the horizon; straight-line
+    # residuals; maintenance of each stage once built)
+    g = NetworkGraph(3, 1, [3, 0, 0], [0, 1, 2])
+    length = np.array([1500.0, 700.0, 900.0])
+    sizes = np.array([0.15, 0.2, 0.25, 0.3])
+    cost = 1200.0 * sizes**1.3
+    base = np.array([[0.01, 0.015, 0.02], [0.02, 0.03, 0.04]])      # two duty points
+    elevation = np.array([30.0, 35.0, 28.0])
+    hours = (6000.0, 2000.0)
+    n, i, growth = 30, 0.06, 0.03
+    grown = (1 + growth) ** np.arange(n)                             # compound, from year 1
+    station = PumpStationCost(8000.0, 0.7, 0.5, 15, 0.02, stages=(0, 12))
+    duty = DutyProfile.from_si(flows=tuple(base.sum(axis=1)), hours=hours, growth=growth)
+    econ = NetworkEconomics(duty, 0.7, EnergyTariff(0.15, 0.01, 40.0), station, i, n, 60.0,
+                            0.005)
+    pr = DesignProblem(graph=g, length=length, design=np.arange(3), option_diameter=sizes,
+                       option_cost=cost, allowed=np.ones((3, 4), bool),
+                       demand=grown[:, None, None] * base[None],
+                       elevation=elevation, min_head=np.full(3, 20.0), source_head=[10.0],
+                       suction_level=[10.0], free_pump=True, head_loss="hazen-williams",
+                       option_c_factor=130.0, density=999.0, economics=econ)
+    out = design_branched(pr)
+    t = np.arange(1, n + 1)
+    disc = (1 + i) ** -t
+    price = 0.15 * 1.01 ** (t - 1)
+    best, best_combo = np.inf, None
+    for combo in itertools.product(range(4), repeat=3):
+        d = sizes[list(combo)]
+        dem = grown[:, None, None] * base[None]                      # (N, K, J)
+        q = np.stack([dem.sum(axis=2), dem[..., 1], dem[..., 2]], axis=-1)
+        h = hw_head_loss(q, length, d, 130.0, 10.5088)
+        head_a = 10 - h[..., 0]
+        need = np.maximum.reduce([elevation[0] + 20 - head_a,
+                                  elevation[1] + 20 - (head_a - h[..., 1]),
+                                  elevation[2] + 20 - (head_a - h[..., 2])])
+        power = 999.0 * G * dem.sum(axis=2) * np.maximum(need, 0.0) / 0.7 / 1000.0  # (N, K)
+        peak = power.max(axis=1)
+        pv_energy = (((power * hours).sum(axis=1) * price + 40.0 * peak) * disc).sum()
+        p0, p1 = peak[:12].max(), peak.max()
+        c0, c1 = 8000.0 * (1.5 * p0) ** 0.7, 8000.0 * (1.5 * (p1 - p0)) ** 0.7
+        c_pipe = float((cost[list(combo)] * length).sum())
+        pv = (c_pipe + pv_energy + c0 * (1 + (1 + i) ** -15) + c1 * ((1 + i) ** -12
+                                                                       + (1 + i) ** -27)
+              + 0.005 * c_pipe * disc.sum() + 0.02 * (c0 * disc.sum() + c1 * disc[12:].sum())
+              - (0.5 * c_pipe + 0.0 * c0 + (1 - 3 / 15) * c1) * (1 + i) ** -n)
+        if pv < best:
+            best, best_combo = pv, combo
+    assert out.success
+    assert tuple(out.choice) == best_combo
+    assert out.cost == pytest.approx(best, rel=1e-9)
+    assert out.gap is not None and out.gap <= 1e-3

@@ -9,6 +9,7 @@ from pipeopt.costs import EnergyTariff, PumpStationCost
 from pipeopt.duty import DutyProfile
 from pipeopt.errors import InputError
 from pipeopt.network.lifecycle import NetworkEconomics, life_cycle, year_weights
+from pipeopt.variations import Variations
 
 
 def economics(**kw):
@@ -69,7 +70,8 @@ def test_year_weights_reproduce_the_present_values():
     assert (energy * w["energy"] + peak * w["demand"]).sum() == pytest.approx(
         lc.pv_energy[0], rel=1e-12)
     station = lc.capex_pump_station[0]
-    assert 5e5 * w["pipe"] + station * w["station"] + lc.pv_energy[0] == pytest.approx(
+    assert w["station"].shape == (1,)
+    assert 5e5 * w["pipe"] + station * w["station"][0] + lc.pv_energy[0] == pytest.approx(
         lc.pv_total[0], rel=1e-12)
 
 
@@ -84,5 +86,80 @@ def test_shapes_are_checked():
         life_cycle(economics(), [1e5], np.zeros((40, 2)))
     with pytest.raises(InputError, match="the horizon is 40"):
         life_cycle(economics(), [1e5], np.zeros((1, 7, 2)))
-    with pytest.raises(InputError, match="efficiency"):
+    with pytest.raises(InputError, match=r"pumping\.efficiency must be > 0 and <= 1; got 1\.5"):
         economics(efficiency=1.5)
+    with pytest.raises(InputError, match=r"economics\.horizon must be a whole number"):
+        economics(horizon=30.5)
+
+
+# ----- the yearly cash flows and the station's stages ------------------------------------------
+def test_cash_flows_reconcile_to_the_present_value():
+    # every row discounted by the test's own factor 1.05^-t sums to pv_total (to 1e-9)
+    econ = economics()
+    power = np.random.default_rng(2).uniform(20, 60, size=(3, 40, 2))
+    lc = life_cycle(econ, [1.2e6, 0.9e6, 1.5e6], power, yearly=True)
+    for b in range(3):
+        table = lc.cash_flows.frame(0, b)
+        t = table["year"].to_numpy(dtype=float)
+        rows = table.drop(columns=["year", "total", "discount_factor", "discounted"])
+        assert (rows.sum(axis=1) * 1.05**-t).sum() == pytest.approx(lc.pv_total[b], rel=1e-9)
+        assert table["discounted"].sum() == pytest.approx(lc.pv_total[b], rel=1e-9)
+        # the capital and the station renewals fall in the years the model says
+        assert table.loc[table["year"] == 0, "capital_pipe"].item() == pytest.approx(
+            lc.capex_pipe[b])
+        renewals = table.loc[table["station_renewal"] > 0, "year"].tolist()
+        assert renewals == [15, 30]
+
+
+def test_a_station_in_two_stages_by_hand():
+    # stages at years 0 and 12, life 15, horizon 40: stage 0 sized on the largest peak of years
+    # 1-12 and bought at 0, 15, 30 (residual 1 - 10/15); stage 1 adds the rest of the largest
+    # peak of years 1-40, bought at 12 and 27 (residual 1 - 13/15); maintenance 0.02 of each
+    # stage while in service (stage 1 from year 13)
+    station = PumpStationCost(8500.0, 0.7, 0.5, 15, 0.02, stages=(0, 12))
+    econ = economics(pump_station=station)
+    power = np.linspace(20.0, 60.0, 40)[None, :, None] * np.array([1.0, 1.2])   # growing
+    lc = life_cycle(econ, [1e6], power, yearly=True)
+    peak = power[0].max(axis=1)
+    p0, p1 = peak[:12].max(), peak.max()
+    c0, c1 = 8500.0 * (1.5 * p0) ** 0.7, 8500.0 * (1.5 * (p1 - p0)) ** 0.7
+    t = np.arange(1, 41)
+    disc = 1.05**-t
+    pv_station = (c0 * (1 + 1.05**-15 + 1.05**-30) + c1 * (1.05**-12 + 1.05**-27)
+                  + 0.02 * (c0 * disc.sum() + c1 * disc[12:].sum())
+                  - (c0 * (1 - 10 / 15) + c1 * (1 - 13 / 15)) * 1.05**-40)
+    assert lc.capex_pump_station[0] == pytest.approx(c0 + c1, rel=1e-12)
+    assert lc.installed_power_kw[0] == pytest.approx(1.5 * p1, rel=1e-12)
+    station_terms = (lc.pv_pump_station + lc.pv_replacement + lc.pv_maintenance
+                     - 0.004 * 1e6 * disc.sum() - lc.pv_residual
+                     + 1e6 * (1 - 40 / 70) * 1.05**-40)
+    assert station_terms[0] == pytest.approx(pv_station, rel=1e-10)
+    w = year_weights(econ)
+    assert w["stage_last"].tolist() == [12, 40]
+    assert (w["station"] * [c0, c1]).sum() == pytest.approx(pv_station, rel=1e-10)
+
+
+def test_each_sample_uses_its_own_inputs_and_horizon():
+    # a batch of samples equals the same inputs evaluated one at a time
+    econ = economics()
+    power = np.random.default_rng(3).uniform(20, 60, size=(2, 40, 2))
+    values = {"energy_price": np.array([0.1, 0.2, 0.15]), "horizon": np.array([20, 40, 33]),
+              "discount_rate": np.array([0.03, 0.05, 0.08]),
+              "efficiency": np.array([0.6, 0.7, 0.8]),
+              "station_cost_factor": np.array([0.8, 1.0, 1.3]),
+              "pipe_cost_factor": np.array([1.1, 1.0, 0.9])}
+    batch = life_cycle(econ, [1e6, 8e5], power, variations=Variations.of(values),
+                       yearly=True)
+    for k in range(3):
+        one = {n: v[k:k + 1] for n, v in values.items()}
+        single = life_cycle(econ, [1e6, 8e5], power, variations=Variations.of(one),
+                            yearly=True)
+        np.testing.assert_allclose(batch.pv_total[k], single.pv_total[0], rtol=1e-12)
+        np.testing.assert_allclose(batch.eac[k], single.eac[0], rtol=1e-12)
+        table = batch.cash_flows.frame(k, 1)
+        assert table["year"].iloc[-1] == values["horizon"][k]
+        assert table["discounted"].sum() == pytest.approx(batch.pv_total[k, 1], rel=1e-9)
+    # the efficiency scales the power: at 0.35 the energy of the base case doubles
+    half = life_cycle(econ, [1e6, 8e5], power, variations=Variations.of({"efficiency": 0.35}))
+    base = life_cycle(econ, [1e6, 8e5], power)
+    np.testing.assert_allclose(half.pv_energy[0], 2 * base.pv_energy, rtol=1e-12)

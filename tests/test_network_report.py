@@ -10,7 +10,8 @@ import pytest
 
 from pipeopt.network import NetworkStudy
 from pipeopt.network.report import write_network_report
-from pipeopt.report import CAUTIONS
+from pipeopt.network.study import NETWORK_CAUTION
+from pipeopt.results import CAUTION
 
 
 @pytest.fixture(scope="module")
@@ -26,9 +27,8 @@ def report(tmp_path_factory):
 def test_files_are_written(report):
     result, out, written = report
     names = {p.relative_to(out).as_posix() for p in written}
-    assert names == {"manifest.json", "pipes.csv", "nodes.csv", "cases.csv",
-                     "figures/network.png",
-                     "report.md", "report.html"}
+    assert names == {"manifest.json", "pipes.csv", "nodes.csv", "cases.csv", "cash_flows.csv",
+                     "figures/network.png", "report.md", "report.html"}
     assert not list(out.rglob("*.tmp"))
     pipes = pd.read_csv(out / "pipes.csv")
     assert list(pipes["pipe"]) == list(result.pipes["pipe"])
@@ -40,16 +40,26 @@ def test_reports_carry_the_cautions_summary_and_sources(report):
     md = (out / "report.md").read_text(encoding="utf-8")
     html = (out / "report.html").read_text(encoding="utf-8")
     for text in (md, html):
-        for caution in CAUTIONS:
-            assert caution.split(".")[0] in text
+        # the shared caution, then the network's own sentence
+        assert CAUTION.split(":")[0] in text and NETWORK_CAUTION.split(":")[0] in text
+        assert "study aid" not in text.lower()
         assert "ILLUSTRATIVE" in text
         assert "EN 545" in text            # the catalog's source of the candidate bores
     assert result.text().splitlines()[0] in md
     assert "data:image/png;base64," in html  # self-contained
 
 
+def test_cash_flows_file_reconciles_to_the_present_value(report):
+    result, out, _ = report
+    cash = pd.read_csv(out / "cash_flows.csv")
+    # the rows, discounted at 5 % by the test's own factor, sum to the life-cycle cost
+    factor = 1.05 ** -cash["year"].to_numpy(dtype=float)
+    rows = cash.drop(columns=["year", "total", "discount_factor", "discounted"])
+    assert (rows.sum(axis=1) * factor).sum() == pytest.approx(result.total_cost, rel=1e-9)
+
+
 def test_same_result_same_tables(report, tmp_path):
     result, out, _ = report
     write_network_report(result, tmp_path)
-    for name in ("pipes.csv", "nodes.csv", "cases.csv", "report.md"):
+    for name in ("pipes.csv", "nodes.csv", "cases.csv", "cash_flows.csv", "report.md"):
         assert (tmp_path / name).read_bytes() == (out / name).read_bytes()

@@ -41,7 +41,7 @@ def test_demo_result_tables_and_success(demo_result):
     assert r.total_cost == pytest.approx(r.costs["pv_total"])
     assert r.total_cost > r.costs["capex_pipe"]
     # the spur may only take the four sizes the file allows
-    spur = r.pipes.set_index("pipe").loc["Lockside spur", "size"]
+    spur = r.pipes.set_index("pipe").loc["Gallnut spur", "size"]
     assert spur in ("DN 100", "DN 125", "DN 150", "DN 200")
 
 
@@ -158,7 +158,7 @@ def test_hazen_williams_settings_are_read_and_used():
     pr = r.study.problem
     assert pr.hazen_williams == (10.667, 4.871, 1.852)
     # the old main's head loss by the test's own Hazen-Williams at the reported flow
-    row = r.pipes.set_index("pipe").loc["old Abbey main"]
+    row = r.pipes.set_index("pipe").loc["old Nibsworth main"]
     h = hw_head_loss(row["flow_m3_s"], 850.0, 0.15, 90.0, 10.667, 1.852, 4.871)
     assert row["head_loss_m"] == pytest.approx(h, rel=1e-9)
 
@@ -193,9 +193,9 @@ _DELETE = object()
         (("network", "head_los"), "x", r"network\.head_los: unknown key; did you mean "
                                         r"'network\.head_loss'"),
         (("network", "head_loss"), "manning", r"network\.head_loss: must be one of"),
-        (("pipe", 1, "to"), "Market Sqare", r"pipe\[1\]\.to: no node or source is named "
-                                            r"'Market Sqare'; did you mean 'Market Square'"),
-        (("node", 1, "name"), "Station Road", r"'Station Road' is used twice"),
+        (("pipe", 1, "to"), "Inkwell Sqare", r"pipe\[1\]\.to: no node or source is named "
+                                            r"'Inkwell Sqare'; did you mean 'Inkwell Square'"),
+        (("node", 1, "name"), "Quill Cross", r"'Quill Cross' is used twice"),
         (("economics",), _DELETE, r"economics: required section \[economics\] is missing"),
         (("diameter_option", 0, "cost_per_metre"), 90.0, r"diameter_option\[0\]: give "
                                                          r"cost_per_metre .* one of the two"),
@@ -209,6 +209,15 @@ _DELETE = object()
         (("node", 0, "min_pressure_head"), "-3 m", r"node\[0\]\.min_pressure_head: must not "
                                                    r"be negative"),
         (("duty", 1, "hours"), _DELETE, r"duty\[1\]\.hours: required key is missing"),
+        (("duty", 0, "demand_factor"), -1.0, r"duty\[0\]\.demand_factor: must not be negative"),
+        (("optimizer", "chains"), 0, r"optimizer\.chains: must be >= 1; got 0"),
+        (("optimizer", "seed"), 1.5, r"optimizer\.seed: expected a whole number"),
+        (("network", "split_pipes"), "yes", r"network\.split_pipes: expected true or false"),
+        (("node", 4, "demand"), _DELETE, r"node\[4\]\.demand: required key is missing"),
+        (("source", 0, "pumped"), False, r"source\[0\]\.level: only a pumped source"),
+        (("pipe", 2, "length"), "0 m", r"pipe\[2\]\.length: must be positive"),
+        (("diameter_option", 1, "cost", "exponent"), 9.0,
+         r"diameter_option\[1\]\.cost\.exponent: must be <= 4"),
     ],
 )
 def test_study_file_errors_name_the_key(path, value, match):
@@ -220,8 +229,8 @@ def test_study_file_errors_name_the_key(path, value, match):
 
 def test_a_second_source_next_to_a_free_pump_is_refused():
     d = demo_dict()
-    d["source"].append({"name": "Beacon tank", "head": "95 m"})
-    d["pipe"].append({"name": "tank main", "from": "Beacon tank", "to": "Hillcrest",
+    d["source"].append({"name": "Blotting tank", "head": "95 m"})
+    d["pipe"].append({"name": "tank main", "from": "Blotting tank", "to": "Vellum Heights",
                       "length": "600 m"})
     with pytest.raises(StudyFileError, match="a pumped source without a head may only feed"):
         NetworkStudy.from_dict(d)
@@ -229,14 +238,15 @@ def test_a_second_source_next_to_a_free_pump_is_refused():
 
 def test_topology_errors_reach_the_user_with_names():
     d = gravity_dict()
-    d["node"].append({"name": "Orchard End", "elevation": "40 m", "demand": "1 L/s"})
-    with pytest.raises(StudyFileError, match="Orchard End: is disconnected"):
+    d["node"].append({"name": "Quire End", "elevation": "40 m", "demand": "1 L/s"})
+    with pytest.raises(StudyFileError, match="Quire End: is disconnected"):
         NetworkStudy.from_dict(d)
     d = gravity_dict()
-    d["node"] += [{"name": "Far Row", "elevation": "40 m", "demand": "1 L/s"},
-                  {"name": "Far Lane", "elevation": "40 m", "demand": "1 L/s"}]
-    d["pipe"].append({"name": "island", "from": "Far Row", "to": "Far Lane", "length": "90 m"})
-    with pytest.raises(StudyFileError, match="Far Row: has no path to any source"):
+    d["node"] += [{"name": "Ferrule Row", "elevation": "40 m", "demand": "1 L/s"},
+                  {"name": "Ferrule Lane", "elevation": "40 m", "demand": "1 L/s"}]
+    d["pipe"].append({"name": "island", "from": "Ferrule Row", "to": "Ferrule Lane",
+                      "length": "90 m"})
+    with pytest.raises(StudyFileError, match="Ferrule Row: has no path to any source"):
         NetworkStudy.from_dict(d)
 
 
@@ -257,3 +267,137 @@ def test_copy_of_the_demo_dict_is_not_changed_by_reading():
     before = copy.deepcopy(d)
     NetworkStudy.from_dict(d)
     assert d == before
+
+
+# ----- the sections a network shares with a sizing study ---------------------------------------
+def sizing_dict() -> dict:
+    text = resources.files("pipeopt").joinpath("data", "demo_sizing.toml").read_text("utf-8")
+    return tomllib.loads(text)
+
+
+@pytest.mark.parametrize(
+    ("section", "key", "value"),
+    [
+        ("energy", "price", -0.1),
+        ("energy", "escalation", 0.9),
+        ("economics", "horizon", 300),
+        ("economics", "discount_rat", 0.05),
+        ("pumping", "efficiency", 1.2),
+        ("pump_station", "life", 2.5),
+        ("pump_station", "stages", [5, 10]),
+        ("growth", "flow_per_year", 0.9),
+        ("growth", "design_year", 0),
+        ("fluid", "temperature", 15),
+        ("fluid", "kind", "oil"),
+        ("study", "illustrative", "yes"),
+    ],
+)
+def test_shared_sections_answer_as_in_a_sizing_study(section, key, value):
+    # the same key, rule and message from a network file as from a sizing file
+    messages = []
+    for d, study in ((sizing_dict(), None), (demo_dict(), NetworkStudy)):
+        d.setdefault(section, {})[key] = value
+        if study is None:
+            from pipeopt import SizingStudy as study
+        with pytest.raises(StudyFileError) as err:
+            study.from_dict(d)
+        messages.append(str(err.value))
+    assert messages[0] == messages[1]
+    assert f"{section}." in messages[1]
+
+
+def test_a_gravity_network_needs_no_economics_but_a_pumped_one_does():
+    r = NetworkStudy.from_dict(gravity_dict())
+    assert r.problem.economics is None
+    for name in ("pumping", "energy"):
+        d = demo_dict()
+        d.pop(name)
+        with pytest.raises(StudyFileError, match=rf"{name}: required section \[{name}\] is "
+                                                 rf"missing \(a pumped network needs"):
+            NetworkStudy.from_dict(d)
+    d = gravity_dict()
+    d["pumping"] = {"efficiency": 0.7}
+    assert "not used: [pumping]" in NetworkStudy.from_dict(d).notes[0]
+
+
+def test_cash_flows_reconcile_to_the_life_cycle_cost(demo_result):
+    cash = demo_result.cash_flows
+    assert cash["year"].tolist() == list(range(41))            # economics.horizon = 40
+    rows = cash.drop(columns=["year", "total", "discount_factor", "discounted"])
+    factor = 1.05 ** -cash["year"].to_numpy(dtype=float)       # economics.discount_rate 5 %
+    assert (rows.sum(axis=1) * factor).sum() == pytest.approx(demo_result.total_cost,
+                                                               rel=1e-9)
+    assert cash["capital_pipe"].iloc[0] == pytest.approx(demo_result.costs["capex_pipe"])
+    # the station (life 20) is bought at year 0 and again at year 20
+    assert cash.loc[cash["station_renewal"] > 0, "year"].tolist() == [20]
+
+
+def test_a_gravity_network_s_cash_flow_is_its_pipe_capital():
+    r = NetworkStudy.from_dict(gravity_dict()).run(progress=False)
+    assert r.cash_flows["year"].tolist() == [0]
+    assert r.cash_flows["discounted"].sum() == pytest.approx(r.total_cost, rel=1e-15)
+
+
+def test_a_declining_gravity_network_is_checked_at_its_largest_demands():
+    # demands that fall 2 % a year are largest in year 1: the check uses year 1's demands
+    d = gravity_dict()
+    d["growth"] = {"flow_per_year": -0.02}
+    d["economics"] = {"discount_rate": 0.05, "horizon": 30, "pipe_life": 80}
+    study = NetworkStudy.from_dict(d)
+    base = NetworkStudy.from_dict(gravity_dict()).problem.demand
+    np.testing.assert_allclose(study.problem.demand, base, rtol=1e-15)
+    d["growth"] = {"flow_per_year": 0.02}
+    grown = NetworkStudy.from_dict(d).problem.demand
+    np.testing.assert_allclose(grown, base * 1.02**29, rtol=1e-12)   # year 30
+
+
+def test_growth_stops_at_the_design_year_and_the_cap():
+    d = demo_dict()
+    d["pipe"] = [p for p in d["pipe"] if p["name"] not in ("cross link", "ring 4")]
+    d["growth"] = {"flow_per_year": 0.03, "design_year": 10}
+    demand = NetworkStudy.from_dict(d).problem.demand.sum(axis=2)[:, 0]   # average day
+    assert demand[9] / demand[0] == pytest.approx(1.03**9, rel=1e-12)
+    assert demand[-1] == pytest.approx(demand[9], rel=1e-15)
+    total = demand[0]                                     # 45 L/s on an average day
+    d["growth"] = {"flow_per_year": 0.03, "flow_cap": f"{1.5 * 1.9 * total} m^3/s"}
+    peak = NetworkStudy.from_dict(d).problem.demand.sum(axis=2)[:, 1]      # peak hour
+    assert peak.max() == pytest.approx(1.5 * 1.9 * total, rel=1e-12)
+    d["growth"] = {"flow_per_year": 0.03, "flow_cap": "10 L/s"}
+    with pytest.raises(StudyFileError, match=r"growth\.flow_cap .* is below the largest"):
+        NetworkStudy.from_dict(d)
+
+
+def test_station_stages_in_a_network_file():
+    d = demo_dict()
+    d["pipe"] = [p for p in d["pipe"] if p["name"] not in ("cross link", "ring 4")]
+    d["growth"] = {"flow_per_year": 0.02}
+    d["pump_station"]["stages"] = [0, 15]
+    r = NetworkStudy.from_dict(d).run()
+    cash = r.cash_flows
+    assert cash.loc[cash["capital_station"] > 0, "year"].tolist() == [0, 15]
+    assert cash["discounted"].sum() == pytest.approx(r.total_cost, rel=1e-9)
+
+
+def test_the_study_is_frozen_and_replace_builds_another():
+    study = NetworkStudy.demo()
+    with pytest.raises(AttributeError, match="cannot be changed"):
+        study.settings = None
+    from pipeopt.costs import EnergyTariff
+
+    dearer = study.replace(tariff=EnergyTariff(0.28, 0.01, 60.0))
+    assert dearer.problem.economics.tariff.price == 0.28
+    assert study.problem.economics.tariff.price == 0.14
+    with pytest.raises(ValueError, match="replace: unknown argument 'tarif'"):
+        study.replace(tarif=None)
+
+
+def test_the_result_follows_the_result_protocol(demo_result):
+    from pipeopt.results import CAUTION, StudyResult
+
+    assert isinstance(demo_result, StudyResult)
+    text = demo_result.text()
+    assert str(demo_result) == text
+    assert CAUTION in text and "fire flows" in text
+    assert "study aid" not in text.lower()
+    assert repr(demo_result).startswith("<NetworkResult: Quillmere ring main")
+    assert set(demo_result.tables()) == {"Pipes", "Nodes", "Demand cases", "Cash flows"}

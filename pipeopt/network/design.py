@@ -275,6 +275,11 @@ class Evaluation:
     transitional : ndarray of int, shape (B,)
         Most pipes in the laminar-turbulent band (2000 <= Re < 4000) in any case
         (Darcy–Weisbach only).
+    case_violation : ndarray, shape (B, S)
+        The violation of each demand case alone (pressure shortfalls, excess velocities, a
+        large number where the hydraulics did not converge).
+    hydraulic_kw : ndarray, shape (B, S)
+        Power the pumped sources give the water, ρ g Q H, in each case [kW] (0 for gravity).
     """
 
     cost: np.ndarray
@@ -294,6 +299,8 @@ class Evaluation:
     mass_residual: np.ndarray
     source_flow: np.ndarray
     transitional: np.ndarray
+    case_violation: np.ndarray
+    hydraulic_kw: np.ndarray
 
 
 def evaluate(problem: DesignProblem, choice: Any, flow0: np.ndarray | None = None,
@@ -368,20 +375,24 @@ def evaluate(problem: DesignProblem, choice: Any, flow0: np.ndarray | None = Non
         pump = (lift * (source_flow > 0)).max(axis=2)
     short = np.maximum(0.0, required - head)                                  # (B, S, J)
     velocity = flow / (np.pi * diam_for_velocity[:, None, :] ** 2 / 4.0)
-    v_excess = np.zeros(b)
+    v_case = np.zeros((b, s))
     if pr.velocity_max is not None:
-        v_excess = np.maximum(0.0, np.abs(velocity[:, :, new]) - pr.velocity_max).sum(axis=(1, 2))
-    converged = st.converged.reshape(b, s).all(axis=1)
+        v_case = np.maximum(0.0, np.abs(velocity[:, :, new]) - pr.velocity_max).sum(axis=2)
+    v_excess = v_case.sum(axis=1)
+    converged_case = st.converged.reshape(b, s)
+    converged = converged_case.all(axis=1)
     violation = short.sum(axis=(1, 2)) + v_excess + np.where(converged, 0.0, _UNSOLVED)
+    case_violation = short.sum(axis=2) + v_case + np.where(converged_case, 0.0, _UNSOLVED)
     shortfall = short.max(axis=(1, 2))
     power = np.zeros((b, t_, k_))
     lc = None
     cost = capital.copy()
+    # power given to the water by every pumped source, rho g Q H, only while it delivers
+    q_out = np.maximum(source_flow, 0.0)
+    water_w = (pr.density * fr.GRAVITY * q_out * lift).sum(axis=2)              # (B, S)
     if pr.pumped and pr.economics is not None:
-        # electrical power of every pumped source: rho g Q H / eta, only while it delivers
-        q_out = np.maximum(source_flow, 0.0)
-        power = ((pr.density * fr.GRAVITY * q_out * lift).sum(axis=2)
-                 / pr.economics.efficiency / 1000.0).reshape(b, t_, k_)
+        # electrical power: rho g Q H / eta
+        power = (water_w / pr.economics.efficiency / 1000.0).reshape(b, t_, k_)
         lc = life_cycle(pr.economics, capital, power)
         cost = lc.pv_total
     feasible = converged & (violation <= HEAD_TOLERANCE * max(1, s * j))
@@ -392,7 +403,8 @@ def evaluate(problem: DesignProblem, choice: Any, flow0: np.ndarray | None = Non
                       energy_residual=st.energy_residual.reshape(b, s).max(axis=1),
                       mass_residual=st.mass_residual.reshape(b, s).max(axis=1),
                       source_flow=source_flow,
-                      transitional=st.transitional.reshape(b, s).max(axis=1))
+                      transitional=st.transitional.reshape(b, s).max(axis=1),
+                      case_violation=case_violation, hydraulic_kw=water_w / 1000.0)
 
 
 class _SeriesLaw:
@@ -609,8 +621,10 @@ def design_branched(problem: DesignProblem, split: bool = False, gap: float = 1e
     coef_x = coef_x.reshape(s, j, n_x)
     n_pump = s if pr.free_pump else 0
     n_peak = t_ if energy else 0
-    peak_hint, upper = 0.0, 0.0
+    upper = 0.0
     q_tot = pr.demand.reshape(s, j).sum(axis=1)                              # (S,)
+    n_stage = weights["station"].size if station else 0
+    hints = np.zeros(n_stage)
     if energy:
         econ = pr.economics
         kw_per_m = pr.density * fr.GRAVITY * np.maximum(q_tot, 0.0) / econ.efficiency / 1000.0
@@ -620,13 +634,14 @@ def design_branched(problem: DesignProblem, split: bool = False, gap: float = 1e
         worst = (required[None, :] - base_head[None, :] + h_small).max(axis=1)
         upper = float((np.maximum(worst, 0.0) * kw_per_m).max())
     for _refinement in range(3 if station else 1):
-        bp = _station_breakpoints(pr, peak_hint, upper) if station else np.zeros(0)
-        n_bp = bp.size
-        n_seg = max(n_bp - 1, 0)
-        n_var = n_x + n_pump + n_peak + n_bp + n_seg + (1 if station else 0)
+        # each station stage: breakpoints of the power it adds, their weights lambda, the
+        # segments z of the SOS2 condition, and the power added (one block per stage)
+        bps = [_station_breakpoints(pr, h, upper) for h in hints]
+        sizes = [b.size + (b.size - 1) + 1 for b in bps]
         i_pump, i_peak = n_x, n_x + n_pump
-        i_lam, i_seg = i_peak + n_peak, i_peak + n_peak + n_bp
-        i_pmax = i_seg + n_seg
+        i_st = i_peak + n_peak
+        starts = i_st + np.concatenate([[0], np.cumsum(sizes)])[:-1].astype(int)
+        n_var = i_st + int(sum(sizes))
         c = np.zeros(n_var)
         c[:n_x] = cost_x
         integrality = np.zeros(n_var)
@@ -634,9 +649,9 @@ def design_branched(problem: DesignProblem, split: bool = False, gap: float = 1e
         ub[:n_x] = np.where(allowed.ravel(), np.repeat(lengths_d, m) if split else 1.0, 0.0)
         if not split:
             integrality[:n_x] = 1
-        integrality[i_seg:i_seg + n_seg] = 1
-        ub[i_lam:i_lam + n_bp] = 1.0
-        ub[i_seg:i_seg + n_seg] = 1.0
+        for b0, bp in zip(starts, bps, strict=True):
+            ub[b0:b0 + 2 * bp.size - 1] = 1.0                  # lambda and z in [0, 1]
+            integrality[b0 + bp.size:b0 + 2 * bp.size - 1] = 1   # z binary
         cons = []
         # one size per pipe (or lengths summing to the pipe)
         a_sum = sparse.kron(sparse.eye(nd), np.ones((1, m)), format="csr")
@@ -661,33 +676,13 @@ def design_branched(problem: DesignProblem, split: bool = False, gap: float = 1e
             c[i_pump:i_pump + s] = (w_e[:, None] * hours[None, :] * kw).ravel()
             c[i_peak:i_peak + t_] = w_d
             # peak_t >= power of each duty point of year t
-            # peak_t >= power of each duty point of year t
             cases = np.arange(s)
             a_pk = _rows([cases, cases], [i_pump + cases, i_peak + cases // k_],
                          [kw.ravel(), -np.ones(s)], (s, n_var))
             cons.append(optimize.LinearConstraint(a_pk, -np.inf, 0.0))
             if station:
-                ps = econ.pump_station
-                c[i_lam:i_lam + n_bp] = weights["station"] * np.asarray(ps.capital(bp))
-                lam = i_lam + np.arange(n_bp)
-                years = np.arange(t_)
-                q = np.arange(n_bp)
-                # rows: sum lambda = 1; P = sum lambda_q P_q; P >= peak_t; and the SOS2
-                # condition lambda_q <= z_(q-1) + z_q over the segments z
-                r_sos = 2 + t_ + q
-                a_st = _rows(
-                    [np.zeros(n_bp), np.ones(n_bp), [1], 2 + years, 2 + years, r_sos,
-                     r_sos[1:], r_sos[:n_seg]],
-                    [lam, lam, [i_pmax], i_peak + years, np.full(t_, i_pmax), lam,
-                     i_seg + q[1:] - 1, i_seg + q[:n_seg]],
-                    [np.ones(n_bp), bp, [-1.0], np.ones(t_), -np.ones(t_), np.ones(n_bp),
-                     -np.ones(n_bp - 1), -np.ones(n_seg)], (2 + t_ + n_bp, n_var))
-                lo_st = np.concatenate([[1.0, 0.0], np.full(t_ + n_bp, -np.inf)])
-                hi_st = np.concatenate([[1.0, 0.0], np.zeros(t_ + n_bp)])
-                cons.append(optimize.LinearConstraint(a_st, lo_st, hi_st))
-                one = _rows([np.zeros(n_seg)], [i_seg + np.arange(n_seg)], [np.ones(n_seg)],
-                            (1, n_var))
-                cons.append(optimize.LinearConstraint(one, 1.0, 1.0))
+                cons += _stage_constraints(econ.pump_station, weights, bps, starts, c,
+                                           i_peak, t_, n_var)
         res = optimize.milp(c, integrality=integrality, bounds=optimize.Bounds(lb, ub),
                             constraints=cons,
                             options={"mip_rel_gap": gap, "time_limit": time_limit,
@@ -697,7 +692,8 @@ def design_branched(problem: DesignProblem, split: bool = False, gap: float = 1e
                    "allowed sizes" if res.status == 2 else f"the solver stopped: {res.message}")
             return _failed(pr, msg, "milp", t0)
         if station:
-            peak_hint = float(res.x[i_pmax])
+            hints = np.array([res.x[b0 + 2 * bp.size - 1] for b0, bp in zip(starts, bps,
+                                                                            strict=True)])
     x = res.x[:n_x].reshape(nd, m)
     if split:
         lengths = np.where(x > 1e-9 * lengths_d[:, None], x, 0.0)
@@ -731,6 +727,46 @@ def _rows(rows: list, cols: list, vals: list, shape: tuple) -> sparse.csr_matrix
     return sparse.csr_matrix((np.concatenate([np.asarray(v, float) for v in vals]),
                               (np.concatenate([np.asarray(r, int) for r in rows]),
                                np.concatenate([np.asarray(c, int) for c in cols]))), shape=shape)
+
+
+def _stage_constraints(station: Any, weights: dict, bps: list, starts: np.ndarray,
+                       c: np.ndarray, i_peak: int, t_: int, n_var: int) -> list:
+    """Rows of the pump-station stages in the programme, and their costs (set in ``c``).
+
+    Stage j adds the power D_j = sum_q lambda_jq B_jq (sum_q lambda_jq = 1, at most two
+    neighbouring lambda non-zero: lambda_jq <= z_j(q-1) + z_jq, sum_q z_jq = 1); the stages up
+    to j cover the peak of every year before the next stage is built (all years when every
+    year is alike); its cost is the stage's present-value weight times the interpolated
+    capital sum_q lambda_jq a (B_jq (1 + s))^b, which lies below the concave curve.
+    """
+    cons = []
+    added = []
+    for jj, (b0, bp) in enumerate(zip(starts, bps, strict=True)):
+        nb = bp.size
+        ns = nb - 1
+        lam = b0 + np.arange(nb)
+        seg = b0 + nb + np.arange(ns)
+        d_j = b0 + nb + ns
+        added.append(d_j)
+        c[lam] = weights["station"][jj] * np.asarray(station.capital(bp))
+        q = np.arange(nb)
+        r_sos = 2 + q
+        a = _rows([np.zeros(nb), np.ones(nb), [1], r_sos, r_sos[1:], r_sos[:ns],
+                   np.full(ns, 2 + nb)],
+                  [lam, lam, [d_j], lam, seg[q[1:] - 1], seg, seg],
+                  [np.ones(nb), bp, [-1.0], np.ones(nb), -np.ones(ns), -np.ones(ns),
+                   np.ones(ns)], (3 + nb, n_var))
+        lo = np.concatenate([[1.0, 0.0], np.full(nb, -np.inf), [1.0]])
+        hi = np.concatenate([[1.0, 0.0], np.zeros(nb), [1.0]])
+        cons.append(optimize.LinearConstraint(a, lo, hi))
+        # peak_t - sum_{i <= j} D_i <= 0 for the years this stage covers
+        years = np.arange(1) if t_ == 1 else np.arange(int(weights["stage_last"][jj]))
+        rows_d = np.repeat(np.arange(years.size), len(added))
+        cols_d = np.tile(np.asarray(added), years.size)
+        a_pk = _rows([np.arange(years.size), rows_d], [i_peak + years, cols_d],
+                     [np.ones(years.size), -np.ones(rows_d.size)], (years.size, n_var))
+        cons.append(optimize.LinearConstraint(a_pk, -np.inf, 0.0))
+    return cons
 
 
 def _pad(a: sparse.spmatrix, n_var: int, offset: int) -> sparse.csr_matrix:

@@ -1,7 +1,8 @@
 """Report of a network study (presentation layer): tables, a map, Markdown and HTML.
 
 :func:`write_network_report` writes, into one folder, ``pipes.csv``, ``nodes.csv``,
-``cases.csv``, ``figures/network.png``, ``report.md`` and ``report.html`` (self-contained,
+``cases.csv``, ``cash_flows.csv``, ``figures/network.png``, ``report.md`` and ``report.html``
+(self-contained,
 the map embedded). Each report states the job, the summary, the model's assumptions, where the
 data come from (and which figures are illustrative) and the cautions. Every file is built first
 and then written as one result set through :func:`pipeopt.outputs.write_result_set`.
@@ -21,8 +22,9 @@ matplotlib.use("Agg", force=False)
 import matplotlib.pyplot as plt  # noqa: E402
 import pandas as pd  # noqa: E402
 
-from ..report import CAUTIONS  # noqa: E402
+from ..results import CAUTION  # noqa: E402
 from .plots import network  # noqa: E402
+from .study import NETWORK_CAUTION  # noqa: E402
 
 __all__ = ["write_network_report", "ASSUMPTIONS_NETWORK"]
 
@@ -36,10 +38,11 @@ ASSUMPTIONS_NETWORK = [
     "minor losses from each pipe's sum of K.",
     "A pumped source without a set head delivers, in each case, the least head that keeps every "
     "node at its minimum pressure.",
-    "Where pumped: pipe capital, pump station (sized on the peak demand with standby, renewed "
-    "at the end of each life), energy at the escalated price plus the demand charge, "
-    "maintenance, straight-line residual values; all real, discounted to year 0. Gravity-fed: "
-    "pipe capital only.",
+    "Where pumped: pipe capital, pump station (built in stages, one by default, each sized on "
+    "the peak demand until the next stage with standby, renewed at the end of each life), "
+    "energy at the escalated price plus the demand charge, maintenance, straight-line residual "
+    "values; all real, discounted to year 0, year by year in cash_flows.csv. Gravity-fed: pipe "
+    "capital only.",
     "Branched networks are designed exactly (mixed-integer programming over the sizes, gap "
     "stated); looped networks by a seeded local search whose result is the best design found, "
     "not a proven optimum.",
@@ -98,16 +101,20 @@ def network_report_files(result) -> dict[str, str | bytes]:
     title = f"pipeopt network study: {result.study.name}"
     summary = result.text()
     png = _figure_png(result)
-    tables = {"pipes": result.pipes, "nodes": result.nodes, "cases": result.cases}
+    tables = {"pipes": result.pipes, "nodes": result.nodes, "cases": result.cases,
+              "cash_flows": result.cash_flows}
+    if result.monte_carlo is not None:
+        tables["monte_carlo"] = result.monte_carlo.designs
+        tables["monte_carlo_correlation"] = result.monte_carlo.correlation
     provenance = _provenance(result)
-    cautions = [*CAUTIONS, "The network check covers steady pressures at the given demands "
-                           "only: not surge, fire flows, pipe pressure ratings or supply when a "
-                           "pipe fails."]
+    cautions = [CAUTION, NETWORK_CAUTION]
     md = "\n".join([
         f"# {title}", "", "## Cautions", "", *[f"- {c}" for c in cautions], "", "## Summary",
         "", "```", summary, "```", "", "## Pipes", "", _md_table(result.pipes), "",
         "## Nodes", "", _md_table(result.nodes.drop(columns=["x_m", "y_m"])), "",
-        "## Demand cases", "", _md_table(result.cases), "", "## Model assumptions", "",
+        "## Demand cases", "", _md_table(result.cases), "",
+        f"## Cash flows (money in {result.currency or 'currency'})", "",
+        _md_table(result.cash_flows), "", "## Model assumptions", "",
         *[f"- {a}" for a in ASSUMPTIONS_NETWORK], "", "## Data sources", "",
         *[f"- {p}" for p in provenance], "", "## Figures", "", "![network](figures/network.png)",
         ""])
@@ -129,6 +136,9 @@ def network_report_files(result) -> dict[str, str | bytes]:
             + result.pipes.to_html(**fmt)
             + "<h2>Nodes</h2>" + result.nodes.drop(columns=["x_m", "y_m"]).to_html(**fmt)
             + "<h2>Demand cases</h2>" + result.cases.to_html(**fmt)
+            + f"<h2>Cash flows</h2><p>Money in {esc(result.currency or 'currency')}; the "
+              "discounted column sums to the present value.</p>"
+            + result.cash_flows.to_html(**fmt)
             + "<h2>Model assumptions</h2><ul>"
             + "".join(f"<li>{esc(a)}</li>" for a in ASSUMPTIONS_NETWORK)
             + "</ul><h2>Data sources</h2><ul>"

@@ -1,16 +1,19 @@
 """Network study (study layer): a network file to the least-cost sizes and the proof of pressure.
 
-A :class:`NetworkStudy` reads a network study file (TOML, every dimensional value with its
-unit), builds a :class:`~pipeopt.network.design.DesignProblem` in SI, chooses the optimizer
-(exact mixed-integer programming for a branched network, the batched local search for a looped
-one), re-solves the chosen design's hydraulics and returns a :class:`NetworkResult`. It holds no
+A :class:`NetworkStudy` holds its inputs as frozen sections (:mod:`pipeopt.network.inputs`, and
+the sections it shares with a sizing study), builds a
+:class:`~pipeopt.network.design.DesignProblem` in SI, chooses the optimizer (exact
+mixed-integer programming for a branched network, the batched local search for a looped one),
+re-solves the chosen design's hydraulics and returns a :class:`NetworkResult`. It holds no
 formulas: the physics is in :mod:`pipeopt.network.hydraulics`, the money in
-:mod:`pipeopt.network.lifecycle`, the optimizers in :mod:`pipeopt.network.design`.
+:mod:`pipeopt.network.lifecycle` (on :mod:`pipeopt.cashflow`), the optimizers in
+:mod:`pipeopt.network.design`. A study cannot go stale: its sections are frozen, and
+:meth:`NetworkStudy.replace` builds another.
 
-The study file (sections and keys; ``[fluid]``, ``[pumping]``, ``[energy]``,
-``[pump_station]``, ``[economics]`` and ``[growth]`` read as in a sizing study)::
+The study file (sections and keys; ``[study]``, ``[fluid]``, ``[pumping]``, ``[energy]``,
+``[pump_station]``, ``[economics]`` and ``[growth]`` as in a sizing study, the economic ones
+needed only where a source is pumped)::
 
-    [study]            name, currency, illustrative, description
     [network]          head_loss ("darcy-weisbach" | "hazen-williams"),
                        hazen_williams_coefficient, hazen_williams_flow_exponent,
                        hazen_williams_diameter_exponent, roughness, hazen_williams_c,
@@ -26,6 +29,8 @@ The study file (sections and keys; ``[fluid]``, ``[pumping]``, ``[energy]``,
     [[diameter_option]] name, inner_diameter or (material, size), cost_per_metre or
                        cost = { coefficient, exponent } (a D^n on the outside diameter),
                        roughness, hazen_williams_c
+    [uncertainty]      samples, seed, designs and one distribution per named input
+                       (a pumped network: Monte Carlo of the chosen design's life-cycle cost)
 
 Examples
 --------
@@ -38,7 +43,7 @@ Examples
 from __future__ import annotations
 
 import difflib
-import html
+import inspect
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -46,81 +51,49 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from .. import results
 from ..catalog import default_catalog
-from ..costs import EnergyTariff, PowerLawPipeCost, PumpStationCost
-from ..duty import DutyProfile
+from ..costs import EnergyTariff, PumpStationCost
+from ..duty import HOURS_PER_YEAR, DutyProfile
 from ..errors import InputError
+from ..fields import SI
 from ..fluid import Fluid
-from ..studyfile import Section, StudyFileError, StudyFileMixin
-from ..units import Quantity
+from ..inputs import Economics, Pumping, StudyInfo
+from ..results import StudyResult
+from ..studyfile import StudyFileMixin
 from . import design as ds
-from .hydraulics import (
-    HAZEN_WILLIAMS_COEFFICIENT,
-    HAZEN_WILLIAMS_DIAMETER_EXPONENT,
-    HAZEN_WILLIAMS_FLOW_EXPONENT,
-    NetworkGraph,
+from .hydraulics import NetworkGraph
+from .inputs import (
+    DiameterOption,
+    DutyPoint,
+    NetworkSettings,
+    Node,
+    OptimizerSettings,
+    Pipe,
+    Source,
+    read_network,
 )
-from .lifecycle import NetworkEconomics
+from .lifecycle import NetworkEconomics, life_cycle
 
-__all__ = ["Node", "Source", "Pipe", "DiameterOption", "NetworkSettings", "NetworkStudy",
-           "NetworkResult", "CAUTION"]
+__all__ = ["Node", "Source", "Pipe", "DiameterOption", "DutyPoint", "NetworkSettings",
+           "OptimizerSettings", "SizeOption", "NetworkStudy", "NetworkResult", "CAUTION",
+           "NETWORK_CAUTION"]
 
-#: The caution every network summary carries.
-CAUTION = ("A study aid, not a design: the check covers steady pressures at the given demands "
-           "only, not surge, fire flows, pipe pressure ratings or supply when a pipe fails; "
-           "pressure, surge and structural questions need a qualified engineer, and local "
-           "codes and licensed engineering practice govern.")
-
-
-# --------------------------------------------------------------------------------------------
-# inputs (SI)
-# --------------------------------------------------------------------------------------------
-@dataclass(frozen=True)
-class Node:
-    """A junction: elevation [m], demand per duty point [m³/s], minimum pressure head [m]."""
-
-    name: str
-    elevation: float
-    demand: tuple
-    min_pressure_head: float
-    x: float = float("nan")
-    y: float = float("nan")
+#: The network's own caution: what its pressure check leaves out.
+NETWORK_CAUTION = ("The network check covers steady pressures at the given demands only: not "
+                   "surge, fire flows, pipe pressure ratings or supply when a pipe fails.")
+#: The caution every network summary carries: the shared one, then the network's own.
+CAUTION = f"{results.CAUTION} {NETWORK_CAUTION}"
 
 
 @dataclass(frozen=True)
-class Source:
-    """A source: a fixed head [m], or a pumped source drawing from ``level`` [m].
+class SizeOption:
+    """A candidate size as the design uses it: bore [m], capital per metre, roughness [m], C.
 
-    A pumped source without ``head`` delivers the least head that keeps every junction's
-    pressure (the design chooses it); with ``head`` it holds that head.
+    ``roughness`` and ``hazen_williams_c`` are None where neither the option nor its catalog
+    material gives them (the ``[network]`` defaults then apply); ``source`` says where the bore
+    comes from.
     """
-
-    name: str
-    head: float | None
-    pumped: bool = False
-    level: float | None = None
-    x: float = float("nan")
-    y: float = float("nan")
-
-
-@dataclass(frozen=True)
-class Pipe:
-    """A pipe from one node to another; existing when ``inner_diameter`` is given [m]."""
-
-    name: str
-    start: str
-    end: str
-    length: float
-    inner_diameter: float | None = None
-    roughness: float | None = None
-    hazen_williams_c: float | None = None
-    minor_loss_k: float = 0.0
-    sizes: tuple = ()
-
-
-@dataclass(frozen=True)
-class DiameterOption:
-    """A candidate size: inner diameter [m], capital per metre, roughness [m], C [-]."""
 
     name: str
     inner_diameter: float
@@ -130,23 +103,55 @@ class DiameterOption:
     source: str = "study file"
 
 
-@dataclass(frozen=True)
-class NetworkSettings:
-    """The ``[network]`` and ``[optimizer]`` settings, SI."""
+def _size_option(option: DiameterOption, index: int) -> SizeOption:
+    """The bore, price and wall of a diameter option (a catalog size looked up here)."""
+    d, outside = option.inner_diameter, None
+    rough, c, name = option.roughness, option.hazen_williams_c, option.name
+    source = "study file"
+    if option.material is not None:
+        cat = default_catalog()
+        try:
+            row = cat.lookup(option.material, option.size)
+            mat = cat.material(option.material)
+        except InputError as exc:
+            raise InputError(f"diameter_option[{index}]: {exc}") from None
+        d = float(row["inner_diameter_m"])
+        outside = float(row["outside_diameter_m"])
+        rough = mat.roughness if rough is None else rough
+        c = mat.hazen_williams_c if c is None else c
+        name = name or f"{option.material} {option.size}"
+        source = str(row["provenance"])
+    cost = (option.cost_per_metre if option.cost is None
+            else float(option.cost.per_metre(outside if outside is not None else d)))
+    return SizeOption(name, float(d), float(cost),
+                      None if rough is None else float(rough), None if c is None else float(c),
+                      source)
 
-    head_loss: str = "darcy-weisbach"
-    hazen_williams_coefficient: float = HAZEN_WILLIAMS_COEFFICIENT
-    hazen_williams_flow_exponent: float = HAZEN_WILLIAMS_FLOW_EXPONENT
-    hazen_williams_diameter_exponent: float = HAZEN_WILLIAMS_DIAMETER_EXPONENT
-    roughness: float = 1e-4
-    hazen_williams_c: float = 130.0
-    velocity_max: float | None = None
-    split_pipes: bool = False
-    min_pressure_head: float | None = None
-    seed: int = 1
-    evaluations: int = 100_000
-    chains: int = 8
-    target: float | None = None
+
+def _sections(values: Any, cls: type, what: str) -> tuple:
+    """A tuple of input sections of ``cls`` (mappings are built into sections)."""
+    out = []
+    for i, v in enumerate(values or ()):
+        if isinstance(v, dict):
+            v = cls(**v)
+        if not isinstance(v, cls):
+            raise InputError(f"{what}[{i}] must be a {cls.__name__}; got {type(v).__name__}")
+        out.append(v)
+    return tuple(out)
+
+
+def _suggest(name: str, names: list[str]) -> str:
+    near = difflib.get_close_matches(name, names, n=1, cutoff=0.5)
+    return f"; did you mean {near[0]!r}?" if near else ""
+
+
+def _duplicate(names: list[str]) -> str | None:
+    seen: set[str] = set()
+    for n in names:
+        if n in seen:
+            return n
+        seen.add(n)
+    return None
 
 
 # --------------------------------------------------------------------------------------------
@@ -157,228 +162,323 @@ class NetworkStudy(StudyFileMixin):
 
     Parameters
     ----------
-    nodes : list of Node
-    sources : list of Source
-    pipes : list of Pipe
-    options : list of DiameterOption
+    nodes : sequence of Node
+    sources : sequence of Source
+    pipes : sequence of Pipe
+    options : sequence of DiameterOption
         Candidate sizes of the pipes to size.
     settings : NetworkSettings, optional
+        The head-loss law and the network-wide defaults.
+    optimizer : OptimizerSettings, optional
+        Seed, budget, chains and target of the looped search.
     fluid : Fluid, optional
         The liquid (default: water at 15 °C).
-    duty_names : tuple of str, optional
-        Names of the duty points (one per entry of each node's demand).
-    hours : tuple of float, optional
-        Hours per year of each duty point [h/yr] (needed where the network is pumped).
-    growth : float
-        Yearly growth of every demand [1/yr].
-    economics : dict, optional
-        ``efficiency``, ``tariff`` (EnergyTariff), ``pump_station`` (PumpStationCost or None),
-        ``discount_rate``, ``horizon``, ``pipe_life``, ``pipe_maintenance``: needed where a
-        source is pumped.
-    name, currency : str
+    duties : sequence of DutyPoint, optional
+        The demand cases (default: one, ``"design"``, at the nodes' demands).
+    growth : float or mapping, optional
+        Yearly growth of every demand, or the growth arguments of a
+        :class:`~pipeopt.duty.DutyProfile` (``growth``, ``design_year``, ``flow_cap``).
+    pumping : Pumping or float, optional
+        Wire-to-water efficiency of the pumps.
+    tariff : EnergyTariff, optional
+    pump_station : PumpStationCost, optional
+        Station capital and stages (absent: no station capital).
+    economics : Economics, optional
+        Discount rate, horizon, pipe life and maintenance. ``pumping``, ``tariff`` and
+        ``economics`` are needed where a source is pumped; ``economics`` also where demands
+        grow (for the horizon).
+    name, currency, description : str
+        Labels for outputs.
     illustrative : bool
         Marks every output as using invented numbers.
+    uncertainty : dict, optional
+        The ``[uncertainty]`` settings of a study file (samples, seed, designs,
+        distributions).
+
+    Every argument after ``options`` is keyword-only.
     """
 
     _DEMO_FILE = "demo_network.toml"
 
-    def __init__(self, nodes: list[Node], sources: list[Source], pipes: list[Pipe],
-                 options: list[DiameterOption], settings: NetworkSettings | None = None,
-                 fluid: Fluid | None = None, duty_names: tuple = ("design",),
-                 hours: tuple | None = None, growth: float = 0.0,
-                 economics: dict | None = None, name: str = "network study",
-                 currency: str = "", illustrative: bool = False) -> None:
-        self.nodes = list(nodes)
-        self.sources = list(sources)
-        self.pipes = list(pipes)
-        self.options = sorted(options, key=lambda o: o.inner_diameter)
+    def __init__(self, nodes: Any, sources: Any, pipes: Any, options: Any = (), *,
+                 settings: NetworkSettings | None = None,
+                 optimizer: OptimizerSettings | None = None, fluid: Fluid | None = None,
+                 duties: Any = (), growth: Any = None, pumping: Any = None,
+                 tariff: EnergyTariff | None = None,
+                 pump_station: PumpStationCost | None = None,
+                 economics: Economics | None = None, name: str = "network study",
+                 currency: str = "", illustrative: bool = False, description: str = "",
+                 uncertainty: dict | None = None) -> None:
+        self._args = {k: v for k, v in locals().items() if k not in ("self", "__class__")}
+        if fluid is not None and not isinstance(fluid, Fluid):
+            raise InputError("fluid must be a pipeopt.Fluid")
+        for value, cls, what in ((settings, NetworkSettings, "settings"),
+                                 (optimizer, OptimizerSettings, "optimizer"),
+                                 (tariff, EnergyTariff, "tariff"),
+                                 (pump_station, PumpStationCost, "pump_station"),
+                                 (economics, Economics, "economics")):
+            if value is not None and not isinstance(value, cls):
+                raise InputError(f"{what} must be a {cls.__name__}; got {type(value).__name__}")
+        self.nodes = _sections(nodes, Node, "node")
+        self.sources = _sections(sources, Source, "source")
+        self.pipes = _sections(pipes, Pipe, "pipe")
+        self.diameter_options = _sections(options, DiameterOption, "diameter_option")
+        self.duties = _sections(duties, DutyPoint, "duty")
         self.settings = settings or NetworkSettings()
-        self.fluid = fluid or Fluid.water(Quantity(15.0, "degC"))
+        self.optimizer = optimizer or OptimizerSettings()
+        self.fluid = fluid or Fluid.water("15 degC")
         self.fluid_is_default = fluid is None
-        self.duty_names = tuple(duty_names)
-        self.hours = None if hours is None else tuple(float(h) for h in hours)
-        self.growth = float(growth)
-        self.economics_inputs = economics
-        self.name = name
-        self.currency = currency
-        self.illustrative = bool(illustrative)
+        self.info = StudyInfo(name, currency, illustrative, description)
+        self.pumping = (pumping if pumping is None or isinstance(pumping, Pumping)
+                        else Pumping(pumping))
+        self.tariff = tariff
+        self.pump_station = pump_station
+        self.economics = economics
+        self.growth = ({} if growth is None else dict(growth) if isinstance(growth, dict)
+                       else {"growth": growth})
+        self.uncertainty = uncertainty
         self.notes: list[str] = []
+        self.options = tuple(sorted((_size_option(o, i)
+                                     for i, o in enumerate(self.diameter_options)),
+                                    key=lambda o: o.inner_diameter))
+        self.duty_names = (tuple(d.name or f"duty {i + 1}" for i, d in enumerate(self.duties))
+                           or ("design",))
         self.problem = self._build_problem()
+        self._frozen = True
+
+    def __setattr__(self, name: str, value: Any) -> None:
+        if getattr(self, "_frozen", False):
+            raise AttributeError(f"a NetworkStudy cannot be changed after it is built ({name}); "
+                                 f"use study.replace({name}=...)")
+        object.__setattr__(self, name, value)
+
+    def replace(self, **changes: Any) -> NetworkStudy:
+        """A new study with some constructor arguments changed, e.g.
+        ``study.replace(tariff=EnergyTariff(0.2))``."""
+        known = set(inspect.signature(NetworkStudy.__init__).parameters) - {"self"}
+        unknown = set(changes) - known
+        if unknown:
+            raise InputError(f"replace: unknown argument {sorted(unknown)[0]!r}; arguments: "
+                             f"{', '.join(sorted(known))}")
+        return NetworkStudy(**{**self._args, **changes})
+
+    # ----- labels ---------------------------------------------------------------------------
+    @property
+    def name(self) -> str:
+        return self.info.name
+
+    @property
+    def currency(self) -> str:
+        return self.info.currency
+
+    @property
+    def illustrative(self) -> bool:
+        return self.info.illustrative
+
+    @property
+    def pumped(self) -> bool:
+        """True when a source is pumped (its station and energy are part of the cost)."""
+        return any(x.pumped for x in self.sources)
 
     # ----- construction ---------------------------------------------------------------------
-    def _build_problem(self) -> ds.DesignProblem:
-        s = self.settings
+    def _check_names(self) -> dict[str, int]:
         if not self.sources:
             raise InputError("source: the network has no source (add a [[source]] table)")
         if not self.nodes:
             raise InputError("node: the network has no node to supply (add [[node]] tables)")
         names = [n.name for n in self.nodes] + [x.name for x in self.sources]
-        seen: set[str] = set()
-        for nm in names:
-            if nm in seen:
-                raise InputError(f"node/source name {nm!r} is used twice; names must be unique")
-            seen.add(nm)
-        index = {nm: i for i, nm in enumerate(names)}
-        start, end = [], []
+        dup = _duplicate(names)
+        if dup is not None:
+            raise InputError(f"node/source name {dup!r} is used twice; names must be unique")
         for k, p in enumerate(self.pipes):
             for key, ref in (("from", p.start), ("to", p.end)):
-                if ref not in index:
-                    near = difflib.get_close_matches(ref, names, n=1, cutoff=0.5)
-                    hint = f"; did you mean {near[0]!r}?" if near else ""
+                if ref not in names:
                     raise InputError(f"pipe[{k}].{key}: no node or source is named {ref!r}"
-                                     f"{hint}")
-            start.append(index[p.start])
-            end.append(index[p.end])
-        pnames = [p.name for p in self.pipes]
-        if len(set(pnames)) != len(pnames):
-            dup = next(n for n in pnames if pnames.count(n) > 1)
+                                     f"{_suggest(ref, names)}")
+        dup = _duplicate([p.name for p in self.pipes])
+        if dup is not None:
             raise InputError(f"pipe name {dup!r} is used twice; names must be unique")
-        graph = NetworkGraph(len(self.nodes), len(self.sources), start, end,
-                             node_names=tuple(names), pipe_names=tuple(pnames))
-        k = len(self.duty_names)
+        onames = [o.name for o in self.options]
+        dup = _duplicate(onames)
+        if dup is not None:
+            raise InputError(f"diameter_option name {dup!r} is used twice")
+        if len({o.inner_diameter for o in self.options}) != len(self.options):
+            raise InputError("diameter_option: two options have the same inner diameter")
+        return {nm: i for i, nm in enumerate(names)}
+
+    def _duty(self, base: np.ndarray) -> DutyProfile | None:
+        """The network's duty profile: total demand and hours of each duty point, growth.
+
+        Needed where a source is pumped (energy) or demands grow; None otherwise.
+        """
+        hours = [d.hours for d in self.duties]
+        given = bool(hours) and all(h is not None for h in hours)
+        if not (self.pumped or self.growth):
+            return None
+        if self.pumped and not given:
+            raise InputError("a pumped source needs the hours of each duty point: add [[duty]] "
+                             "tables with hours")
+        total = base.sum(axis=1)
+        if np.any(total <= 0):
+            k = int(np.flatnonzero(total <= 0)[0])
+            raise InputError(f"duty[{k}]: the total demand of every duty point must be positive "
+                             f"(got {total[k]:g} m^3/s for {self.duty_names[k]!r})")
+        # a gravity network gives no hours: they are not used, so an even share of the year
+        # stands in for them (the duty profile then only carries the growth of the demands)
+        hrs = tuple(hours) if given else (HOURS_PER_YEAR / len(total),) * len(total)
+        # the growth keys as the file or caller gave them: DutyProfile checks their rules
+        return DutyProfile(tuple(SI(q) for q in total), hrs, names=self.duty_names,
+                           **self.growth)
+
+    def _economics(self, duty: DutyProfile) -> NetworkEconomics:
+        for value, section in ((self.pumping, "pumping"), (self.tariff, "energy"),
+                               (self.economics, "economics")):
+            if value is None:
+                raise InputError(f"{section}: required section [{section}] is missing (a pumped "
+                                 f"network needs [pumping], [energy] and [economics])")
+        e = self.economics
+        return NetworkEconomics(duty=duty, efficiency=self.pumping.efficiency,
+                                tariff=self.tariff, pump_station=self.pump_station,
+                                discount_rate=e.discount_rate, horizon=e.horizon,
+                                pipe_life=e.pipe_life, pipe_maintenance=e.pipe_maintenance)
+
+    def _demand_by_year(self, base: np.ndarray, duty: DutyProfile | None,
+                        econ: NetworkEconomics | None) -> np.ndarray:
+        """Demands (T, K, J): every year when a pumped network's demands grow, else one."""
+        if duty is None or not duty.grows:
+            return base[None]
+        if self.economics is None:
+            raise InputError("growth: demands that grow need a horizon ([economics] horizon)")
+        m = duty.multipliers(int(self.economics.horizon))                     # (N,)
+        if econ is None:
+            # special case: a gravity network is checked in its year of largest demands
+            return (base * float(m.max()))[None]
+        return m[:, None, None] * base[None]
+
+    def _build_problem(self) -> ds.DesignProblem:
+        s = self.settings
+        index = self._check_names()
+        names = list(index)
+        graph = NetworkGraph(len(self.nodes), len(self.sources),
+                             [index[p.start] for p in self.pipes],
+                             [index[p.end] for p in self.pipes], node_names=tuple(names),
+                             pipe_names=tuple(p.name for p in self.pipes))
+        factors = tuple(d.demand_factor for d in self.duties) or (1.0,)
+        base = np.array([n.demands(factors, f"node[{i}]") for i, n in enumerate(self.nodes)],
+                        dtype=float).T                                         # (K, J)
+        min_head = []
         for i, n in enumerate(self.nodes):
-            if len(n.demand) != k:
-                raise InputError(f"node[{i}].demand: {len(n.demand)} value(s) for {k} duty "
-                                 f"point(s); give one flow, or one per duty point")
-        base = np.array([n.demand for n in self.nodes], dtype=float).T           # (K, J)
-        pumped = [x for x in self.sources if x.pumped]
-        free = [x for x in pumped if x.head is None]
+            mp = n.min_pressure_head if n.min_pressure_head is not None else s.min_pressure_head
+            if mp is None:
+                raise InputError(f"node[{i}].min_pressure_head: required key is missing (or set "
+                                 f"network.min_pressure_head for every node), e.g. "
+                                 f"min_pressure_head = \"20 m\"")
+            min_head.append(float(mp))
+        free = [x for x in self.sources if x.free]
         if free and len(self.sources) > 1:
             raise InputError(f"source {free[0].name!r}: a pumped source without a head may "
                              f"only feed a network with no other source (give it a head, or "
                              f"remove the other sources)")
-        econ = None
-        if pumped:
-            econ = self._economics(base)
-        elif self.economics_inputs is not None:
-            self.notes.append("gravity-fed: the cost is the pipe capital only (the energy and "
-                              "economics sections are not used)")
-        demand = self._demand_by_year(base, econ)
-        design = [i for i, p in enumerate(self.pipes) if p.inner_diameter is None]
+        duty = self._duty(base)
+        econ = self._economics(duty) if self.pumped else None
+        if not self.pumped:
+            unused = [sec for sec, v in (("pumping", self.pumping), ("energy", self.tariff),
+                                         ("pump_station", self.pump_station)) if v is not None]
+            if self.economics is not None and (duty is None or not duty.grows):
+                unused.append("economics")
+            if unused:
+                self.notes.append(f"gravity-fed: the cost is the pipe capital only (not used: "
+                                  f"{', '.join(f'[{u}]' for u in unused)})")
+        demand = self._demand_by_year(base, duty, econ)
+        design = [i for i, p in enumerate(self.pipes) if not p.existing]
         m = len(self.options)
         if design and m == 0:
             raise InputError("diameter_option: pipes are to be sized but no [[diameter_option]] "
                              "is given")
         onames = [o.name for o in self.options]
-        if len(set(onames)) != len(onames):
-            dup = next(n for n in onames if onames.count(n) > 1)
-            raise InputError(f"diameter_option name {dup!r} is used twice")
-        dias = [o.inner_diameter for o in self.options]
-        if len(set(dias)) != len(dias):
-            raise InputError("diameter_option: two options have the same inner diameter")
         allowed = np.ones((len(design), m), dtype=bool)
         for r, i in enumerate(design):
             p = self.pipes[i]
             if p.sizes:
                 for sz in p.sizes:
                     if sz not in onames:
-                        near = difflib.get_close_matches(sz, onames, n=1, cutoff=0.5)
-                        hint = f"; did you mean {near[0]!r}?" if near else ""
                         raise InputError(f"pipe[{i}].sizes: no diameter option is named "
-                                         f"{sz!r}{hint}")
+                                         f"{sz!r}{_suggest(sz, onames)}")
                 allowed[r] = [o in p.sizes for o in onames]
         hw = s.head_loss == "hazen-williams"
-        rough = np.array([np.nan if p.inner_diameter is None else
-                          (p.roughness if p.roughness is not None else s.roughness)
-                          for p in self.pipes])
-        cfac = np.array([np.nan if p.inner_diameter is None else
-                         (p.hazen_williams_c if p.hazen_williams_c is not None
-                          else s.hazen_williams_c) for p in self.pipes])
         for i, p in enumerate(self.pipes):
-            if p.inner_diameter is not None and hw and p.roughness is not None \
-                    and p.hazen_williams_c is None:
+            if p.existing and hw and p.roughness is not None and p.hazen_williams_c is None:
                 raise InputError(f"pipe[{i}]: head_loss is hazen-williams; give the existing "
                                  f"pipe a hazen_williams_c, not a roughness")
-            if p.inner_diameter is not None and not hw and p.hazen_williams_c is not None \
-                    and p.roughness is None:
+            if p.existing and not hw and p.hazen_williams_c is not None and p.roughness is None:
                 raise InputError(f"pipe[{i}]: head_loss is darcy-weisbach; give the existing "
                                  f"pipe a roughness, not a hazen_williams_c")
-        fixed_head = np.array([x.level if (x.pumped and x.head is None) else x.head
-                               for x in self.sources], dtype=float)
-        suction = np.array([x.level if x.pumped else np.nan for x in self.sources], dtype=float)
+
         return ds.DesignProblem(
             graph=graph, length=[p.length for p in self.pipes], design=np.array(design, int),
-            option_diameter=dias, option_cost=[o.cost_per_metre for o in self.options],
+            option_diameter=[o.inner_diameter for o in self.options],
+            option_cost=[o.cost_per_metre for o in self.options],
             allowed=allowed, demand=demand,
-            elevation=[n.elevation for n in self.nodes],
-            min_head=[n.min_pressure_head for n in self.nodes],
-            source_head=fixed_head, suction_level=suction, free_pump=bool(free),
-            head_loss=s.head_loss,
-            fixed_diameter=[np.nan if p.inner_diameter is None else p.inner_diameter
-                            for p in self.pipes],
-            roughness=np.nan_to_num(rough), c_factor=np.nan_to_num(cfac, nan=130.0),
+            elevation=[n.elevation for n in self.nodes], min_head=min_head,
+            source_head=[x.level if x.free else x.head for x in self.sources],
+            suction_level=[x.level if x.pumped else np.nan for x in self.sources],
+            free_pump=bool(free), head_loss=s.head_loss,
+            fixed_diameter=[p.inner_diameter if p.existing else np.nan for p in self.pipes],
+            # existing pipes: their own roughness and C, else the [network] defaults (the
+            # values of pipes to size are their options')
+            roughness=[(s.roughness if p.roughness is None else p.roughness) if p.existing
+                       else 0.0 for p in self.pipes],
+            c_factor=[(s.hazen_williams_c if p.hazen_williams_c is None else p.hazen_williams_c)
+                      if p.existing else 130.0 for p in self.pipes],
             option_roughness=[s.roughness if o.roughness is None else o.roughness
                               for o in self.options],
             option_c_factor=[s.hazen_williams_c if o.hazen_williams_c is None
                              else o.hazen_williams_c for o in self.options],
             minor_loss_k=[p.minor_loss_k for p in self.pipes],
             density=self.fluid.density, viscosity=self.fluid.viscosity,
-            hazen_williams=(s.hazen_williams_coefficient, s.hazen_williams_diameter_exponent,
-                            s.hazen_williams_flow_exponent),
-            velocity_max=s.velocity_max, economics=econ)
-
-    def _economics(self, base: np.ndarray) -> NetworkEconomics:
-        e = self.economics_inputs
-        if e is None:
-            raise InputError("a pumped source needs [pumping], [energy] and [economics] "
-                             "sections (efficiency, energy price, discount rate, horizon, pipe "
-                             "life)")
-        if self.hours is None:
-            raise InputError("a pumped source needs the hours of each duty point: add "
-                             "[[duty]] tables with hours")
-        total = base.sum(axis=1)
-        if np.any(total <= 0):
-            raise InputError("duty: the total demand of every duty point must be positive")
-        duty = DutyProfile.from_si(flows=tuple(total), hours=self.hours, growth=self.growth,
-                                   names=self.duty_names)
-        return NetworkEconomics(duty=duty, efficiency=e["efficiency"], tariff=e["tariff"],
-                                pump_station=e.get("pump_station"),
-                                discount_rate=e["discount_rate"], horizon=e["horizon"],
-                                pipe_life=e["pipe_life"],
-                                pipe_maintenance=e.get("pipe_maintenance", 0.0))
-
-    def _demand_by_year(self, base: np.ndarray, econ: NetworkEconomics | None) -> np.ndarray:
-        """Demands (T, K, J): every year when a pumped network's demands grow, else one."""
-        if not self.growth:
-            return base[None]
-        if econ is None and self.economics_inputs is None:
-            raise InputError("growth: demands that grow need a horizon ([economics] horizon)")
-        horizon = econ.horizon if econ is not None else int(self.economics_inputs["horizon"])
-        factors = (1.0 + self.growth) ** np.arange(horizon)
-        if econ is None:
-            # special case: a gravity network is checked in its year of largest demands
-            f = factors.max() if self.growth > 0 else factors.min()
-            return (base * f)[None]
-        return factors[:, None, None] * base[None]
+            hazen_williams=s.hazen_williams, velocity_max=s.velocity_max, economics=econ)
 
     # ----- study file ------------------------------------------------------------------------
     @classmethod
     def _from_dict(cls, mapping: dict, base: Path) -> NetworkStudy:
-        top = Section(mapping, "", ("study", "network", "optimizer", "fluid", "duty", "growth",
-                                    "node", "source", "pipe", "diameter_option", "pumping",
-                                    "energy", "pump_station", "economics", "uncertainty"))
-        if top.has("uncertainty"):
-            raise StudyFileError("uncertainty: not supported in a network study yet (run the "
-                                 "study with each value of interest instead)")
-        return _read_study(top, base)
+        sec = read_network(mapping, base)
+        info = sec["info"]
+        fluid = None if sec["fluid"] is None else sec["fluid"].build()
+        study = cls(sec["nodes"], sec["sources"], sec["pipes"], sec["options"],
+                    settings=sec["settings"], optimizer=sec["optimizer"], fluid=fluid,
+                    duties=sec["duties"], growth=sec["growth"], pumping=sec["pumping"],
+                    tariff=sec["energy"], pump_station=sec["pump_station"],
+                    economics=sec["economics"], name=info.name, currency=info.currency,
+                    illustrative=info.illustrative, description=info.description)
+        if sec["uncertainty"] is not None:
+            from .uncertainty import read_network_uncertainty
+
+            study = study.replace(uncertainty=read_network_uncertainty(sec["uncertainty"],
+                                                                       study))
+        return study
 
     # ----- running ---------------------------------------------------------------------------
-    def run(self, progress: bool | None = None, method: str = "auto") -> NetworkResult:
+    def run(self, progress: bool | None = None, method: str = "auto",
+            uncertainty: bool = True) -> NetworkResult:
         """Size the pipes and check every junction's pressure.
 
         Parameters
         ----------
         progress : bool, optional
-            Progress bar of the looped search (default: when standard error is a terminal).
+            Progress bars of the looped search and the Monte Carlo (default: when standard
+            error is a terminal).
         method : {"auto", "milp", "search"}
             ``"auto"``: exact programming when the network is branched, the search otherwise.
+        uncertainty : bool
+            Where the study has ``[uncertainty]`` and a design was found, also run its Monte
+            Carlo (:meth:`monte_carlo`) and attach it to the result.
 
         Returns
         -------
         NetworkResult
         """
         pr = self.problem
-        s = self.settings
+        s, o = self.settings, self.optimizer
         branched = pr.graph.is_forest()
         if method not in ("auto", "milp", "search"):
             raise InputError(f"method must be 'auto', 'milp' or 'search'; got {method!r}")
@@ -389,14 +489,29 @@ class NetworkStudy(StudyFileMixin):
             raise InputError("network.split_pipes: split pipes are designed only for branched "
                              "networks")
         if pr.n_design == 0:
-            outcome = ds.design_looped(pr, seed=s.seed, evaluations=1, progress=False)
+            outcome = ds.design_looped(pr, seed=o.seed, evaluations=1, progress=False)
             outcome.message = "no pipe to size: the existing network checked"
         elif method == "milp" or (method == "auto" and branched):
             outcome = ds.design_branched(pr, split=s.split_pipes)
         else:
-            outcome = ds.design_looped(pr, seed=s.seed, evaluations=s.evaluations,
-                                       chains=s.chains, target=s.target, progress=progress)
-        return NetworkResult._build(self, outcome)
+            outcome = ds.design_looped(pr, seed=o.seed, evaluations=o.evaluations,
+                                       chains=o.chains, target=o.target, progress=progress)
+        result = NetworkResult.build(self, outcome)
+        if uncertainty and self.uncertainty and result.success:
+            result.monte_carlo = self.monte_carlo(result=result, progress=progress)
+        return result
+
+    def monte_carlo(self, distributions: dict[str, Any] | None = None, n: int | None = None,
+                    seed: int | None = None, designs: int | None = None, result: Any = None,
+                    progress: bool | None = None) -> Any:
+        """Monte Carlo of the life-cycle cost of the chosen design and its runners-up.
+
+        See :func:`pipeopt.network.uncertainty.monte_carlo`; the arguments default to the
+        study's ``[uncertainty]``.
+        """
+        from .uncertainty import monte_carlo
+
+        return monte_carlo(self, distributions, n, seed, designs, result, progress)
 
     def __repr__(self) -> str:
         n_new = self.problem.n_design
@@ -406,285 +521,14 @@ class NetworkStudy(StudyFileMixin):
 
 
 # --------------------------------------------------------------------------------------------
-# reading the study file
-# --------------------------------------------------------------------------------------------
-def _bool(sec: Section, name: str, default: bool) -> bool:
-    v = sec.raw(name, default)
-    if not isinstance(v, bool):
-        raise StudyFileError(f"{sec.key(name)}: expected true or false, got {v!r}")
-    return v
-
-
-def _coordinate(sec: Section, name: str) -> float:
-    if not sec.has(name):
-        return float("nan")
-    return sec.quantity(name, "length", positive=False)
-
-
-def _read_study(top: Section, base: Path) -> NetworkStudy:
-    st = top.table("study", ("name", "currency", "illustrative", "description"))
-    name, currency, illustrative = "network study", "", False
-    if st:
-        name = st.text("name", name)
-        currency = st.text("currency", "")
-        illustrative = _bool(st, "illustrative", False)
-        st.text("description", "")
-    settings = _read_settings(top)
-    fluid = _read_fluid(top.table("fluid", ("kind", "temperature", "pressure", "name",
-                                            "density", "viscosity")))
-    duties = top.tables("duty", ("name", "hours", "demand_factor"), required=False)
-    duty_names = tuple(d.text("name", f"duty {i + 1}") for i, d in enumerate(duties)) \
-        or ("design",)
-    factors = [d.number("demand_factor", 1.0, low=0.0) for d in duties] or [1.0]
-    hours = None
-    if duties and all(d.has("hours") for d in duties):
-        hours = tuple(d.number("hours", None, low=0.0, high=8760.0, low_open=True,
-                               example="4200") for d in duties)
-    elif any(d.has("hours") for d in duties):
-        k = next(i for i, d in enumerate(duties) if not d.has("hours"))
-        raise StudyFileError(f"duty[{k}].hours: required key is missing (give every duty "
-                             f"point its hours, e.g. hours = 4200)")
-    gr = top.table("growth", ("flow_per_year",))
-    growth = gr.number("flow_per_year", 0.0, low=-0.5, high=0.5) if gr else 0.0
-    s = settings
-    nodes = [_read_node(sec, factors, s) for sec in
-             top.tables("node", ("name", "elevation", "demand", "min_pressure_head", "x", "y"))]
-    sources = [_read_source(sec) for sec in
-               top.tables("source", ("name", "head", "pumped", "level", "x", "y"))]
-    pipes = [_read_pipe(sec, s) for sec in
-             top.tables("pipe", ("name", "from", "to", "length", "inner_diameter", "roughness",
-                                 "hazen_williams_c", "minor_loss_k", "sizes"))]
-    options = [_read_option(sec, base) for sec in
-               top.tables("diameter_option", ("name", "inner_diameter", "material", "size",
-                                              "cost_per_metre", "cost", "roughness",
-                                              "hazen_williams_c"), required=False)]
-    economics = _read_economics(top)
-    return NetworkStudy(nodes, sources, pipes, options, settings, fluid, duty_names, hours,
-                        growth, economics, name, currency, illustrative)
-
-
-def _read_settings(top: Section) -> NetworkSettings:
-    net = top.table("network", ("head_loss", "hazen_williams_coefficient",
-                                "hazen_williams_flow_exponent",
-                                "hazen_williams_diameter_exponent", "roughness",
-                                "hazen_williams_c", "min_pressure_head", "velocity_max",
-                                "split_pipes"))
-    opt = top.table("optimizer", ("seed", "evaluations", "chains", "target"))
-    kw: dict[str, Any] = {}
-    if net:
-        kw["head_loss"] = net.text("head_loss", "darcy-weisbach",
-                                   ("darcy-weisbach", "hazen-williams"))
-        kw["hazen_williams_coefficient"] = net.number(
-            "hazen_williams_coefficient", HAZEN_WILLIAMS_COEFFICIENT, low=1.0, high=100.0)
-        kw["hazen_williams_flow_exponent"] = net.number(
-            "hazen_williams_flow_exponent", HAZEN_WILLIAMS_FLOW_EXPONENT, low=1.5, high=2.0)
-        kw["hazen_williams_diameter_exponent"] = net.number(
-            "hazen_williams_diameter_exponent", HAZEN_WILLIAMS_DIAMETER_EXPONENT, low=4.0,
-            high=5.5)
-        kw["roughness"] = net.quantity("roughness", "roughness", default="0.1 mm",
-                                       nonnegative=True)
-        kw["hazen_williams_c"] = net.number("hazen_williams_c", 130.0, low=1.0, high=200.0)
-        kw["velocity_max"] = net.quantity("velocity_max", "velocity", required=False)
-        kw["split_pipes"] = _bool(net, "split_pipes", False)
-        kw["min_pressure_head"] = net.quantity("min_pressure_head", "head", required=False,
-                                               nonnegative=True)
-    if opt:
-        kw["seed"] = int(opt.number("seed", 1, low=0, integer=True))
-        kw["evaluations"] = int(opt.number("evaluations", 100_000, low=1, high=1e9,
-                                           integer=True))
-        kw["chains"] = int(opt.number("chains", 8, low=1, high=256, integer=True))
-        if opt.has("target"):
-            kw["target"] = opt.number("target", None, low=0.0)
-    return NetworkSettings(**kw)
-
-
-def _read_fluid(sec: Section | None) -> Fluid | None:
-    if sec is None:
-        return None
-    kind = sec.text("kind", "water", ("water", "coolprop", "custom"))
-    if kind == "custom":
-        return Fluid(Quantity(sec.quantity("density", "density"), "kg/m^3"),
-                     Quantity(sec.quantity("viscosity", "viscosity"), "Pa*s"),
-                     name=sec.text("name", "custom fluid"))
-    t = Quantity(sec.quantity("temperature", "temperature"), "K")
-    p = Quantity(sec.quantity("pressure", "pressure", default="1 atm", required=False), "Pa")
-    if kind == "water":
-        return Fluid.water(t, p)
-    fluid_name = sec.text("name", None)
-    if not fluid_name:
-        raise StudyFileError("fluid.name: required with kind = \"coolprop\" (e.g. name = "
-                             "\"INCOMP::MEG-30%\")")
-    return Fluid.coolprop(fluid_name, t, p)
-
-
-def _read_node(sec: Section, factors: list[float], s: NetworkSettings) -> Node:
-    name = sec.text("name", None)
-    if not name:
-        raise StudyFileError(f"{sec.key('name')}: required key is missing")
-    elevation = sec.quantity("elevation", "head", positive=False)
-    raw = sec.required("demand")
-    k = len(factors)
-    if isinstance(raw, list):
-        if len(raw) != k:
-            raise StudyFileError(f"{sec.key('demand')}: {len(raw)} flows for {k} duty "
-                                 f"point(s); give one flow, or one per duty point")
-        demand = tuple(Section({"demand": v}, sec.path, ("demand",)).quantity(
-            "demand", "flow", positive=False) for v in raw)
-    else:
-        q = sec.quantity("demand", "flow", positive=False)
-        demand = tuple(q * f for f in factors)
-    mp = s.min_pressure_head
-    if sec.has("min_pressure_head"):
-        mp = sec.quantity("min_pressure_head", "head", nonnegative=True)
-    if mp is None:
-        raise StudyFileError(f"{sec.key('min_pressure_head')}: required key is missing (or "
-                             f"set network.min_pressure_head for every node), e.g. "
-                             f"min_pressure_head = \"20 m\"")
-    return Node(name, elevation, demand, mp,
-                _coordinate(sec, "x"), _coordinate(sec, "y"))
-
-
-def _read_source(sec: Section) -> Source:
-    name = sec.text("name", None)
-    if not name:
-        raise StudyFileError(f"{sec.key('name')}: required key is missing")
-    pumped = _bool(sec, "pumped", False)
-    head = sec.quantity("head", "head", required=False, positive=False)
-    level = sec.quantity("level", "head", required=False, positive=False)
-    if pumped and level is None:
-        raise StudyFileError(f"{sec.key('level')}: a pumped source needs the level it draws "
-                             f"from, e.g. level = \"38 m\"")
-    if not pumped and level is not None:
-        raise StudyFileError(f"{sec.key('level')}: only a pumped source has a level (set "
-                             f"pumped = true, or give head only)")
-    if not pumped and head is None:
-        raise StudyFileError(f"{sec.key('head')}: required key is missing (the head the "
-                             f"source holds, e.g. head = \"85 m\")")
-    if pumped and head is not None and head < level:
-        raise StudyFileError(f"{sec.key('head')}: a pumped source's head must be at least its "
-                             f"level ({level:g} m); got {head:g} m")
-    return Source(name, head, pumped, level, _coordinate(sec, "x"), _coordinate(sec, "y"))
-
-
-def _read_pipe(sec: Section, s: NetworkSettings) -> Pipe:
-    name = sec.text("name", None)
-    if not name:
-        raise StudyFileError(f"{sec.key('name')}: required key is missing")
-    start = sec.text("from", None)
-    end = sec.text("to", None)
-    for key, v in (("from", start), ("to", end)):
-        if not v:
-            raise StudyFileError(f"{sec.key(key)}: required key is missing (a node or source "
-                                 f"name)")
-    length = sec.quantity("length", "length")
-    d = sec.quantity("inner_diameter", "diameter", required=False)
-    rough = sec.quantity("roughness", "roughness", required=False, nonnegative=True)
-    c = None
-    if sec.has("hazen_williams_c"):
-        c = sec.number("hazen_williams_c", None, low=1.0, high=200.0)
-    if d is None and (rough is not None or c is not None):
-        raise StudyFileError(f"{sec.path}: roughness and hazen_williams_c belong to an existing "
-                             f"pipe (give its inner_diameter), or to a [[diameter_option]]")
-    sizes = sec.raw("sizes", [])
-    if not isinstance(sizes, list) or not all(isinstance(x, str) for x in sizes):
-        raise StudyFileError(f"{sec.key('sizes')}: expected a list of diameter option names, "
-                             f"e.g. [\"DN 150\", \"DN 200\"]")
-    if d is not None and sizes:
-        raise StudyFileError(f"{sec.key('sizes')}: an existing pipe (with inner_diameter) is "
-                             f"not sized")
-    k = sec.number("minor_loss_k", 0.0, low=0.0, high=1e4)
-    return Pipe(name, start, end, length, d, rough, c, k, tuple(sizes))
-
-
-def _read_option(sec: Section, base: Path) -> DiameterOption:
-    name = sec.text("name", None)
-    material = sec.text("material", None)
-    size = sec.text("size", None)
-    d = sec.quantity("inner_diameter", "diameter", required=False)
-    rough = sec.quantity("roughness", "roughness", required=False, nonnegative=True)
-    c = sec.number("hazen_williams_c", None, low=1.0, high=200.0) \
-        if sec.has("hazen_williams_c") else None
-    source = "study file"
-    outside = None
-    if material is not None or size is not None:
-        if d is not None or material is None or size is None:
-            raise StudyFileError(f"{sec.path}: give either inner_diameter, or material and "
-                                 f"size (a catalog designation such as material = "
-                                 f"\"ductile-iron\", size = \"DN 200 C40\")")
-        cat = default_catalog()
-        try:
-            row = cat.lookup(material, size)
-            mat = cat.material(material)
-        except InputError as exc:
-            raise StudyFileError(f"{sec.path}: {exc}") from None
-        d = float(row["inner_diameter_m"])
-        outside = float(row["outside_diameter_m"])
-        rough = mat.roughness if rough is None else rough
-        c = mat.hazen_williams_c if c is None else c
-        name = name or f"{material} {size}"
-        source = str(row["provenance"])
-    if d is None:
-        raise StudyFileError(f"{sec.key('inner_diameter')}: required key is missing (or give "
-                             f"material and size), e.g. inner_diameter = \"0.2 m\"")
-    if not name:
-        raise StudyFileError(f"{sec.key('name')}: required key is missing")
-    if sec.has("cost_per_metre") == sec.has("cost"):
-        raise StudyFileError(f"{sec.path}: give cost_per_metre (capital per metre, supplied "
-                             f"and installed) or cost = {{ coefficient, exponent }}, one of "
-                             f"the two")
-    if sec.has("cost"):
-        cs = sec.table("cost", ("coefficient", "exponent"))
-        model = PowerLawPipeCost(cs.number("coefficient", None, low=0.0, low_open=True,
-                                           example="1800.0"),
-                                 cs.number("exponent", None, low=0.0, high=4.0, low_open=True,
-                                           example="1.25"))
-        cost = float(model.per_metre(outside if outside is not None else d))
-    else:
-        cost = sec.number("cost_per_metre", None, low=0.0, low_open=True, example="120.0")
-    return DiameterOption(name, d, cost, rough, c, source)
-
-
-def _read_economics(top: Section) -> dict | None:
-    pu = top.table("pumping", ("efficiency",))
-    en = top.table("energy", ("price", "escalation", "demand_charge"))
-    ps = top.table("pump_station", ("cost_coefficient", "cost_exponent", "standby_fraction",
-                                    "life", "maintenance"))
-    ec = top.table("economics", ("discount_rate", "horizon", "pipe_life", "pipe_maintenance"))
-    if not (pu or en or ps or ec):
-        return None
-    for sec, nm in ((pu, "pumping"), (en, "energy"), (ec, "economics")):
-        if sec is None:
-            raise StudyFileError(f"{nm}: required section [{nm}] is missing (a pumped network "
-                                 f"needs [pumping], [energy] and [economics])")
-    out: dict[str, Any] = {
-        "efficiency": pu.number("efficiency", None, low=0.0, high=1.0, low_open=True,
-                                example="0.70"),
-        "tariff": EnergyTariff(en.number("price", None, low=0.0, low_open=True, high=100.0,
-                                         example="0.12"),
-                               en.number("escalation", 0.0, low=-0.5, high=0.5),
-                               en.number("demand_charge", 0.0, low=0.0)),
-        "discount_rate": ec.number("discount_rate", None, low=0.0, high=1.0, example="0.05"),
-        "horizon": int(ec.number("horizon", None, low=1, high=200, integer=True,
-                                 example="30")),
-        "pipe_life": ec.number("pipe_life", None, low=1.0, high=500.0, example="60"),
-        "pipe_maintenance": ec.number("pipe_maintenance", 0.0, low=0.0, high=1.0),
-        "pump_station": None,
-    }
-    if ps:
-        out["pump_station"] = PumpStationCost(
-            ps.number("cost_coefficient", None, low=0.0, low_open=True, example="8000"),
-            ps.number("cost_exponent", None, low=0.0, high=2.0, low_open=True, example="0.7"),
-            ps.number("standby_fraction", 0.0, low=0.0, high=10.0),
-            ps.number("life", 20.0, low=1.0, high=200.0),
-            ps.number("maintenance", 0.0, low=0.0, high=1.0))
-    return out
-
-
-# --------------------------------------------------------------------------------------------
 # results
 # --------------------------------------------------------------------------------------------
-@dataclass
-class NetworkResult:
+def _coordinate(value: float | None) -> float:
+    return float("nan") if value is None else float(value)
+
+
+@dataclass(repr=False)
+class NetworkResult(StudyResult):
     """What a network study found.
 
     Attributes
@@ -704,9 +548,9 @@ class NetworkResult:
         Present value of the life-cycle cost where the network is pumped; pipe capital where
         it is gravity-fed [currency].
     costs : dict
-        The cost terms (``capex_pipe``, and where pumped ``capex_pump_station``,
-        ``pv_energy``, ``pv_maintenance``, ``pv_replacement``, ``pv_residual``, ``pv_total``,
-        ``eac``, ``installed_power_kw``).
+        The cost terms (``capex_pipe``, and where pumped ``capex_pump_station`` (every
+        stage, undiscounted), ``pv_pump_station``, ``pv_energy``, ``pv_maintenance``,
+        ``pv_replacement``, ``pv_residual``, ``pv_total``, ``eac``, ``installed_power_kw``).
     success : bool
         A design was found that holds every node's minimum pressure in every case.
     message : str
@@ -714,7 +558,15 @@ class NetworkResult:
         The optimizer's record (method, gap, evaluations, history of the best so far).
     cases : pandas.DataFrame
         One row per demand case (duty point, year): total demand, pump head, power, least
-        margin.
+        margin, the hydraulic residuals.
+    monte_carlo : NetworkMonteCarloResult or None
+        The Monte Carlo of the study's ``[uncertainty]``, where it has one.
+    cash_flows : pandas.DataFrame
+        The chosen design's money year by year (:class:`~pipeopt.cashflow.CashFlows`): ``year``
+        0 … N, ``capital_pipe``, ``capital_station``, ``station_renewal``, ``energy``,
+        ``maintenance``, ``residual`` (a credit), ``total``, ``discount_factor``,
+        ``discounted``; the ``discounted`` column sums to ``total_cost``. A gravity network:
+        year 0, the pipe capital.
     """
 
     study: NetworkStudy
@@ -726,14 +578,17 @@ class NetworkResult:
     message: str
     outcome: Any = field(repr=False)
     cases: pd.DataFrame = field(repr=False, default_factory=pd.DataFrame)
-    _crit: int = field(repr=False, default=0)
+    cash_flows: pd.DataFrame = field(repr=False, default_factory=pd.DataFrame)
+    critical_case: int = 0
+    monte_carlo: Any = field(repr=False, default=None)
 
     @property
     def currency(self) -> str:
         return self.study.currency
 
     @classmethod
-    def _build(cls, study: NetworkStudy, outcome: ds.DesignOutcome) -> NetworkResult:
+    def build(cls, study: NetworkStudy, outcome: ds.DesignOutcome) -> NetworkResult:
+        """The result of ``study`` from its optimizer's outcome."""
         pr = study.problem
         ev = outcome.evaluation
         g = pr.graph
@@ -759,7 +614,8 @@ class NetworkResult:
             "margin_m": margin[node_case, jj],
             "feasible": margin[node_case, jj] >= -ds.HEAD_TOLERANCE,
             "case": [case_names[c] for c in node_case],
-            "x_m": [n.x for n in study.nodes], "y_m": [n.y for n in study.nodes]})
+            "x_m": [_coordinate(n.x) for n in study.nodes],
+            "y_m": [_coordinate(n.y) for n in study.nodes]})
         src_head = np.array([x.head if x.head is not None else np.nan for x in study.sources])
         if pr.free_pump:
             src_head = np.array([study.sources[0].level + float(ev.pump_head[0, crit])])
@@ -768,7 +624,8 @@ class NetworkResult:
             "elevation_m": [x.level if x.level is not None else x.head for x in study.sources],
             "head_m": src_head, "pressure_head_m": np.nan, "min_pressure_head_m": np.nan,
             "margin_m": np.nan, "feasible": True, "case": case_names[crit],
-            "x_m": [x.x for x in study.sources], "y_m": [x.y for x in study.sources]})
+            "x_m": [_coordinate(x.x) for x in study.sources],
+            "y_m": [_coordinate(x.y) for x in study.sources]})
         nodes = pd.concat([nodes, srcs], ignore_index=True)
         names = list(g.node_names)
         opt_names = [o.name for o in study.options]
@@ -795,13 +652,20 @@ class NetworkResult:
                            "max_velocity_m_s", "cost"]]
         else:
             pipes = _split_rows(study, outcome, base, crit, vmax)
-        lc = ev.life_cycle
         costs = {"capex_pipe": float(ev.capital[0])}
-        if lc is not None:
-            for key in ("capex_pump_station", "installed_power_kw", "pv_energy",
-                        "pv_maintenance", "pv_replacement", "pv_residual", "pv_total", "eac"):
-                costs[key] = float(getattr(lc, key)[0])
         total = float(ev.cost[0])
+        if ev.life_cycle is not None:
+            # the chosen design's money again, year by year (reconciles to its present value)
+            lc = life_cycle(pr.economics, ev.capital, ev.power_kw, yearly=True)
+            for key in ("capex_pump_station", "pv_pump_station", "installed_power_kw",
+                        "pv_energy", "pv_maintenance", "pv_replacement", "pv_residual",
+                        "pv_total", "eac"):
+                costs[key] = float(getattr(lc, key)[0])
+            cash = lc.cash_flows.frame(0, 0)
+        else:
+            cash = pd.DataFrame({"year": [0], "capital_pipe": [costs["capex_pipe"]],
+                                 "total": [costs["capex_pipe"]], "discount_factor": [1.0],
+                                 "discounted": [costs["capex_pipe"]]})
         dem = pr.demand.reshape(s, j)
         cases = pd.DataFrame({"case": case_names, "total_demand_m3_s": dem.sum(axis=1),
                               "pump_head_m": ev.pump_head[0],
@@ -814,9 +678,22 @@ class NetworkResult:
         if not ev.converged[0]:
             msg += "; the hydraulics of the design did not converge"
         return cls(study=study, pipes=pipes, nodes=nodes, total_cost=total, costs=costs,
-                   success=ok, message=msg, outcome=outcome, cases=cases, _crit=crit)
+                   success=ok, message=msg, outcome=outcome, cases=cases, cash_flows=cash,
+                   critical_case=crit)
 
     # ----- views -----------------------------------------------------------------------------
+    def headline(self) -> str:
+        state = "every node holds its pressure" if self.success else "no feasible design"
+        cur = f" {self.currency}" if self.currency else ""
+        return f"{self.study.name}: total cost {self.total_cost:,.0f}{cur}; {state}"
+
+    def tables(self) -> dict[str, pd.DataFrame]:
+        out = {"Pipes": self.pipes, "Nodes": self.nodes.drop(columns=["x_m", "y_m"]),
+               "Demand cases": self.cases, "Cash flows": self.cash_flows}
+        if self.monte_carlo is not None:
+            out.update(self.monte_carlo.tables())
+        return out
+
     def text(self) -> str:
         """A plain-text summary: cost, method, sizes, pressures, the hydraulic check, caution."""
         s = self.study
@@ -829,22 +706,23 @@ class NetworkResult:
         lines = [f"pipeopt network study: {s.name}"]
         if s.illustrative:
             lines.append("ILLUSTRATIVE: the network and its cost figures are invented.")
-        n_cases = pr.n_cases
         lines.append(f"{len(s.nodes)} nodes, {len(s.sources)} source(s), {len(s.pipes)} pipes "
                      f"({pr.n_design} to size from {len(s.options)} sizes); "
                      f"{'branched' if pr.graph.is_forest() else 'looped'}; {law}; "
-                     f"{n_cases} demand case(s)")
+                     f"{pr.n_cases} demand case(s)")
         lines.append(f"Optimizer: {self.message}")
         lines.append("")
         c = self.costs
         if "pv_total" in c:
             lines += [f"Life-cycle cost {c['pv_total']:,.0f}{cur} present value "
                       f"(EAC {c['eac']:,.0f}{cur}/yr): pipes {c['capex_pipe']:,.0f}, pump "
-                      f"station {c['capex_pump_station']:,.0f}, energy {c['pv_energy']:,.0f}",
+                      f"station {c['pv_pump_station']:,.0f}, energy {c['pv_energy']:,.0f}",
                       f"  pump head {self.cases['pump_head_m'].min():.1f}-"
                       f"{self.cases['pump_head_m'].max():.1f} m, peak power "
                       f"{self.cases['power_kw'].max():.1f} kW, installed "
-                      f"{c['installed_power_kw']:.1f} kW"]
+                      f"{c['installed_power_kw']:.1f} kW",
+                      f"  cash flows of years 0-{int(self.cash_flows['year'].iloc[-1])} in the "
+                      f"cash_flows table; discounted, they sum to the present value"]
         else:
             lines.append(f"Pipe capital {c['capex_pipe']:,.0f}{cur} (gravity-fed: capital "
                          f"only)")
@@ -852,8 +730,8 @@ class NetworkResult:
         if not new.empty:
             w_p = max(len(str(p)) for p in new["pipe"])
             w_s = max(len(str(p)) for p in new["size"])
-            lines += ["", f"Sizes chosen (velocity in the {self.cases['case'].iloc[self._crit]} "
-                          f"case):"]
+            lines += ["", f"Sizes chosen (velocity in the "
+                          f"{self.cases['case'].iloc[self.critical_case]} case):"]
             for _, r in new.iterrows():
                 lines.append(f"  {r['pipe']:<{w_p}}  {r['size']:<{w_s}} {r['length_m']:8,.0f} m "
                              f"{r['inner_diameter_m'] * 1000:7.1f} mm "
@@ -876,22 +754,10 @@ class NetworkResult:
         if s.fluid_is_default and pr.head_loss == "darcy-weisbach":
             lines.append("Fluid: water at 15 degC (no [fluid] section)")
         lines += [f"Note: {n}" for n in s.notes]
+        if self.monte_carlo is not None:
+            lines += ["", self.monte_carlo.text()]
         lines += ["", "Caution: " + CAUTION]
         return "\n".join(lines)
-
-    def __repr__(self) -> str:
-        return (f"NetworkResult({self.study.name!r}: total cost {self.total_cost:,.0f} "
-                f"{self.currency}, success={self.success})")
-
-    def _repr_html_(self) -> str:
-        money = html.escape(self.currency or "currency")
-        text = html.escape(self.text()).replace("\n", "<br>")
-        pipes = self.pipes.to_html(index=False, border=0, float_format=lambda x: f"{x:,.4g}")
-        nodes = self.nodes.drop(columns=["x_m", "y_m"]).to_html(
-            index=False, border=0, float_format=lambda x: f"{x:,.4g}")
-        return (f"<div class='pipeopt-result'><p style='font-family:monospace'>{text}</p>"
-                f"<p><b>Pipes</b> (money in {money})</p>{pipes}<p><b>Nodes</b></p>{nodes}"
-                f"</div>")
 
 
 def _split_rows(study: NetworkStudy, outcome: ds.DesignOutcome, base: dict, crit: int,

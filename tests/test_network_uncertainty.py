@@ -1,0 +1,193 @@
+"""Tests of pipeopt.network.uncertainty: Monte Carlo of a network design's life-cycle cost."""
+
+from __future__ import annotations
+
+import dataclasses
+import tomllib
+from importlib import resources
+
+import numpy as np
+import pytest
+from scipy import stats
+
+import pipeopt.network.uncertainty as nu
+from pipeopt.costs import EnergyTariff, PowerLawPipeCost
+from pipeopt.errors import InputError
+from pipeopt.inputs import Economics, Pumping
+from pipeopt.network import NetworkStudy
+from pipeopt.network.design import evaluate
+from pipeopt.network.inputs import DutyPoint
+from pipeopt.studyfile import StudyFileError
+from pipeopt.uncertainty import Normal, Triangular, Uniform
+
+
+def demo_dict() -> dict:
+    text = resources.files("pipeopt").joinpath("data", "demo_network.toml").read_text("utf-8")
+    return tomllib.loads(text)
+
+
+@pytest.fixture(scope="module")
+def demo():
+    study = NetworkStudy.demo()
+    return study, study.run(progress=False)
+
+
+EVERY_INPUT = {"energy_price": Uniform(0.08, 0.25), "escalation": Uniform(-0.01, 0.03),
+               "demand_charge": Uniform(20, 90), "discount_rate": Uniform(0.02, 0.08),
+               "horizon": Uniform(15, 45), "efficiency": Uniform(0.55, 0.85),
+               "flow_factor": Uniform(0.8, 1.2), "hours_factor": Uniform(0.8, 1.0),
+               "growth": Uniform(-0.01, 0.015), "station_cost_factor": Uniform(0.7, 1.4),
+               "pipe_cost_factor": Uniform(0.9, 1.2)}
+# large, growing demands: the velocity limit of 2.5 m/s fails in some samples' later years
+GROWING = {**EVERY_INPUT, "flow_factor": Uniform(1.2, 1.5), "growth": Uniform(0.0, 0.03),
+           "horizon": Uniform(3, 40)}
+
+
+@pytest.mark.parametrize("dist", [EVERY_INPUT, GROWING], ids=["every-input", "growing"])
+def test_each_sample_equals_the_study_built_with_its_inputs(demo, dist):
+    # every sample's PV and feasibility against the study rebuilt with that sample's values
+    # (tariff, economics, pumping, demand factors, growth, cost coefficients scaled by the
+    # cost factors) and each design evaluated there
+    study, result = demo
+    mc = study.monte_carlo(dist, n=4, seed=11, designs=3, result=result)
+    if dist is GROWING:
+        assert not mc.feasible.all() and mc.feasible.any()
+    choices, _ = nu.runner_up_designs(study.problem, result.outcome.choice, 3)
+    assert mc.pv.shape == (4, 3)
+    e, ps = study.economics, study.pump_station
+    for s in range(4):
+        v = mc.inputs.iloc[s]
+        other = study.replace(
+            tariff=EnergyTariff(v["energy_price"], v["escalation"], v["demand_charge"]),
+            economics=Economics(v["discount_rate"], int(v["horizon"]), e.pipe_life,
+                                e.pipe_maintenance),
+            pumping=Pumping(v["efficiency"]), growth=v["growth"],
+            duties=tuple(DutyPoint(d.name, d.hours * v["hours_factor"],
+                                   d.demand_factor * v["flow_factor"])
+                         for d in study.duties),
+            pump_station=dataclasses.replace(
+                ps, coefficient=ps.coefficient * v["station_cost_factor"]),
+            options=tuple(dataclasses.replace(o, cost=PowerLawPipeCost(
+                o.cost.coefficient * v["pipe_cost_factor"], o.cost.exponent))
+                for o in study.diameter_options))
+        ev = evaluate(other.problem, choices)
+        np.testing.assert_allclose(mc.pv[s], ev.cost, rtol=1e-9)
+        np.testing.assert_array_equal(mc.feasible[s], ev.feasible)
+
+
+def test_the_chosen_design_first_and_its_runners_up_by_cost(demo):
+    study, result = demo
+    choices, costs = nu.runner_up_designs(study.problem, result.outcome.choice, 4)
+    np.testing.assert_array_equal(choices[0], result.outcome.choice)
+    assert costs[0] == pytest.approx(result.total_cost, rel=1e-12)
+    assert list(costs[1:]) == sorted(costs[1:])
+    # each runner-up differs from the chosen design in one pipe, by one allowed size
+    diff = choices[1:] != choices[0]
+    assert np.all(diff.sum(axis=1) == 1)
+    assert np.all(np.abs(choices[1:][diff] - choices[0][diff.argmax(axis=1)]) == 1)
+
+
+def test_same_seed_same_results_whatever_the_batches(demo, monkeypatch):
+    study, result = demo
+    dist = {"flow_factor": Normal(1.0, 0.1, 0.7, 1.3), "growth": Uniform(0.0, 0.02),
+            "horizon": Uniform(10, 30), "energy_price": Triangular(0.1, 0.14, 0.22)}
+    a = study.monte_carlo(dist, n=40, seed=5, result=result)
+    monkeypatch.setattr(nu, "MAX_CASES", 300)
+    b = study.monte_carlo(dist, n=40, seed=5, result=result)
+    np.testing.assert_array_equal(a.pv, b.pv)
+    np.testing.assert_array_equal(a.feasible, b.feasible)
+    c = study.monte_carlo(dist, n=40, seed=6, result=result)
+    assert not np.array_equal(a.pv, c.pv)
+
+
+def test_the_summary_by_hand(demo):
+    study, result = demo
+    mc = study.monte_carlo({"energy_price": stats.uniform(0.1, 0.1)}, n=500, seed=3,
+                           result=result)
+    pv, feas = mc.pv, mc.feasible
+    cheapest = np.where(feas, pv, np.inf).argmin(axis=1)
+    table = mc.designs
+    for b in range(pv.shape[1]):
+        assert table["prob_cheapest"].iloc[b] == np.mean(cheapest == b)
+        assert table["pv_p50"].iloc[b] == pytest.approx(np.median(pv[:, b]), rel=1e-12)
+    # the energy price moves every design's PV the same way (rank correlation 1)
+    assert mc.correlation["spearman"].iloc[0] == pytest.approx(1.0)
+    assert "Monte Carlo of the life-cycle cost" in mc.text()
+    assert "\n" not in repr(mc)
+
+
+@pytest.mark.parametrize(
+    ("kwargs", "match"),
+    [
+        ({"distributions": {"aging_factor": Uniform(0.5, 2)}},
+         r"unknown network input 'aging_factor'; inputs: energy_price"),
+        ({"distributions": {"energy_price": 0.13}},
+         r"uncertainty\.energy_price: expected a distribution"),
+        ({"distributions": {}}, r"give at least one input distribution"),
+        ({"n": 1}, r"n must be a whole number from 2"),
+        ({"seed": -1}, r"seed must be a whole number from 0"),
+        ({"designs": 0}, r"designs must be a whole number from 1 to 20"),
+        ({"distributions": {"horizon": Uniform(0.1, 0.4)}},
+         r"uncertainty\.horizon: sampled horizon must be a whole number from 1 to 200; got 0"),
+        ({"distributions": {"efficiency": Uniform(0.5, 1.5)}},
+         r"uncertainty\.efficiency: sampled efficiency must be > 0 and <= 1"),
+    ],
+)
+def test_inputs_are_checked_as_in_a_sizing_study(demo, kwargs, match):
+    study, result = demo
+    args = {"distributions": {"energy_price": Uniform(0.1, 0.2)}, "n": 10, "seed": 0,
+            "designs": 2, "result": result, **kwargs}
+    with pytest.raises(InputError, match=match):
+        study.monte_carlo(**args)
+
+
+def test_a_gravity_network_is_refused():
+    d = demo_dict()
+    for key in ("pumping", "energy", "pump_station", "economics"):
+        d.pop(key)
+    d["source"] = [{"name": "Quillmere works", "head": "120 m"}]
+    study = NetworkStudy.from_dict(d)
+    with pytest.raises(InputError, match="needs a pumped source"):
+        study.monte_carlo({"energy_price": Uniform(0.1, 0.2)}, n=10)
+    d["uncertainty"] = {"energy_price": {"distribution": "uniform", "low": 0.1, "high": 0.2}}
+    with pytest.raises(StudyFileError, match="needs a pumped source"):
+        NetworkStudy.from_dict(d)
+
+
+def test_the_study_file_section_runs_with_the_study(tmp_path):
+    d = demo_dict()
+    d["optimizer"]["evaluations"] = 3000
+    d["uncertainty"] = {"samples": 300, "seed": 4, "designs": 2,
+                        "energy_price": {"distribution": "triangular", "low": 0.1,
+                                         "mode": 0.14, "high": 0.22},
+                        "horizon": {"distribution": "uniform", "low": 30, "high": 50}}
+    result = NetworkStudy.from_dict(d).run(progress=False)
+    mc = result.monte_carlo
+    assert mc.n == 300 and mc.seed == 4 and len(mc.designs) == 2
+    assert list(mc.inputs.columns) == ["energy_price", "horizon"]
+    assert "Monte Carlo of the life-cycle cost: 300 samples (seed 4)" in result.text()
+    from pipeopt.network.report import write_network_report
+
+    write_network_report(result, tmp_path / "out")
+    assert (tmp_path / "out" / "monte_carlo.csv").is_file()
+    assert (tmp_path / "out" / "monte_carlo_correlation.csv").is_file()
+
+
+@pytest.mark.parametrize(
+    ("table", "match"),
+    [
+        ({"aging_factor": {"distribution": "uniform", "low": 0.5, "high": 2}},
+         r"uncertainty\.aging_factor: unknown network input"),
+        ({"energy_price": {"distribution": "uniform", "low": 0.2, "high": 0.1}},
+         r"uncertainty\.energy_price: uniform: low \(0\.2\) must be below high"),
+        ({"designs": 50, "energy_price": {"distribution": "uniform", "low": 0.1,
+                                          "high": 0.2}},
+         r"uncertainty\.designs: must be <= 20"),
+        ({"samples": 100}, r"uncertainty: give at least one input distribution"),
+    ],
+)
+def test_study_file_errors_name_the_key(table, match):
+    d = demo_dict()
+    d["uncertainty"] = table
+    with pytest.raises(StudyFileError, match=match):
+        NetworkStudy.from_dict(d)
