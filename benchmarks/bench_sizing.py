@@ -1,10 +1,11 @@
 """Sizing-study speed: median ``run()`` time of a study with every catalog size of three materials.
 
-Run: ``python benchmarks/bench_sizing.py``. The benchmark study: ductile iron, PE 100 and carbon
-steel with all their catalog sizes and classes, 3 duty points, 1.5 %/yr flow growth, typical
-aging of every material, 40 years. Prints the median time of ``run()`` (with and without the
-continuous optimum), of the model-layer evaluation alone, and how the evaluation time grows with
-the number of candidates and years, measured side by side in this one run. Not a test.
+Run: ``python benchmarks/bench_sizing.py``. The bundled demo study, and the benchmark study:
+ductile iron, PE 100 and carbon steel with all their catalog sizes and classes, 3 duty points,
+1.5 %/yr flow growth, typical aging of every material, 40 years. Prints the median time of
+``run()`` (with and without the continuous optimum), of the model-layer evaluation alone, and
+how the evaluation time grows with the number of candidates and years, measured side by side in
+this one run. Not a test.
 """
 
 from __future__ import annotations
@@ -60,12 +61,16 @@ def median_time(fn, repeat: int = 21) -> float:
 def run() -> dict[str, float]:
     study = benchmark_study()
     n = len(study.candidates)
+    demo = SizingStudy.demo()
     figures = {
+        "demo run() with continuous optimum": median_time(demo.run),
+        "demo run() without optimum": median_time(lambda: demo.run(optimum=False)),
         "run() with continuous optimum": median_time(study.run),
         "run() without optimum": median_time(lambda: study.run(optimum=False)),
         "evaluate() only": median_time(study.evaluate),
     }
-    print(f"sizing benchmark: {n} candidates x 3 duty points x 40 years, median of 21")
+    print(f"sizing: the demo study ({len(demo.candidates)} candidates) and the benchmark study "
+          f"({n} candidates x 3 duty points x 40 years), median of 21")
     for name, t in figures.items():
         print(f"  {name:<32}{t * 1e3:8.2f} ms")
     print("evaluate() scaling (model layer; ratio to the benchmark size):")

@@ -6,8 +6,13 @@ measured in this one run:
 (a) economic inputs only (energy price, escalation, discount rate, horizon, efficiency, hours,
     pipe cost factor per material, station cost factor): the hydraulics are shared by every
     sample and evaluated once;
-(b) the same plus flows and demand growth, which change the hydraulics of every sample, so the
-    friction loss of every candidate x year x duty point is solved again for every sample.
+(b) the same plus flows and demand growth, which change the hydraulics of every sample: the
+    friction factor of every candidate x year x duty point is fitted once as a Chebyshev series
+    in the flow multiplier (pipeopt.surrogate) and the energy sums are matrix products.
+
+The reference, measured in the same run: (b) by the direct path (Colebrook-White solved for
+every sample, ``friction_series=False``) on a subsample of the same samples, scaled to the full
+count, and the largest relative EAC difference between the two paths on that subsample.
 
 Prints the wall time with one and with two threads, the samples per second, and the peak of
 memory traced by tracemalloc (numpy's arrays included), with the ratios. Not a test.
@@ -19,6 +24,7 @@ import argparse
 import time
 import tracemalloc
 
+import numpy as np
 from bench_sizing import benchmark_study
 
 from pipeopt.uncertainty import LogNormal, Normal, Triangular, Uniform, monte_carlo
@@ -39,14 +45,14 @@ HYDRAULIC = {**ECONOMIC, "flow_factor": Normal(1.0, 0.1, 0.7, 1.3),
              "growth": Uniform(0.0, 0.03)}
 
 
-def measure(study, dists, n: int, workers: int) -> tuple[float, float]:
+def measure(study, dists, n: int, workers: int, **kw) -> tuple[float, float, object]:
     tracemalloc.start()
     t0 = time.perf_counter()
-    monte_carlo(study, dists, n=n, seed=1, progress=False, workers=workers)
+    mc = monte_carlo(study, dists, n=n, seed=1, progress=False, workers=workers, **kw)
     dt = time.perf_counter() - t0
     _, peak = tracemalloc.get_traced_memory()
     tracemalloc.stop()
-    return dt, peak
+    return dt, peak, mc
 
 
 def main(n: int) -> dict:
@@ -54,15 +60,33 @@ def main(n: int) -> dict:
     print(f"Monte Carlo of the sizing benchmark study ({len(study.candidates)} candidates, "
           f"3 duty points, 40 years), {n:,} samples")
     results = {}
+    fast = None
     for name, dists in (("(a) economic inputs", ECONOMIC), ("(b) + flows and growth", HYDRAULIC)):
         for workers in (1, 2):
-            dt, peak = measure(study, dists, n, workers)
+            dt, peak, mc = measure(study, dists, n, workers)
             results[(name, workers)] = dt
+            results[("peak MiB", name, workers)] = peak / 2**20
+            fast = mc if name.startswith("(b)") else fast
             print(f"  {name:<26}{workers} thread(s) {dt:8.2f} s  {n / dt:10,.0f} samples/s  "
                   f"peak traced memory {peak / 2**20:7.0f} MiB")
+    # the reference: the direct path on the first samples of the same batch (same seed, so the
+    # same values); the series are fitted to the whole batch's range either way
+    sub = max(2, n // 20)
+    dt, peak, ref = measure(study, HYDRAULIC, sub, 1, friction_series=False)
+    direct = dt * n / sub
+    results["direct path, scaled"] = direct
+    same = monte_carlo(study, HYDRAULIC, n=sub, seed=1, progress=False)
+    diff = float(np.max(np.abs(same.eac / ref.eac - 1.0)))
+    results["largest relative EAC difference"] = diff
+    print(f"  (b) by the direct path      {sub:,} samples {dt:8.2f} s, scaled to {n:,}: "
+          f"{direct:8.2f} s; peak traced memory {peak / 2**20:7.0f} MiB")
+    feas = "identical" if np.array_equal(same.feasible, ref.feasible) else "DIFFERS"
+    print(f"  series against direct path on {sub:,} samples: largest relative EAC difference "
+          f"{diff:.1e}, feasibility {feas}")
     a = results[("(a) economic inputs", 1)]
     b = results[("(b) + flows and growth", 1)]
-    print(f"  ratio (b)/(a), one thread: {b / a:.1f}; two threads against one: "
+    print(f"  ratio (b)/(a), one thread: {b / a:.1f}; direct path / series path: "
+          f"{direct / b:.1f}; two threads against one: "
           f"(a) {a / results[('(a) economic inputs', 2)]:.2f}, "
           f"(b) {b / results[('(b) + flows and growth', 2)]:.2f}")
     return results

@@ -46,25 +46,41 @@ class _Classes:
     """The continuous curves of every (material, class): cost, carbon, wave speed, rating."""
 
     def __init__(self, candidates: pd.DataFrame, cost_factor: np.ndarray) -> None:
-        c = candidates.assign(_cost=candidates["cost_per_metre"].to_numpy() * cost_factor)
+        col = {k: candidates[k].to_numpy() for k in (
+            "material", "pressure_class", "inner_diameter_m", "cost_per_metre",
+            "embodied_co2_kg_per_m", "wave_speed_m_s", "pfa_pa", "pma_pa", "roughness_m",
+            "aging_m_per_year", "pressure_rating_pa", "temperature_factor")}
+        d_all = col["inner_diameter_m"].astype(float)
+        cost_all = col["cost_per_metre"].astype(float) * cost_factor
+        # classes in order of first appearance; rows of a class by bore, repeated bores once
+        keys = [(m, c) for m, c in zip(col["material"], col["pressure_class"], strict=True)]
+        first = dict.fromkeys(keys)
+        code = {k: j for j, k in enumerate(first)}
+        g_of = np.fromiter((code[k] for k in keys), dtype=int, count=len(keys))
+        order = np.lexsort((np.arange(d_all.size), d_all, g_of))
+        g_sorted, d_sorted = g_of[order], d_all[order]
+        repeat = np.zeros(order.size, dtype=bool)
+        repeat[1:] = (g_sorted[1:] == g_sorted[:-1]) & (d_sorted[1:] == d_sorted[:-1])
+        order, g_sorted = order[~repeat], g_sorted[~repeat]
+        bounds = np.searchsorted(g_sorted, np.arange(len(first) + 1))
+        index = candidates.index.to_numpy()
         self.groups = []
-        for (mat, cls), rows in c.groupby(["material", "pressure_class"], sort=False):
-            rows = rows.sort_values("inner_diameter_m").drop_duplicates("inner_diameter_m")
-            self.groups.append({
-                "material": mat, "class": cls, "index": rows.index.to_numpy(),
-                "d": rows["inner_diameter_m"].to_numpy(dtype=float),
-                "cost": rows["_cost"].to_numpy(dtype=float),
-                "co2": rows["embodied_co2_kg_per_m"].to_numpy(dtype=float),
-                "wave": rows["wave_speed_m_s"].to_numpy(dtype=float),
-                "pfa": rows["pfa_pa"].to_numpy(dtype=float),
-                "pma": rows["pma_pa"].to_numpy(dtype=float),
-                "eps": float(rows["roughness_m"].iloc[0]),
-                "alpha": float(rows["aging_m_per_year"].iloc[0]),
-                "rated": bool(np.isfinite(rows["pressure_rating_pa"]).all()),
-                "hot": bool(np.isnan(rows["temperature_factor"]).any())})
-            grp = self.groups[-1]
+        for j, (mat, cls) in enumerate(first):
+            rows = order[bounds[j]:bounds[j + 1]]
+            grp = {
+                "material": mat, "class": cls, "index": index[rows],
+                "d": d_all[rows], "cost": cost_all[rows],
+                "co2": col["embodied_co2_kg_per_m"][rows].astype(float),
+                "wave": col["wave_speed_m_s"][rows].astype(float),
+                "pfa": col["pfa_pa"][rows].astype(float),
+                "pma": col["pma_pa"][rows].astype(float),
+                "eps": float(col["roughness_m"][rows[0]]),
+                "alpha": float(col["aging_m_per_year"][rows[0]]),
+                "rated": bool(np.isfinite(col["pressure_rating_pa"][rows].astype(float)).all()),
+                "hot": bool(np.isnan(col["temperature_factor"][rows].astype(float)).any())}
             grp["log_d"] = np.log(grp["d"])
             grp["log_cost"] = np.log(np.maximum(grp["cost"], 1e-300))
+            self.groups.append(grp)
 
     def at(self, g: int, d: np.ndarray, keys: tuple[str, ...]) -> dict[str, np.ndarray]:
         grp = self.groups[g]

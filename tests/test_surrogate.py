@@ -202,3 +202,21 @@ def test_monte_carlo_samples_equal_one_sample_at_a_time_on_the_series_path():
         res = DEMO.run(inputs=inputs, optimum=False)
         np.testing.assert_allclose(mc.eac[k], res.candidates["eac"].to_numpy(), rtol=1e-12)
         assert np.array_equal(mc.feasible[k], res.candidates["feasible"].to_numpy())
+
+
+def test_monte_carlo_reference_path_agrees_with_the_series_path(monkeypatch):
+    # friction_series=False solves Colebrook-White for every sample: the reference path
+    import pipeopt.lifecycle as lifecycle
+
+    calls = []
+    real = lifecycle._series_hydraulics
+    monkeypatch.setattr(lifecycle, "_series_hydraulics",
+                        lambda *a, **k: calls.append(1) or real(*a, **k))
+    d = {"flow_factor": Normal(1.0, 0.12, 0.7, 1.3), "growth": Uniform(0.0, 0.03),
+         "energy_price": Uniform(0.08, 0.2)}
+    fast = monte_carlo(DEMO, d, n=40, seed=2)
+    used = len(calls)
+    slow = monte_carlo(DEMO, d, n=40, seed=2, friction_series=False)
+    assert used > 0 and len(calls) == used      # the series on the first run only
+    np.testing.assert_allclose(fast.eac, slow.eac, rtol=1e-12)
+    assert np.array_equal(fast.feasible, slow.feasible)
