@@ -29,7 +29,7 @@ from .friction import GRAVITY
 from .inputs import Constraints
 from .surge import joukowsky_head
 
-__all__ = ["check", "reasons", "join_clauses"]
+__all__ = ["check", "reasons", "join_clauses", "npsh_check"]
 
 
 def check(candidates: pd.DataFrame, lc: Any, constraints: Constraints, density: float,
@@ -78,6 +78,19 @@ def check(candidates: pd.DataFrame, lc: Any, constraints: Constraints, density: 
             "pma": pma, "too_slow": too_slow, "too_fast": too_fast, "over_pfa": over_pfa,
             "over_pma": over_pma, "too_hot": np.broadcast_to(too_hot, np.shape(too_fast)),
             "feasible": ~(too_slow | too_fast | over_pfa | over_pma | too_hot)}
+
+
+def npsh_check(checks: dict[str, Any], available: float, required: float,
+               margin: float) -> None:
+    """Add the pump's suction rule to ``checks`` (in place): NPSH available at the inlet must
+    be at least NPSH required + margin [m]. Sets ``npsh_short``, narrows ``feasible`` and adds
+    the reason to ``clauses`` (words :func:`reasons` writes)."""
+    short = np.full(np.shape(checks["feasible"]), available < required + margin)
+    checks["npsh_short"] = short
+    checks["feasible"] = checks["feasible"] & ~short
+    words = (f"NPSH available {available:.2f} m at the pump inlet is below NPSH required "
+             f"{required:.2f} m + margin {margin:.2f} m")
+    checks.setdefault("clauses", []).append((short, lambda ix: np.full(ix.size, words)))
 
 
 def join_clauses(n: int, clauses: list) -> np.ndarray:
@@ -140,6 +153,7 @@ def reasons(candidates: pd.DataFrame, lc: Any, checks: dict[str, np.ndarray],
                 mdp[ix], operating[ix], surge[ix], pma[ix], pclass[ix], derated(ix),
                 strict=True)]),
     ]
+    clauses += list(checks.get("clauses", ()))  # rules added by the study (NPSH)
     n = len(candidates)
     rated = np.isfinite(candidates["pressure_rating_pa"].to_numpy(dtype=float))
     notes = join_clauses(n, [

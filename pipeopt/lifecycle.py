@@ -94,6 +94,17 @@ class Scenario:
         A :data:`pipeopt.friction.METHODS` entry, or ``"constant"``.
     constant_friction_factor : float or None
         The Darcy factor used everywhere when ``friction_method == "constant"``.
+    pump : PumpSet or None
+        Efficiency by duty point or from a curve against flow (:mod:`pipeopt.pumpset`); None:
+        the constant ``efficiency``.
+    equipment_coefficient : float
+        Fixed equipment at the station, head loss c Q² of the total flow [s²/m⁵].
+    fittings : Fittings or None
+        Fittings by count (:class:`pipeopt.losses.Fittings`), their ΣK at each candidate's bore
+        added to ``minor_loss_k``.
+
+    With time-of-use prices (``duty.prices``), each duty point's energy is priced at its own
+    price; the named input ``energy_price`` scales every one in proportion.
     """
 
     density: float
@@ -114,6 +125,9 @@ class Scenario:
     carbon_price: float = 0.0
     friction_method: str = "colebrook"
     constant_friction_factor: float | None = None
+    pump: Any = None
+    equipment_coefficient: float = 0.0
+    fittings: Any = None
 
     def __post_init__(self) -> None:
         if not 0 < self.efficiency <= 1:
@@ -287,6 +301,7 @@ def evaluate(s: Scenario, diameter: Any, roughness: Any, aging_rate: Any,
     hyd = candidate_years(s, d, eps0, alpha, m, hv["aging_factor"])
     vel, re, f, h = hyd["velocity"], hyd["reynolds"], hyd["friction_factor"], hyd["head_loss"]
     head, energy0, peak0 = hyd["pump_head"], hyd["energy"], hyd["peak"]
+    priced0 = hyd.get("energy_priced", energy0)   # time of use: energy × price ratio
     capped = np.any(hyd["capped"], axis=(2, 3))
     transitional = np.count_nonzero(hyd["transitional"], axis=(2, 3))
     inv_eta = 1.0 / v["efficiency"]                                             # (S,)
@@ -298,7 +313,7 @@ def evaluate(s: Scenario, diameter: Any, roughness: Any, aging_rate: Any,
     # --- money: (S, C); yearly amounts are weighted sums, never (S, C, N) arrays ---------------
     run = tl.running[:, 1:]                                                     # (S, N)
     price = s.tariff.price_by_year(n_years, v["energy_price"], v["escalation"])  # (S, N)
-    pv_energy = (e_scale[:, None] * _weighted(energy0, price * run)
+    pv_energy = (e_scale[:, None] * _weighted(priced0, price * run)
                  + (v["demand_charge"] * inv_eta)[:, None] * _weighted(peak0, run))
     carbon_rate = s.grid_factor * s.carbon_price
     pv_op_carbon = (e_scale[:, None] * carbon_rate * _weighted(energy0, run) if carbon_rate
@@ -333,7 +348,9 @@ def evaluate(s: Scenario, diameter: Any, roughness: Any, aging_rate: Any,
         live = tl.live[:, None, 1:]
         energy = full(energy0) * e_scale[:, None, None] * live
         peak = full(peak0) * inv_eta[:, None, None] * live
-        energy_cost = energy * price[:, None, :] + v["demand_charge"][:, None, None] * peak
+        priced = (energy if priced0 is energy0 else
+                  full(priced0) * e_scale[:, None, None] * live)
+        energy_cost = priced * price[:, None, :] + v["demand_charge"][:, None, None] * peak
         carbon_cost = energy * carbon_rate
 
         def years_1_to_n(x: np.ndarray) -> np.ndarray:  # (S, C, N) -> (S, C, N + 1)
