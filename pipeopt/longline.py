@@ -55,7 +55,7 @@ MAX_PIPES = 3000
 #: Columns of :attr:`pipeopt.sizing.SizingResult.profile`.
 PROFILE_COLUMNS = ["chainage_m", "ground_m", "pipe_m", "head_min_m", "head_max_m",
                    "pressure_min_bar", "pressure_max_bar", "class", "station", "size",
-                   "pfa_bar", "pma_bar", "least_pressure_bar"]
+                   "pfa_bar", "pma_bar", "least_pressure_bar", "pfa_head_m", "least_head_m"]
 #: Columns of :attr:`pipeopt.sizing.SizingResult.stations`.
 STATION_COLUMNS = ["station", "chainage_m", "ground_m", "head_max_m", "peak_kw",
                    "installed_kw", "suction_pressure_min_bar", "discharge_pressure_max_bar",
@@ -236,7 +236,8 @@ class LongLine:
                   else float(ground[0] - cover))
         head_in = source + float(line.suction_pressure) / rho_g
         self.model = LineModel(
-            scenario=scenario, pump=scenario.pump, boosters=boosters if n_boost else None,
+            scenario=scenario, pump=pumping.pump_set(scenario.duty),
+            boosters=boosters if n_boost else None,
             chainage=chain, ground=ground, lengths=lengths,
             sites=site_idx if n_boost else np.zeros(0, dtype=int), equipment=equip_c,
             cover=cover, head_in=head_in, delivery=head_in + float(line.static_head),
@@ -330,7 +331,8 @@ class LongLine:
                 out[key][i, n:] = out[key][i, 0]
             out["cost"][i, n:] = np.inf
         bore = out["bore"]
-        out["k"] = line_k + (0.0 if fittings is None else np.asarray(fittings.k_sum(bore)))
+        out["k"] = line_k + (np.zeros_like(bore) if fittings is None
+                             else np.asarray(fittings.k_sum(bore)))
         self.class_names = names
         self.size_names = sizes
         self.group_arrays = out
@@ -607,31 +609,62 @@ class LongLine:
         return extra
 
     def profile_table(self, index: int, variations: Variations | None = None) -> pd.DataFrame:
-        """The grade-line envelope along design ``index``: one row per point
-        (:data:`PROFILE_COLUMNS`)."""
+        """The grade-line envelope along design ``index`` (:data:`PROFILE_COLUMNS`).
+
+        One row per point; a station has two rows at its chainage, its suction side (named
+        ``"... suction"``) and then its discharge side, so that the lift it gives shows as a
+        step.
+        """
         e = self._one(index, variations)
         m = self.model
         pipe, cls = self.design_pipe[index], self.design_classes[index]
         grp = self.grp[pipe]
-        def per_point(a):
-            return (np.concatenate([a, a[-1:]]))
-        names = per_point(self.class_names[grp, cls])
-        sizes = per_point(self.size_names[grp, cls])
-        ga = self.group_arrays
-        station = np.full(m.n_points, "", dtype=object)
-        for j, pt in enumerate(self.design_stations[index]):
-            if pt >= 0:
-                station[pt] = "head station" if j == 0 else f"booster {j}"
         rho_g = self.scenario.density * GRAVITY
-        return pd.DataFrame({
-            "chainage_m": m.chainage, "ground_m": m.ground, "pipe_m": e["axis"][0],
-            "head_min_m": e["head_min"][0], "head_max_m": e["head_max"][0],
-            "pressure_min_bar": e["pressure_min"][0] / 1e5,
-            "pressure_max_bar": e["pressure_max"][0] / 1e5, "class": names,
-            "station": station, "size": sizes,
-            "pfa_bar": per_point(ga["pfa"][grp, cls]) / 1e5,
-            "pma_bar": per_point(ga["pma"][grp, cls]) / 1e5,
-            "least_pressure_bar": m.least * rho_g / 1e5})[PROFILE_COLUMNS]
+
+        def per_point(a: np.ndarray) -> np.ndarray:
+            return np.concatenate([a, a[-1:]])
+
+        ga = self.group_arrays
+        pts = np.arange(m.n_points)
+        cols = {"chainage_m": m.chainage, "ground_m": m.ground, "pipe_m": e["axis"][0],
+                "head_min_m": e["discharge_min"][0], "head_max_m": e["discharge_max"][0],
+                "pressure_min_bar": e["discharge_pressure_min"][0] / 1e5,
+                "pressure_max_bar": e["discharge_pressure_max"][0] / 1e5,
+                "class": per_point(self.class_names[grp, cls]),
+                "station": np.full(m.n_points, "", dtype=object),
+                "size": per_point(self.size_names[grp, cls]),
+                "pfa_bar": per_point(ga["pfa"][grp, cls]) / 1e5,
+                "pma_bar": per_point(ga["pma"][grp, cls]) / 1e5,
+                "least_pressure_bar": m.least * rho_g / 1e5,
+                "pfa_head_m": e["axis"][0] + per_point(ga["pfa"][grp, cls]) / rho_g,
+                "least_head_m": e["axis"][0] + m.least}
+        table = pd.DataFrame(cols)
+        suction = []
+        for j, pt in enumerate(self.design_stations[index]):  # the stations: a few rows
+            if pt < 0:
+                continue
+            name = "head station" if j == 0 else f"booster {j}"
+            table.loc[pt, "station"] = name
+            row = table.loc[pt].copy()
+            row["station"] = f"{name} suction"
+            if j == 0:
+                row[["head_min_m", "head_max_m"]] = m.head_in
+                row[["pressure_min_bar", "pressure_max_bar"]] = \
+                    (m.head_in - row["pipe_m"]) * rho_g / 1e5
+            else:
+                row["head_min_m"] = e["arrival_min"][0][pt]
+                row["head_max_m"] = e["arrival_max"][0][pt]
+                row["pressure_min_bar"] = e["arrival_pressure_min"][0][pt] / 1e5
+                row["pressure_max_bar"] = e["arrival_pressure_max"][0][pt] / 1e5
+                # the suction side lies on the pipe coming in
+                for col in ("class", "size", "pfa_bar", "pma_bar"):
+                    row[col] = table.loc[pt - 1, col]
+                row["pfa_head_m"] = row["pipe_m"] + row["pfa_bar"] * 1e5 / rho_g
+            suction.append((pt - 0.5, row))
+        order = np.concatenate([pts.astype(float), [k for k, _ in suction]])
+        rows = pd.concat([table, pd.DataFrame([r for _, r in suction])], ignore_index=True)
+        return rows.iloc[np.argsort(order, kind="stable")].reset_index(drop=True)[
+            PROFILE_COLUMNS]
 
     def station_table(self, index: int, variations: Variations | None = None) -> pd.DataFrame:
         """The stations of design ``index`` (:data:`STATION_COLUMNS`)."""
@@ -643,7 +676,7 @@ class LongLine:
         rho_g = self.scenario.density * GRAVITY
         z = e["axis"][0][pts]
         pv = self.vapour_pressure or 0.0
-        suction = np.where(np.arange(pts.size) == 0, m.head_in, e["head_min"][0][pts]) - z
+        suction = np.where(np.arange(pts.size) == 0, m.head_in, e["arrival_min"][0][pts]) - z
         standby = np.zeros(pts.size)
         if self.scenario.pump_station is not None:
             standby[0] = self.scenario.pump_station.standby_fraction
@@ -656,7 +689,7 @@ class LongLine:
             "head_max_m": np.asarray(e["station_head_m"])[0][on], "peak_kw": peak,
             "installed_kw": peak * (1 + standby),
             "suction_pressure_min_bar": suction * rho_g / 1e5,
-            "discharge_pressure_max_bar": e["pressure_max"][0][pts] / 1e5,
+            "discharge_pressure_max_bar": e["discharge_pressure_max"][0][pts] / 1e5,
             "npsh_available_m": suction + (self.atmosphere[pts] - pv) / rho_g,
             "npsh_required_m": (np.nan if self.npsh_required is None
                                 else float(self.npsh_required))})[STATION_COLUMNS]

@@ -178,6 +178,9 @@ class SizingStudy(StudyFileMixin):
         self.fittings = fittings
         long_line = profile is not None or bool(sections) or boosters is not None
         if not long_line:
+            for key in ("cover", "source_level"):
+                if getattr(line, key) is not None:
+                    raise InputError(f"line.{key}: needs a ground profile ([[profile]])")
             for i, e in enumerate(self.equipment):
                 if e.at is not None:
                     raise InputError(f"equipment[{i}].at: a chainage needs a long line "
@@ -583,7 +586,8 @@ class SizingResult(StudyResult):
 
     def profile_of(self, index: int | None = None) -> pd.DataFrame:
         """The grade-line envelope of design ``index`` (default: the best)."""
-        return self.study.layout.profile_table(self._design(index), self._run_inputs())
+        index = self._design(index)
+        return self.study.layout.profile_table(index, self._run_inputs())
 
     @cached_property
     def stations(self) -> pd.DataFrame:
@@ -591,7 +595,8 @@ class SizingResult(StudyResult):
         ``ground_m``, ``head_max_m`` (largest head added), ``peak_kw`` (electrical),
         ``installed_kw``, ``suction_pressure_min_bar``, ``discharge_pressure_max_bar``,
         ``npsh_available_m`` (least), ``npsh_required_m``."""
-        return self.study.layout.station_table(self._design(None), self._run_inputs())
+        index = self._design(None)
+        return self.study.layout.station_table(index, self._run_inputs())
 
     def yearly(self, index: int | None = None) -> pd.DataFrame:
         """Year-by-year flows, energy and cash flows of one candidate (default: the best).

@@ -761,12 +761,17 @@ def evaluate_layouts(m: LineModel, pipe: np.ndarray, classes: np.ndarray,
         transitional_points=per_sample(np.count_nonzero(lay["transitional"], axis=(2, 3, 4))),
         roughness_capped=per_sample(np.any(lay["capped"], axis=(2, 3, 4))),
         cash_flows=flows)
-    base = {
-        "head_max": lay["discharge"].max(axis=(2, 3))[0],
-        "head_min": lay["arrival"].min(axis=(2, 3))[0],
-        "pressure_max": lay["pressure_high"].max(axis=(2, 3))[0],
-        "pressure_min": lay["pressure_low"].min(axis=(2, 3))[0],
-        "axis": lay["axis"]}
+    rho_g = s.density * GRAVITY
+    z = lay["axis"]
+    base = {"axis": z,
+            "pressure_max": lay["pressure_high"].max(axis=(2, 3))[0],
+            "pressure_min": lay["pressure_low"].min(axis=(2, 3))[0]}
+    for side in ("discharge", "arrival"):  # the two sides of a station (equal elsewhere)
+        h = lay[side]
+        base[f"{side}_max"] = h.max(axis=(2, 3))[0]
+        base[f"{side}_min"] = h.min(axis=(2, 3))[0]
+        base[f"{side}_pressure_max"] = rho_g * (base[f"{side}_max"] - z)
+        base[f"{side}_pressure_min"] = rho_g * (base[f"{side}_min"] - z)
     extra = {"stretch_pressure": p_high, "highest_pressure": p_high.max(axis=-1),
              "stretch_velocity": v_stretch, "design_velocity": per_sample(vel[:, :, 0, k_design]),
              "station_peak_kw": st_peak,
