@@ -17,6 +17,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 import bench_explorer  # noqa: E402
 import bench_friction  # noqa: E402
+import bench_longline  # noqa: E402
 import bench_sizing  # noqa: E402
 import bench_uncertainty  # noqa: E402
 
@@ -41,6 +42,9 @@ def main(quick: bool) -> None:
     rows.append(("Monte Carlo", "10,000 samples, economic inputs [s]", a, "< 5", a < 5))
     rows.append(("Monte Carlo", "10,000 samples, + flows, growth, 2 threads [s]", b, "< 5",
                  b < 5))
+    print("=" * 78)
+    ll = bench_longline.run(3 if quick else 7)["long-line demo: demo('longline').run()"]
+    rows.append(("long line", "demo with up to 3 stations [s]", ll, "< 1", ll < 1.0))
     print("=" * 78)
     ex = bench_explorer.main(7 if quick else 21) * 1e3
     rows.append(("explorer", "control change to redrawn figure [ms]", ex, "< 150", ex < 150))

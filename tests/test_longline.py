@@ -115,7 +115,8 @@ def test_python_constructor_matches_the_study_file(demo):
         sections=(LineSection(end="22 km", sizes=["DN 600", "DN 700", "DN 800"]),
                   LineSection(sizes=["DN 500", "DN 600", "DN 700"])),
         boosters=Boosters(2, sites=["12 km", "19 km"], fixed_cost=650000.0, cost_per_kw=450.0,
-                          standby_fraction=0.5, life=25, maintenance=0.02),
+                          standby_fraction=0.5, life=25, maintenance=0.02,
+                          suction_pressure_min="0.5 bar"),
         equipment=(Equipment("35 kPa", "1600 m^3/h"),),
         fittings=Fittings.parse(DEMO["fittings"]))
     np.testing.assert_allclose(study.run().candidates["eac"], demo[1].candidates["eac"],

@@ -48,6 +48,7 @@ def workdir(tmp_path):
         shutil.copy(data / "demo_sizing.toml", tmp_path / name)
     for name in ("main.toml", "my-main.toml"):
         shutil.copy(data / "demo_upgrade.toml", tmp_path / name)
+    shutil.copy(data / "demo_longline.toml", tmp_path / "longline.toml")
     return tmp_path
 
 
