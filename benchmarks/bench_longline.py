@@ -13,27 +13,16 @@ M^3). Target: the long-line demo (up to 3 stations: the head station and 2 boost
 from __future__ import annotations
 
 import copy
-import statistics
-import time
 import tomllib
 from importlib import resources
 
 import numpy as np
+from bench_sizing import median_time  # noqa: E402  (the benchmarks' folder is on the path)
 
 from pipeopt import Fluid, SizingStudy
 
 DEMO = tomllib.loads(resources.files("pipeopt").joinpath("data", "demo_longline.toml")
                      .read_text("utf-8"))
-
-
-def median_time(fn, repeat: int = 7) -> float:
-    fn()
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return statistics.median(times)
 
 
 def free_positions(spacing_km: float | None) -> dict:

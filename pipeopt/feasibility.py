@@ -12,7 +12,12 @@ the reader should know. The rules, in the vocabulary of EN 805:
 - the maximum design pressure MDP, the operating pressure plus the surge (the Joukowsky head
   rise of stopping the largest flow with the candidate's Korteweg wave speed, unless the study
   gives an allowance), against PMA, the allowable maximum operating pressure with surge;
-- the service temperature against the material's limit (plastics are derated below it).
+- the service temperature against the material's limit (plastics are derated below it);
+- with ``pumping.npsh_required``, the NPSH available at the pump inlet against the NPSH
+  required plus a margin (:func:`npsh_check`, added by the study).
+
+A long line's designs are checked by :meth:`pipeopt.longline.LongLine.check` (every stretch
+against its own class, the least pressure along the line by construction).
 
 The highest pressure of a single line is at the pump discharge: the grade line falls along the
 line faster than the pipe rises in a pumped main, so every other point is at a lower pressure.

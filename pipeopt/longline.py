@@ -396,8 +396,9 @@ class LongLine:
         pipe, cls = self.design_pipe, self.design_classes
         grp = self.grp[pipe]
         ga = self.group_arrays
-        def take(name):
-            return (ga[name][grp, cls])                              # (D, P - 1)
+        def take(name: str) -> np.ndarray:  # (D, P - 1)
+            return ga[name][grp, cls]
+
         lengths = m.lengths
         total = lengths.sum()
         gov = self._governing(extra["stretch_pressure"], pipe, cls)
@@ -498,9 +499,10 @@ class LongLine:
         over_pfa_z = rated & usable & (p > pfa * (1 + 1e-12))
         over_pma_z = rated & usable & (mdp > pma * (1 + 1e-12))
         gov = np.argmin(np.where(rated, np.minimum(pfa - p, pma - mdp), np.inf), axis=-1)
-        def pick(a):
-            return (np.take_along_axis(np.broadcast_to(a, p.shape), gov[..., None],
-                                                     axis=-1)[..., 0])
+        def pick(a: np.ndarray) -> np.ndarray:  # the governing stretch's figure
+            return np.take_along_axis(np.broadcast_to(a, p.shape), gov[..., None],
+                                      axis=-1)[..., 0]
+
         shape = p.shape[:-1]
         too_hot = np.broadcast_to(~usable.all(axis=-1), shape)
         too_fast = (vel > con.velocity_max).any(axis=-1) if con.velocity_max is not None \

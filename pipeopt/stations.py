@@ -332,30 +332,33 @@ def _line_heads(m: LineModel, pipe: np.ndarray, classes: np.ndarray, flow: np.nd
     return hyd
 
 
-def _hold(m: LineModel, pipe: np.ndarray, pmax: np.ndarray, vmax: np.ndarray
-          ) -> tuple[np.ndarray, np.ndarray]:
+def _hold(m: LineModel, pipe: np.ndarray, pmax: np.ndarray, vmax: np.ndarray,
+          stretches: slice = slice(None)) -> tuple[np.ndarray, np.ndarray]:
     """The cheapest class holding each stretch's highest pressure, and the excess where none
     does.
 
-    ``pmax`` and ``vmax`` (D, Z) are the highest pressure [Pa] and velocity [m/s] of stretches
-    ``Z`` of pipes ``pipe`` (D,) (all stretches, Z = P − 1). Returns the class index (D, Z)
-    (the most expensive where none holds) and the excess [bar] over the PFA/PMA of that class
-    (0 where one holds).
+    ``pmax`` and ``vmax`` (D, Z) are the highest pressure [Pa] and velocity [m/s] of the
+    ``stretches`` (Z of them) of pipes ``pipe`` (D,). Returns the class index (D, Z) (the most
+    expensive usable one where none holds) and the excess [bar] over its PFA or PMA, plus 1
+    (0 where a class holds).
     """
     rho_g = m.scenario.density * GRAVITY
-    pfa, pma = m.pfa[pipe], m.pma[pipe]
-    surge = (np.full(m.wave[pipe].shape, m.surge_allowance) if m.surge_allowance is not None
-             else m.wave[pipe] * vmax[..., None] / GRAVITY)
+    pfa, pma = m.pfa[pipe][:, stretches], m.pma[pipe][:, stretches]
+    usable, rated = m.usable[pipe][:, stretches], m.rated[pipe][:, stretches]
+    surge = (np.full(pfa.shape, m.surge_allowance) if m.surge_allowance is not None
+             else m.wave[pipe][:, stretches] * vmax[..., None] / GRAVITY)
     mdp = pmax[..., None] + rho_g * surge
-    holds = m.usable[pipe] & (~m.rated[pipe] | ((pmax[..., None] <= pfa) & (mdp <= pma)))
+    holds = usable & (~rated | ((pmax[..., None] <= pfa) & (mdp <= pma)))
     any_ = holds.any(axis=-1)
-    last = m.usable[pipe].sum(axis=-1) - 1
-    j = np.where(any_, np.argmax(holds, axis=-1), np.maximum(last, 0))
-    def take(a):
-        return (np.take_along_axis(a, j[..., None], axis=-1)[..., 0])
+    j = np.where(any_, np.argmax(holds, axis=-1),
+                 np.maximum(usable.sum(axis=-1) - 1, 0))
+
+    def take(a: np.ndarray) -> np.ndarray:
+        return np.take_along_axis(a, j[..., None], axis=-1)[..., 0]
+
     over = np.maximum(pmax - take(pfa), take(mdp) - take(pma))
-    excess = np.where(any_, 0.0, np.where(np.isfinite(over), np.maximum(over, 0.0) / 1e5 + 1.0,
-                                          1.0))
+    excess = np.where(any_, 0.0, np.where(np.isfinite(over),
+                                          np.maximum(over, 0.0) / 1e5 + 1.0, 1.0))
     return j, excess
 
 
@@ -433,7 +436,7 @@ def optimal_layouts(m: LineModel, classes0: np.ndarray) -> dict[str, np.ndarray]
             hh = np.maximum(cphi[:, pb - 1 - pa, :], phi_end[:, b - 1, :])   # (C, P)
             ph = hh - z
             pmax = rho_g * np.maximum(ph[:, pa:pb], ph[:, pa + 1:pb + 1])    # (C, pb - pa)
-            j, excess = _hold(_Slice(m, pa, pb), pipe, pmax, vmax[:, pa:pb])
+            j, excess = _hold(m, pipe, pmax, vmax[:, pa:pb], slice(pa, pb))
             cst = np.take_along_axis(cost_m[:, pa:pb, :], j[..., None], axis=-1)[..., 0]
             pipe_pv[a, b] = (cst * m.lengths[pa:pb]).sum(axis=-1)
             violation[a, b] = excess.sum(axis=-1)
@@ -494,14 +497,32 @@ def optimal_layouts(m: LineModel, classes0: np.ndarray) -> dict[str, np.ndarray]
             "violation": bad & feasible}
 
 
-class _Slice:
-    """The view of a :class:`LineModel` on stretches [lo, hi) (for :func:`_hold`)."""
+#: The most numbers of one (samples, designs, years, duty points, stations, points) array of a
+#: batch of hydraulic samples in :func:`evaluate_layouts`.
+_BATCH_NUMBERS = 4e6
 
-    def __init__(self, m: LineModel, lo: int, hi: int) -> None:
-        self.scenario = m.scenario
-        self.surge_allowance = m.surge_allowance
-        for name in ("pfa", "pma", "wave", "rated", "usable"):
-            setattr(self, name, getattr(m, name)[:, lo:hi])
+
+def _samples(variations: Variations, start: int, stop: int) -> Variations:
+    """Samples ``start`` … ``stop`` − 1 of ``variations`` (the same year axis)."""
+    from dataclasses import replace
+
+    given = {k: np.asarray(x)[start:stop] for k, x in variations.given.items()}
+    return replace(variations, **given)
+
+
+def _joined(parts: list[tuple[LifeCycle, dict]]) -> tuple[LifeCycle, dict]:
+    """Batches of samples joined along the sample axis (no yearly arrays)."""
+    first_lc, first_extra = parts[0]
+    lc = LifeCycle(**vars(first_lc))
+    for name, value in vars(first_lc).items():
+        if name not in ("replacement_years", "cash_flows") and value is not None:
+            setattr(lc, name, np.concatenate([np.asarray(getattr(p[0], name))
+                                              for p in parts]))
+    extra = dict(first_extra)
+    for name in ("stretch_pressure", "highest_pressure", "stretch_velocity", "design_velocity",
+                 "station_peak_kw", "station_head_m", "pump_outside"):
+        extra[name] = np.concatenate([np.asarray(p[1][name]) for p in parts])
+    return lc, extra
 
 
 # --------------------------------------------------------------------------------------------
@@ -617,6 +638,15 @@ def evaluate_layouts(m: LineModel, pipe: np.ndarray, classes: np.ndarray,
     last = tl.horizon - 1
     hyd_keys = ("flow_factor", "growth", "aging_factor")
     hydraulic = not all(np.ptp(v[k]) == 0 for k in hyd_keys)
+    # every hydraulic sample has its own grade lines, (D, T, K, J, P) numbers each: evaluate
+    # them a batch at a time (the same sums in the same order: results do not depend on it)
+    per_sample = (pipe.size * n_years * s.duty.flow_array.size * stations.shape[1]
+                  * m.n_points)
+    batch = max(1, int(_BATCH_NUMBERS // max(per_sample, 1)))
+    if hydraulic and not yearly and n_s > batch:
+        parts = [evaluate_layouts(m, pipe, classes, stations, _samples(variations, a, a + batch),
+                                  yearly=False) for a in range(0, n_s, batch)]
+        return _joined(parts)
     t_eval = _state_years(m, n_years, v["growth"])
     flow, af = _states(s, t_eval, v, hydraulic)
     lay = _layout(m, pipe, classes, stations, flow, af)
@@ -680,13 +710,14 @@ def evaluate_layouts(m: LineModel, pipe: np.ndarray, classes: np.ndarray,
     vel = lay["velocity"]                                                    # (S_h,D,T,K,P-1)
     vel_design = vel[:, :, 0, k_design, :].max(axis=-1)
     fast = np.argmax(vel[:, :, 0, k_design, :], axis=-1)
-    def pick_fast(a):
-        return (np.take_along_axis(a[:, :, 0, k_design, :], fast[..., None],
-                                                  axis=-1)[..., 0])
+    def pick_fast(a: np.ndarray) -> np.ndarray:  # the fastest stretch's figure
+        return np.take_along_axis(a[:, :, 0, k_design, :], fast[..., None], axis=-1)[..., 0]
+
     loss_total = lay["cum"][..., -1]                                          # (S_h,D,T,K)
     pump_head = np.maximum(dh, 0.0).sum(axis=-1)                              # (S_h,D,T,K)
-    def per_sample(x):
-        return (np.broadcast_to(x, (n_s,) + x.shape[1:]))
+    def per_sample(x: np.ndarray) -> np.ndarray:
+        return np.broadcast_to(x, (n_s,) + x.shape[1:])
+
     peak_total = peak_st.sum(axis=2)                                          # (S_h,D,T)
     p_stretch = np.maximum(lay["pressure_start"], lay["pressure_end"]).max(axis=3)  # (S_h,D,T,Z)
     p_high = running_max(np.moveaxis(p_stretch, 2, -1), last)                 # (S, D, Z)

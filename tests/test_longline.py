@@ -210,3 +210,17 @@ def test_command_line_runs_the_long_line_demo(tmp_path):
                          env={**os.environ, "MPLBACKEND": "Agg"})
     assert run.returncode == 0, run.stderr[-2000:]
     assert "booster" in run.stdout and (tmp_path / "out" / "report.html").exists()
+
+
+def test_samples_in_batches_give_the_same_figures(demo, monkeypatch):
+    # hydraulic samples are evaluated a batch at a time; the batch size changes nothing
+    import pipeopt.stations as stations
+
+    study, _ = demo
+    values = {"flow_factor": np.linspace(0.9, 1.1, 12), "energy_price": np.linspace(0.1, 0.2, 12)}
+    var = study.variations(values)
+    whole = study.evaluate(variations=var, yearly=False)
+    monkeypatch.setattr(stations, "_BATCH_NUMBERS", 1e4)
+    parts = study.evaluate(variations=var, yearly=False)
+    np.testing.assert_array_equal(whole.eac, parts.eac)
+    np.testing.assert_array_equal(study.check(whole)["feasible"], study.check(parts)["feasible"])

@@ -28,7 +28,8 @@ from pipeopt.errors import InputError
 from pipeopt.stations import Boosters, evaluate_layouts, telescope
 
 G = 9.80665
-SIZES = """material,designation,nominal,pressure_class,outside_diameter_mm,wall_mm,pressure_rating_bar
+SIZES = """material,designation,nominal,pressure_class,outside_diameter_mm,wall_mm,\
+pressure_rating_bar
 steel,600 A,600,A,620,10,10
 steel,600 B,600,B,620,10,20
 """
