@@ -207,8 +207,14 @@ class LongLine:
         self.combos = combos
         self.sections = sections
         # ----- the least heads ----------------------------------------------------------------
+        if pumping.elevation is not None and self.profile_given:
+            raise InputError("pumping.elevation: with a ground profile each station's elevation "
+                             "comes from the profile")
+        # elevations above sea level (a level line: the pump's, pumping.elevation)
+        above_sea = (ground if self.profile_given else
+                     np.full(n_pts, float(pumping.elevation or 0.0)))
         pv = fluid.vapour_pressure
-        least = least_heads(ground, scenario.density, pv, constraints.pressure_min,
+        least = least_heads(above_sea, scenario.density, pv, constraints.pressure_min,
                             float(constraints.vapour_margin))
         suction = least.copy()
         if boosters is not None and boosters.suction_pressure_min is not None:
@@ -217,13 +223,7 @@ class LongLine:
         self.npsh_margin = (0.0 if pumping.npsh_required is None else
                             float(pumping.npsh_margin if pumping.npsh_margin is not None
                                   else 1.0))
-        if pumping.elevation is not None and self.profile_given:
-            raise InputError("pumping.elevation: with a ground profile each station's elevation "
-                             "comes from the profile")
-        self.elevation0 = 0.0 if self.profile_given or pumping.elevation is None \
-            else float(pumping.elevation)
-        atm = np.asarray(standard_atmosphere_pressure(ground if self.profile_given
-                                                      else np.full(n_pts, self.elevation0)))
+        atm = np.asarray(standard_atmosphere_pressure(above_sea))
         if pumping.npsh_required is not None:
             if pv is None:
                 raise InputError("pumping.npsh_required: the fluid gives no vapour pressure; "
