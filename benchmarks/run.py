@@ -19,6 +19,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 import bench_explorer  # noqa: E402
 import bench_friction  # noqa: E402
+import bench_longline  # noqa: E402
 import bench_sizing  # noqa: E402
 import bench_startup  # noqa: E402
 import bench_uncertainty  # noqa: E402
@@ -67,6 +68,11 @@ def main(quick: bool) -> None:
     diff = mc["largest relative EAC difference"]
     rows.append(("Monte Carlo", "  EAC, series against direct [rel.]", diff, "", "<= 1e-12",
                  diff <= 1e-12))
+    print("=" * 78)
+    lines = bench_longline.run(3 if quick else 7)
+    ll = lines["long-line demo: demo('longline').run()"]
+    rows.append(("long line", "demo with up to 3 stations [s]", ll,
+                 f"uniform demo {lines['uniform demo: demo().run()']:.3f} s", "< 1", ll < 1.0))
     print("=" * 78)
     ex = bench_explorer.measure("SizingStudy", 7 if quick else 21)
     rows.append(("explorer", "slider change to new image, kernel [ms]", ex["slider"] * 1e3,

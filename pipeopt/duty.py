@@ -89,6 +89,13 @@ class DutyProfile(InputSection):
         The flows grow until this study year and then stay (``growth.design_year``).
     flow_cap : str or Quantity, optional
         The largest duty flow never exceeds this flow (``growth.flow_cap``).
+    prices : sequence of float, optional
+        Energy price of each duty point in year 1 [currency/kWh] (time of use: a night and a
+        day tariff); empty (default) prices every point at the tariff's price
+        (``duty[k].price``).
+    efficiencies : sequence of float, optional
+        Pump efficiency at each duty point [-], in (0, 1] (``duty[k].efficiency``); empty
+        (default) when the efficiency is given another way (``[pumping]``).
 
     Examples
     --------
@@ -109,6 +116,8 @@ class DutyProfile(InputSection):
     design_year: int | None = whole(1, 200, default=None, key="growth.design_year")
     flow_cap: float | None = quantity("flow", low=0.0, low_open=True, default=None,
                                       key="growth.flow_cap")
+    prices: tuple = numbers(0.0, 100.0, low_open=True, default=(), element="price")
+    efficiencies: tuple = numbers(0.0, 1.0, low_open=True, default=(), element="efficiency")
 
     def _check(self, path: str) -> None:
         q, h = self.flows, self.hours
@@ -124,9 +133,18 @@ class DutyProfile(InputSection):
         if len(names) != len(q):
             raise InputError(f"{path}: {len(names)} names for {len(q)} duty points")
         object.__setattr__(self, "names", names)
+        for what, values in (("prices", self.prices), ("efficiencies", self.efficiencies)):
+            if values and len(values) != len(q):
+                raise InputError(f"{path}: {len(values)} {what} for {len(q)} duty points; give "
+                                 f"one per duty point, or none")
         if self.flow_cap is not None and self.flow_cap < max(q):
             raise InputError(f"growth.flow_cap ({self.flow_cap * 3600:g} m^3/h) is below the "
                              f"largest year-1 duty flow ({max(q) * 3600:g} m^3/h)")
+
+    def price_ratios(self, price: float) -> np.ndarray | None:
+        """Each duty point's energy price over ``price`` (the tariff's), shape (K,); None
+        when the duty points give no prices of their own."""
+        return np.asarray(self.prices, dtype=float) / price if self.prices else None
 
     @property
     def flow_array(self) -> np.ndarray:
@@ -169,4 +187,5 @@ class DutyProfile(InputSection):
         return DutyProfile.from_si(flows=tuple(self.flow_array * flow_factor),
                                    hours=tuple(self.hours_array * hours_factor),
                                    growth=self.growth, names=self.names,
-                                   design_year=self.design_year, flow_cap=self.flow_cap)
+                                   design_year=self.design_year, flow_cap=self.flow_cap,
+                                   prices=self.prices, efficiencies=self.efficiencies)

@@ -12,7 +12,12 @@ the reader should know. The rules, in the vocabulary of EN 805:
 - the maximum design pressure MDP, the operating pressure plus the surge (the Joukowsky head
   rise of stopping the largest flow with the candidate's Korteweg wave speed, unless the study
   gives an allowance), against PMA, the allowable maximum operating pressure with surge;
-- the service temperature against the material's limit (plastics are derated below it).
+- the service temperature against the material's limit (plastics are derated below it);
+- with ``pumping.npsh_required``, the NPSH available at the pump inlet against the NPSH
+  required plus a margin (:func:`npsh_check`, added by the study).
+
+A long line's designs are checked by :meth:`pipeopt.longline.LongLine.check` (every stretch
+against its own class, the least pressure along the line by construction).
 
 The highest pressure of a single line is at the pump discharge: the grade line falls along the
 line faster than the pipe rises in a pumped main, so every other point is at a lower pressure.
@@ -29,7 +34,7 @@ from .friction import GRAVITY
 from .inputs import Constraints
 from .surge import joukowsky_head
 
-__all__ = ["check", "reasons", "join_clauses"]
+__all__ = ["check", "reasons", "join_clauses", "npsh_check"]
 
 
 def check(candidates: pd.DataFrame, lc: Any, constraints: Constraints, density: float,
@@ -78,6 +83,19 @@ def check(candidates: pd.DataFrame, lc: Any, constraints: Constraints, density: 
             "pma": pma, "too_slow": too_slow, "too_fast": too_fast, "over_pfa": over_pfa,
             "over_pma": over_pma, "too_hot": np.broadcast_to(too_hot, np.shape(too_fast)),
             "feasible": ~(too_slow | too_fast | over_pfa | over_pma | too_hot)}
+
+
+def npsh_check(checks: dict[str, Any], available: float, required: float,
+               margin: float) -> None:
+    """Add the pump's suction rule to ``checks`` (in place): NPSH available at the inlet must
+    be at least NPSH required + margin [m]. Sets ``npsh_short``, narrows ``feasible`` and adds
+    the reason to ``clauses`` (words :func:`reasons` writes)."""
+    short = np.full(np.shape(checks["feasible"]), available < required + margin)
+    checks["npsh_short"] = short
+    checks["feasible"] = checks["feasible"] & ~short
+    words = (f"NPSH available {available:.2f} m at the pump inlet is below NPSH required "
+             f"{required:.2f} m + margin {margin:.2f} m")
+    checks.setdefault("clauses", []).append((short, lambda ix: np.full(ix.size, words)))
 
 
 def join_clauses(n: int, clauses: list) -> np.ndarray:
@@ -140,6 +158,7 @@ def reasons(candidates: pd.DataFrame, lc: Any, checks: dict[str, np.ndarray],
                 mdp[ix], operating[ix], surge[ix], pma[ix], pclass[ix], derated(ix),
                 strict=True)]),
     ]
+    clauses += list(checks.get("clauses", ()))  # rules added by the study (NPSH)
     n = len(candidates)
     rated = np.isfinite(candidates["pressure_rating_pa"].to_numpy(dtype=float))
     notes = join_clauses(n, [

@@ -149,16 +149,48 @@ def candidate_years(s: Any, diameter: np.ndarray, roughness: np.ndarray, aging: 
     dict of ndarray
         :func:`pipe_hydraulics` arrays (S_h, C, T, K), ``flow_total`` (S_h, 1, T, K) [m³/s],
         and from :func:`pumping` at η = 1 and the base hours: ``pump_head`` (S_h, C, T, K)
-        [m], ``energy`` and ``peak`` (S_h, C, T) [kWh, kW].
+        [m], ``energy`` and ``peak`` (S_h, C, T) [kWh, kW]; with time-of-use prices also
+        ``energy_priced`` (S_h, C, T): Σ_k P_k h_k p_k / p [kWh], the energy weighted by each
+        duty's price over the tariff's.
+
+    Notes
+    -----
+    Optional attributes of ``s`` (a :class:`pipeopt.lifecycle.Scenario` has them):
+    ``fittings`` (:class:`pipeopt.losses.Fittings`, whose ΣK at each bore adds to ΣK),
+    ``equipment_coefficient`` c [s²/m⁵] (a fixed loss c Q² of the total flow at the station)
+    and ``pump`` (:class:`pipeopt.pumpset.PumpSet`: power ρ g Q H_E / φ instead of ρ g Q H).
     """
     years = np.arange(multipliers.shape[1])
     q_total = s.duty.flow_array[None, None, :] * multipliers[:, :, None]         # (S_h, T, K)
     eps_t = (roughness[None, :, None] + aging[None, :, None] * aging_factor[:, None, None]
              * years[None, None, :])                                           # (S_h, C, T)
+    fittings = getattr(s, "fittings", None)
+    k = (None if fittings is None else
+         s.minor_loss_k + np.asarray(fittings.k_sum(diameter))[None, :, None, None])
     hyd = pipe_hydraulics(s, diameter[None, :, None, None], eps_t[..., None],
-                          q_total[:, None, :, :] / s.parallel)
-    head, energy, peak = pumping(s, hyd["head_loss"], q_total[:, None, :, :], efficiency=1.0)
-    hyd.update(flow_total=q_total[:, None, :, :], pump_head=head, energy=energy, peak=peak)
+                          q_total[:, None, :, :] / s.parallel, minor_loss_k=k)
+    q4 = q_total[:, None, :, :]
+    equipment = getattr(s, "equipment_coefficient", 0.0)
+    if equipment:  # fixed equipment at the station carries the total flow
+        hyd["head_loss"] = hyd["head_loss"] + equipment * q4 * q4
+    pump = getattr(s, "pump", None)
+    ratios = s.duty.price_ratios(s.tariff.price) if getattr(s, "tariff", None) else None
+    if (pump is None or not pump.shaped) and ratios is None:
+        head, energy, peak = pumping(s, hyd["head_loss"], q4, efficiency=1.0)
+    else:
+        head = s.static_head + hyd["head_loss"]
+        if pump is not None and pump.shaped:
+            terms = pump.power_terms(q4, head)
+            power_w = s.density * fr.GRAVITY * q4 * terms["head"] / terms["factor"]
+            hyd["pump_outside"] = terms["outside"]
+        else:
+            power_w = s.density * fr.GRAVITY * q4 * head
+        hours = s.duty.hours_array
+        energy = (power_w * hours).sum(axis=-1) / 1000.0
+        peak = power_w.max(axis=-1) / 1000.0
+        if ratios is not None:
+            hyd["energy_priced"] = (power_w * (hours * ratios)).sum(axis=-1) / 1000.0
+    hyd.update(flow_total=q4, pump_head=head, energy=energy, peak=peak)
     return hyd
 
 

@@ -41,6 +41,7 @@ from .fields import (
     whole,
 )
 from .fluid import Fluid
+from .pumpset import PumpSet
 from .studyfile import Section, StudyFileError
 from .surge import RESTRAINTS
 
@@ -126,10 +127,104 @@ class FluidSpec(InputSection):
 
 @dataclass(frozen=True)
 class Pumping(InputSection):
-    """Pumping: the wire-to-water efficiency η (pump × motor × drive), 0 < η <= 1."""
+    """Pumping: how hydraulic power becomes electrical power, and the pump's suction.
+
+    Give the efficiency one way: ``efficiency``, the wire-to-water efficiency η (pump × motor ×
+    drive), 0 < η <= 1 (the plain case); or the pump's own efficiency, as a constant
+    (``pump_efficiency``), on every ``[[duty]]`` (``duty[k].efficiency``) or as a curve against
+    flow (``bep_efficiency``, ``bep_flow``), with ``motor_efficiency`` and ``drive_efficiency``
+    apart (:class:`~pipeopt.pumpset.PumpSet`).
+
+    Parameters
+    ----------
+    efficiency : float, optional
+        Wire-to-water efficiency η [-].
+    pump_efficiency : float, optional
+        Pump efficiency at every duty [-].
+    bep_efficiency : float, optional
+        Pump efficiency at its best-efficiency point [-]; the efficiency follows
+        :func:`pipeopt.pumps.bep_efficiency_curve` against flow.
+    bep_flow : str or Quantity, optional
+        Best-efficiency flow at full speed (default: each station's design flow, the largest it
+        serves), e.g. ``"1200 m^3/h"``.
+    control : {"throttle", "variable-speed"}, optional
+        With a curve: fixed speed and a control valve (default), or a variable-speed drive.
+    shutoff_head_ratio : float, optional
+        With a curve: shut-off head over design head (default 1.2, common practice for radial
+        pumps).
+    motor_efficiency, drive_efficiency : float, optional
+        Motor and drive efficiencies [-] (default 1: included in the pump efficiency).
+    npsh_required : str or Quantity, optional
+        NPSH the pump requires at its largest flow, e.g. ``"6 m"``: the NPSH available at each
+        station's inlet must exceed it by ``npsh_margin``.
+    npsh_margin : str or Quantity, optional
+        Margin over the NPSH required (default ``"1 m"``, common practice).
+    elevation : str or Quantity, optional
+        Elevation of the pump above sea level for the barometric pressure (default ``"0 m"``;
+        a line with a ground profile takes each station's from the profile).
+    """
 
     SECTION = "pumping"
-    efficiency: float = number(0.0, 1.0, low_open=True, example="0.70")
+    efficiency: float | None = number(0.0, 1.0, low_open=True, default=None, example="0.70")
+    pump_efficiency: float | None = number(0.0, 1.0, low_open=True, default=None)
+    bep_efficiency: float | None = number(0.0, 1.0, low_open=True, default=None)
+    bep_flow: float | None = quantity("flow", low=0.0, low_open=True, default=None)
+    control: str | None = text(("throttle", "variable-speed"), default=None)
+    shutoff_head_ratio: float | None = number(1.0, 3.0, low_open=True, default=None)
+    motor_efficiency: float | None = number(0.0, 1.0, low_open=True, default=None)
+    drive_efficiency: float | None = number(0.0, 1.0, low_open=True, default=None)
+    npsh_required: float | None = quantity("head", low=0.0, default=None)
+    npsh_margin: float | None = quantity("head", low=0.0, default=None)
+    elevation: float | None = quantity("head", low=-500.0, high=9000.0, default=None)
+
+    def _check(self, path: str) -> None:
+        ways = [k for k in ("efficiency", "pump_efficiency", "bep_efficiency")
+                if getattr(self, k) is not None]
+        if len(ways) > 1:
+            raise InputError(f"{path}.{ways[1]}: give one of efficiency (wire-to-water), "
+                             f"pump_efficiency and bep_efficiency")
+        if self.efficiency is not None:
+            for key in ("motor_efficiency", "drive_efficiency"):
+                if getattr(self, key) is not None:
+                    raise InputError(f"{path}.{key}: not with efficiency, which is wire-to-water "
+                                     f"(it includes the motor and drive); give pump_efficiency "
+                                     f"or bep_efficiency instead")
+        if self.bep_efficiency is None:
+            for key in ("bep_flow", "control", "shutoff_head_ratio"):
+                if getattr(self, key) is not None:
+                    raise InputError(f"{path}.{key}: needs a pump curve (bep_efficiency)")
+        if self.npsh_margin is not None and self.npsh_required is None:
+            raise InputError(f"{path}.npsh_margin: needs npsh_required")
+
+    def pump_set(self, duty: DutyProfile) -> PumpSet:
+        """The :class:`~pipeopt.pumpset.PumpSet` of these settings and the duty's efficiencies.
+
+        Raises
+        ------
+        InputError
+            When no efficiency is given, or the duty's and this section's both are.
+        """
+        if duty.efficiencies and (self.efficiency is not None or self.pump_efficiency
+                                  is not None or self.bep_efficiency is not None):
+            raise InputError("duty[0].efficiency: the duty points give pump efficiencies; leave "
+                             "pumping.efficiency, pump_efficiency and bep_efficiency out")
+        if self.efficiency is not None:
+            return PumpSet(float(self.efficiency))
+        drive = (1.0 if self.motor_efficiency is None else self.motor_efficiency) * \
+            (1.0 if self.drive_efficiency is None else self.drive_efficiency)
+        if self.bep_efficiency is not None:
+            return PumpSet(self.bep_efficiency * drive, bep_flow=self.bep_flow, curve=True,
+                           control=self.control or "throttle",
+                           shutoff_ratio=self.shutoff_head_ratio or 1.2)
+        if self.pump_efficiency is not None:
+            return PumpSet(self.pump_efficiency * drive)
+        if duty.efficiencies:
+            best = max(duty.efficiencies)
+            return PumpSet(best * drive,
+                           duty_ratios=tuple(e / best for e in duty.efficiencies))
+        raise InputError("pumping.efficiency: required key is missing (e.g. efficiency = 0.70; "
+                         "or pump_efficiency, bep_efficiency, or an efficiency on every "
+                         "[[duty]])")
 
 
 @dataclass(frozen=True)
@@ -174,6 +269,13 @@ class Line(InputSection):
         Gauge pressure at the pump suction, e.g. ``"10 bar"`` in a closed loop (district
         heating, chilled water); default 0 (suction from an open tank at the pump's level).
         Every pressure along the line includes it.
+    cover : str or Quantity, optional
+        Depth of cover over the pipe crown along a ground profile, e.g. ``"1.2 m"`` (required
+        with a ``[[profile]]``).
+    source_level : str or Quantity, optional
+        With a ground profile: the level of the liquid the first station draws from, e.g.
+        ``"86 m"`` (default: the pipe axis at the first chainage); the delivery head is this
+        plus ``static_head``.
     """
 
     SECTION = "line"
@@ -182,6 +284,8 @@ class Line(InputSection):
     minor_loss_k: float = number(0.0, 1e4, default=0.0)
     parallel: int = whole(1, 100, default=1)
     suction_pressure: float = quantity("pressure", low=-1e5, high=1e8, default="0 Pa")
+    cover: float | None = quantity("length", low=0.0, high=50.0, default=None)
+    source_level: float | None = quantity("head", default=None)
 
 
 @dataclass(frozen=True)
@@ -200,6 +304,13 @@ class Constraints(InputSection):
     restraint : str
         Axial restraint for the wave speed (:data:`pipeopt.surge.RESTRAINTS`); default
         ``"anchored-throughout"`` (buried, restrained pipe).
+    pressure_min : str or Quantity, optional
+        Long lines: the lowest gauge pressure allowed anywhere along the line at any duty,
+        e.g. ``"0.5 bar"``. Default: the vapour pressure of the liquid plus
+        ``vapour_margin`` (absolute, with the standard atmosphere at each elevation).
+    vapour_margin : str or Quantity
+        Long lines: the head kept above the vapour pressure when ``pressure_min`` is not given
+        (default ``"3 m"``, common practice).
     """
 
     SECTION = "constraints"
@@ -207,6 +318,8 @@ class Constraints(InputSection):
     velocity_max: float | None = quantity("velocity", low=0.0, low_open=True, default=None)
     surge_allowance: float | None = quantity("head", low=0.0, default=None)
     restraint: str = text(RESTRAINTS, default="anchored-throughout")
+    pressure_min: float | None = quantity("pressure", low=-1e5, high=1e8, default=None)
+    vapour_margin: float = quantity("head", low=0.0, low_open=True, default="3 m")
 
     def _check(self, path: str) -> None:
         if (self.velocity_min is not None and self.velocity_max is not None
@@ -562,19 +675,36 @@ _COMMON = ("study", "fluid", "duty", "growth", "pumping", "energy", "pump_statio
            "economics", "catalog", "uncertainty")
 
 
-def _read_duty(top: Section) -> DutyProfile:
-    flows, hours, names = [], [], []
-    for d in top.tables("duty", ("flow", "hours", "name")):
+def _read_duty(top: Section, energy: Any = None) -> DutyProfile:
+    """The ``[[duty]]`` tables and ``[growth]``; with ``energy`` (a sizing study: a function
+    that reads ``[energy]``) each duty may also give its own energy ``price`` (time of use; a
+    duty without one pays the tariff's) and pump ``efficiency``."""
+    keys = ("flow", "hours", "name") + (("price", "efficiency") if energy is not None else ())
+    flows, hours, names, prices, effs = [], [], [], [], []
+    tables = top.tables("duty", keys)
+    for d in tables:
         for key in ("flow", "hours"):
             d.required(key)
         flows.append(d.raw("flow"))
         hours.append(d.raw("hours"))
         names.append(d.raw("name", f"duty {len(names) + 1}"))
+        prices.append(d.raw("price"))
+        effs.append(d.raw("efficiency"))
+    extra: dict[str, Any] = {}
+    if any(p is not None for p in prices):  # a duty without a price pays the tariff's
+        base = energy().price if any(p is None for p in prices) else None
+        extra["prices"] = tuple(base if p is None else p for p in prices)
+    given = [e is not None for e in effs]
+    if any(given):
+        if not all(given):
+            raise StudyFileError(f"{tables[given.index(False)].key('efficiency')}: give a pump "
+                                 f"efficiency on every [[duty]], or on none")
+        extra["efficiencies"] = tuple(effs)
     gr = top.table("growth", ("flow_per_year", "design_year", "flow_cap"))
     g = {} if gr is None else {"growth": gr.raw("flow_per_year", 0.0),
                                "design_year": gr.raw("design_year"),
                                "flow_cap": gr.raw("flow_cap")}
-    return DutyProfile(tuple(flows), tuple(hours), names=tuple(names), **g)
+    return DutyProfile(tuple(flows), tuple(hours), names=tuple(names), **g, **extra)
 
 
 def _read_catalog(top: Section, base: Path) -> Catalog:
@@ -589,21 +719,35 @@ def _read_catalog(top: Section, base: Path) -> Catalog:
                         materials=base / mats_path if mats_path else None)
 
 
-def read_common(top: Section, base: Path) -> dict[str, Any]:
+def read_common(top: Section, base: Path, kind: str = "sizing") -> dict[str, Any]:
     """The sections a sizing and an upgrade study share, checked, as input sections.
 
     ``[study]``, ``[fluid]`` (a :class:`FluidSpec`, not yet evaluated), ``[[duty]]`` and
     ``[growth]``, ``[pumping]``, ``[energy]``, ``[pump_station]``, ``[economics]`` and the raw
     ``[uncertainty]`` table. The ``[catalog]`` files are read last, by :func:`read_sizing` and
-    :func:`read_upgrade`, once every other section has passed its checks.
+    :func:`read_upgrade`, once every other section has passed its checks. An upgrade study
+    (``kind = "upgrade"``) takes the wire-to-water efficiency and one energy price only.
     """
     station = top.table("pump_station", PumpStationCost.keys())
+    sizing = kind == "sizing"
+    info = StudyInfo.read(top.table("study", StudyInfo.keys()))
+    fluid = FluidSpec.read(top.table("fluid", FluidSpec.keys(), required=True))
+    def energy_section() -> EnergyTariff:
+        return EnergyTariff.read(top.table("energy", EnergyTariff.keys(), required=True))
+
+    duty = _read_duty(top, energy_section if sizing else None)
+    pumping = Pumping.read(top.table("pumping", Pumping.keys() if sizing else ("efficiency",),
+                                     required=True))
+    if pumping.efficiency is None and not sizing:
+        raise StudyFileError("pumping.efficiency: required key is missing (e.g. efficiency = "
+                             "0.70)")
+    energy = energy_section()
     return {
-        "info": StudyInfo.read(top.table("study", StudyInfo.keys())),
-        "fluid": FluidSpec.read(top.table("fluid", FluidSpec.keys(), required=True)),
-        "duty": _read_duty(top),
-        "pumping": Pumping.read(top.table("pumping", Pumping.keys(), required=True)),
-        "energy": EnergyTariff.read(top.table("energy", EnergyTariff.keys(), required=True)),
+        "info": info,
+        "fluid": fluid,
+        "duty": duty,
+        "pumping": pumping,
+        "energy": energy,
         "pump_station": None if station is None else PumpStationCost.read(station),
         "economics": Economics.read(top.table("economics", Economics.keys(), required=True)),
         "uncertainty": top.raw("uncertainty"),
@@ -621,10 +765,17 @@ def _materials_known(materials: list[MaterialChoice], secs: list[Section],
 
 def read_sizing(mapping: dict, base: Path) -> dict[str, Any]:
     """Every section of a sizing study file, checked; the fluid not yet evaluated."""
+    from .route import ROUTE_KEYS, read_route
+
     top = Section(mapping, "", (*_COMMON, "line", "material", "constraints", "carbon",
-                                "hydraulics"))
+                                "hydraulics", *ROUTE_KEYS))
     out = read_common(top, base)
-    out["line"] = Line.read(top.table("line", Line.keys(), required=True))
+    out.update(read_route(top, base))
+    line = top.table("line", Line.keys(), required=True)
+    given = {}
+    if out["profile"] is not None and not line.has("length"):  # the profile's length
+        given["length"] = SI(out["profile"].length)
+    out["line"] = Line.read(line, **given)
     secs = top.tables("material", MaterialChoice.keys())
     out["materials"] = tuple(MaterialChoice.read(s) for s in secs)
     out["constraints"] = Constraints.read(top.table("constraints", Constraints.keys()))
@@ -639,7 +790,7 @@ def read_sizing(mapping: dict, base: Path) -> dict[str, Any]:
 def read_upgrade(mapping: dict, base: Path) -> dict[str, Any]:
     """Every section of an upgrade study file, checked; the fluid not yet evaluated."""
     top = Section(mapping, "", (*_COMMON, "existing", "option"))
-    out = read_common(top, base)
+    out = read_common(top, base, "upgrade")
     ex = top.table("existing", ExistingLine.keys(), required=True)
     out["existing"] = ExistingLine.read(ex)
     secs = top.tables("option", UpgradeOption.keys())

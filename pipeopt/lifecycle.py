@@ -94,6 +94,17 @@ class Scenario:
         A :data:`pipeopt.friction.METHODS` entry, or ``"constant"``.
     constant_friction_factor : float or None
         The Darcy factor used everywhere when ``friction_method == "constant"``.
+    pump : PumpSet or None
+        Efficiency by duty point or from a curve against flow (:mod:`pipeopt.pumpset`); None:
+        the constant ``efficiency``.
+    equipment_coefficient : float
+        Fixed equipment at the station, head loss c Q² of the total flow [s²/m⁵].
+    fittings : Fittings or None
+        Fittings by count (:class:`pipeopt.losses.Fittings`), their ΣK at each candidate's bore
+        added to ``minor_loss_k``.
+
+    With time-of-use prices (``duty.prices``), each duty point's energy is priced at its own
+    price; the named input ``energy_price`` scales every one in proportion.
     """
 
     density: float
@@ -114,6 +125,9 @@ class Scenario:
     carbon_price: float = 0.0
     friction_method: str = "colebrook"
     constant_friction_factor: float | None = None
+    pump: Any = None
+    equipment_coefficient: float = 0.0
+    fittings: Any = None
 
     def __post_init__(self) -> None:
         if not 0 < self.efficiency <= 1:
@@ -242,6 +256,7 @@ def _direct_hydraulics(s: Scenario, d: np.ndarray, eps0: np.ndarray, alpha: np.n
     hyd = candidate_years(s, d, eps0, alpha, m, hv["aging_factor"])
     k = int(np.argmax(s.duty.flow_array))
     energy0, peak0 = hyd["energy"], hyd["peak"]
+    priced0 = hyd.get("energy_priced", energy0)   # time of use: energy x price ratio
     last = tl.horizon - 1
     return {
         "velocity_design": hyd["velocity"][:, :, 0, k],
@@ -252,10 +267,10 @@ def _direct_hydraulics(s: Scenario, d: np.ndarray, eps0: np.ndarray, alpha: np.n
         "peak_year1": peak0[:, :, 0], "energy_year1": energy0[:, :, 0],
         "velocity_max": running_max(hyd["velocity"].max(axis=3), last),
         "pump_head_max": running_max(hyd["pump_head"].max(axis=3), last),
-        "energy_price": _weighted(energy0, weights["price"]),
+        "energy_price": _weighted(priced0, weights["price"]),
         "energy_run": _weighted(energy0, weights["run"]),
         "peak_run": _weighted(peak0, weights["run"]),
-        "energy": energy0, "peak": peak0,
+        "energy": energy0, "peak": peak0, "priced": priced0,
         "capped": np.any(hyd["capped"], axis=(2, 3)),
         "transitional": np.count_nonzero(hyd["transitional"], axis=(2, 3)),
     }
@@ -271,8 +286,12 @@ def _series_applies(s: Scenario, v: dict) -> bool:
     """Whether the friction-series path holds for a batch whose flows vary by sample: flows
     that never fall with the years (so the largest velocity, head and demand of a sample's
     horizon are those of its last year), shared aging, and a non-negative static head (the
-    largest duty point is then the largest demand)."""
-    return (np.ptp(v["aging_factor"]) == 0 and bool(np.all(v["growth"] >= 0))
+    largest duty point is then the largest demand); a plain line (no pump curve, fittings by
+    count, fixed equipment or time-of-use prices: those go the direct way)."""
+    plain = (getattr(s, "pump", None) is None and getattr(s, "fittings", None) is None
+             and not getattr(s, "equipment_coefficient", 0.0)
+             and s.duty.price_ratios(s.tariff.price) is None)
+    return (plain and np.ptp(v["aging_factor"]) == 0 and bool(np.all(v["growth"] >= 0))
             and s.static_head >= 0)
 
 
@@ -502,7 +521,9 @@ def evaluate(s: Scenario, diameter: Any, roughness: Any, aging_rate: Any,
         full = lambda x: np.broadcast_to(x, x.shape[:2] + (n_years,))  # noqa: E731
         energy = full(hs["energy"]) * e_scale[:, None, None] * live
         peak = full(hs["peak"]) * inv_eta[:, None, None] * live
-        energy_cost = energy * price[:, None, :] + v["demand_charge"][:, None, None] * peak
+        priced = (energy if hs["priced"] is hs["energy"] else
+                  full(hs["priced"]) * e_scale[:, None, None] * live)
+        energy_cost = priced * price[:, None, :] + v["demand_charge"][:, None, None] * peak
         carbon_cost = energy * carbon_rate
 
         def years_1_to_n(x: np.ndarray) -> np.ndarray:  # (S, C, N) -> (S, C, N + 1)

@@ -27,7 +27,8 @@ from . import friction as fr
 
 __all__ = ["PALETTE", "FIXED_MARGINS", "figure_png", "cost_curves", "cost_breakdown",
            "velocity_head", "friction_chart", "tornado_chart", "probability_cheapest",
-           "eac_distributions", "cumulative_cash_flow", "network", "yearly_capital"]
+           "eac_distributions", "cumulative_cash_flow", "network", "yearly_capital",
+           "profile", "profile_section"]
 
 #: Okabe & Ito colour-blind-safe palette.
 PALETTE = ["#0072B2", "#E69F00", "#009E73", "#D55E00", "#CC79A7", "#56B4E9", "#F0E442",
@@ -537,3 +538,90 @@ def yearly_capital(programme_result, ax=None):
     ax.legend(fontsize=7, frameon=False, loc="upper left", bbox_to_anchor=(1.01, 1.0))
     return ax
 
+
+# --------------------------------------------------------------------------------------------
+# long lines
+# --------------------------------------------------------------------------------------------
+def profile(result, ax=None, index: int | None = None):
+    """The long line along its route: ground, pipe, grade lines, rating and stations.
+
+    Draws, against chainage, the ground and the pipe axis, the highest and the lowest grade
+    line over every duty point and year (the band between them shaded), the head at which each
+    stretch's class reaches its PFA (the grade line must stay below it), the least head allowed
+    (the grade line must stay above it) and the stations.
+
+    Parameters
+    ----------
+    result : SizingResult
+        Of a long-line study (a ground profile, sections or boosters).
+    ax : matplotlib Axes, optional
+    index : int, optional
+        Row of the design to draw (default: the best).
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+    """
+    ax = _axes(ax, (9.0, 4.8))
+    p = result.profile if index is None else result.profile_of(index)
+    km = p["chainage_m"] / 1000.0
+    ax.fill_between(km, p["ground_m"], p["ground_m"].min() - 10.0, color="#d9c7a7",
+                    alpha=0.5, linewidth=0, label="ground")
+    ax.plot(km, p["pipe_m"], color="#6b4e2e", linewidth=1.2, label="pipe axis")
+    ax.fill_between(km, p["head_min_m"], p["head_max_m"], color=PALETTE[5], alpha=0.25,
+                    linewidth=0)
+    ax.plot(km, p["head_max_m"], color=PALETTE[3], linewidth=1.6,
+            label="highest grade line (every duty, every year)")
+    ax.plot(km, p["head_min_m"], color=PALETTE[0], linewidth=1.6,
+            label="lowest grade line")
+    # each stretch's PFA as a head above its pipe: from one point to the next, broken between
+    above = (p["pfa_head_m"] - p["pipe_m"]).to_numpy()[:-1]
+    xs = np.column_stack([km[:-1], km[1:], np.full(above.size, np.nan)]).ravel()
+    ys = np.column_stack([p["pipe_m"].to_numpy()[:-1] + above,
+                          p["pipe_m"].to_numpy()[1:] + above,
+                          np.full(above.size, np.nan)]).ravel()
+    ax.plot(xs, ys, color="#000000", linestyle="--", linewidth=0.9,
+            label="PFA of the class laid (as head)")
+    ax.plot(km, p["least_head_m"], color=PALETTE[2], linestyle=":", linewidth=1.2,
+            label="least head allowed")
+    st = p[(p["station"] != "") & ~p["station"].str.endswith("suction")]
+    ax.plot(st["chainage_m"] / 1000.0, st["head_max_m"], "^", color="#000000", markersize=8,
+            linestyle="none", label="stations (discharge)")
+    for _, r in st.iterrows():
+        ax.annotate(r["station"], (r["chainage_m"] / 1000.0, r["head_max_m"]),
+                    textcoords="offset points", xytext=(4, 6), fontsize=7)
+    changes = p["size"].ne(p["size"].shift())
+    for _, r in p[changes].iterrows():
+        ax.annotate(r["size"], (r["chainage_m"] / 1000.0, r["pfa_head_m"]),
+                    textcoords="offset points", xytext=(2, 3), fontsize=6)
+    ax.set_ylim(bottom=float(p["ground_m"].min()) - 10.0)
+    ax.set_xlabel("chainage [km]")
+    ax.set_ylabel("elevation and head [m]")
+    best = result.best
+    _style(ax, "Long line: grade lines, pipe and rating" + (
+        f" ({best['size']})" if best is not None and index is None else ""))
+    ax.legend(fontsize=7, frameon=False, loc="upper left", bbox_to_anchor=(1.01, 1.0))
+    return ax
+
+
+def profile_section(result):
+    """A report section for a long line: its tables and its figure.
+
+    Returns
+    -------
+    tables : dict of str to pandas.DataFrame
+        ``"Grade line along the line"`` (:attr:`SizingResult.profile`), ``"Stations"``
+        (:attr:`SizingResult.stations`) and ``"Best design with each number of boosters"``.
+    figure : matplotlib.figure.Figure
+        :func:`profile` of the best design.
+    """
+    c = result.candidates
+    feas = c[c["feasible"]]
+    cols = ["boosters", "size", "pressure_class", "classes_along", "highest_pressure_bar",
+            "capex_pipe", "capex_pump_station", "pv_energy", "eac"]
+    by_n = (feas.loc[feas.groupby("boosters")["eac"].idxmin(), cols] if not feas.empty
+            else feas[cols])
+    ax = profile(result)
+    return ({"Grade line along the line": result.profile, "Stations": result.stations,
+             "Best design with each number of boosters": by_n.reset_index(drop=True)},
+            ax.figure)

@@ -53,6 +53,7 @@ from .inputs import (
 )
 from .lifecycle import LifeCycle, Scenario, evaluate
 from .optimum import continuous_optimum
+from .pumps import npsh_available, standard_atmosphere_pressure
 from .results import CAUTION, StudyResult, html_table
 from .studyfile import StudyFileMixin
 from .variations import Variations, check_input_name
@@ -120,8 +121,21 @@ class SizingStudy(StudyFileMixin):
         Marks every output as using illustrative (invented) numbers.
     uncertainty : dict, optional
         The ``[uncertainty]`` settings (samples, seed, distributions) of a study file.
+    profile : GroundProfile, optional
+        The ground along the route (a long line, :mod:`pipeopt.longline`); needs
+        ``line.cover``.
+    sections : sequence of LineSection, optional
+        Sections in series, each with the sizes it may take (a long line).
+    boosters : Boosters, optional
+        Booster stations the optimizer may add, and their cost (a long line).
+    equipment : sequence of Equipment, optional
+        Fixed losses given by a pressure drop at a flow (:class:`pipeopt.losses.Equipment`).
+    fittings : Fittings, optional
+        Fittings by count from the bundled table (:class:`pipeopt.losses.Fittings`).
 
-    Every argument after ``materials`` is keyword-only.
+    Every argument after ``materials`` is keyword-only. With a profile, sections or boosters
+    the study is a long-line study: its candidates are *designs* (a size per section, classes
+    along the line, booster stations), see :class:`pipeopt.longline.LongLine`.
     """
 
     _DEMO_FILE = "demo_sizing.toml"
@@ -133,7 +147,9 @@ class SizingStudy(StudyFileMixin):
                  catalog: Catalog | None = None, name: str = "sizing study",
                  currency: str = "", friction_method: str = "colebrook",
                  constant_friction_factor: float | None = None, illustrative: bool = False,
-                 description: str = "", uncertainty: dict | None = None) -> None:
+                 description: str = "", uncertainty: dict | None = None,
+                 profile: Any = None, sections: Any = (), boosters: Any = None,
+                 equipment: Any = (), fittings: Any = None) -> None:
         if not isinstance(fluid, Fluid):
             raise InputError("fluid must be a pipeopt.Fluid")
         for value, cls, what in ((line, Line, "line"), (duty, DutyProfile, "duty"),
@@ -155,7 +171,8 @@ class SizingStudy(StudyFileMixin):
                       "friction_method": friction_method,
                       "constant_friction_factor": constant_friction_factor,
                       "illustrative": illustrative, "description": description,
-                      "uncertainty": uncertainty}
+                      "uncertainty": uncertainty, "profile": profile, "sections": sections,
+                      "boosters": boosters, "equipment": equipment, "fittings": fittings}
         self.fluid = fluid
         self.line = line
         self.duty = duty
@@ -172,16 +189,33 @@ class SizingStudy(StudyFileMixin):
         self.uncertainty = uncertainty
         for m in materials:
             self.catalog.material(m.name)
+        pump = self.pumping.pump_set(duty)
+        self.equipment = tuple(equipment or ())
+        self.fittings = fittings
+        long_line = profile is not None or bool(sections) or boosters is not None
+        if not long_line:
+            for key in ("cover", "source_level"):
+                if getattr(line, key) is not None:
+                    raise InputError(f"line.{key}: needs a ground profile ([[profile]])")
+            for i, e in enumerate(self.equipment):
+                if e.at is not None:
+                    raise InputError(f"equipment[{i}].at: a chainage needs a long line "
+                                     f"([[profile]], [[section]] or [boosters]); leave it out "
+                                     f"for equipment at the pump station")
         self.scenario = Scenario(
             density=fluid.density, viscosity=fluid.viscosity, length=line.length,
             static_head=line.static_head, minor_loss_k=line.minor_loss_k, parallel=line.parallel,
-            duty=duty, efficiency=self.pumping.efficiency, tariff=tariff,
+            duty=duty, efficiency=pump.efficiency, tariff=tariff,
             pump_station=pump_station, discount_rate=economics.discount_rate,
             horizon=economics.horizon, pipe_life=economics.pipe_life,
             pipe_maintenance=economics.pipe_maintenance,
             grid_factor=carbon.grid_factor if carbon else 0.0,
             carbon_price=carbon.price / 1000.0 if carbon else 0.0,
-            friction_method=friction_method, constant_friction_factor=constant_friction_factor)
+            friction_method=friction_method, constant_friction_factor=constant_friction_factor,
+            pump=pump if pump.shaped else None,
+            equipment_coefficient=0.0 if long_line else sum(
+                e.coefficient(fluid.density) for e in self.equipment),
+            fittings=None if long_line else fittings)
         built = build_candidates(materials, self.catalog, fluid.bulk_modulus, fluid.density,
                                  self.constraints.restraint, fluid.temperature)
         #: The candidate table (one row per material, size and class), SI.
@@ -190,6 +224,19 @@ class SizingStudy(StudyFileMixin):
         #: becomes a :class:`~pipeopt.costs.TablePipeCost` on the catalog's inner diameters).
         self.pipe_costs = built.costs
         self.notes = built.notes
+        #: The long line (:class:`pipeopt.longline.LongLine`), or None for a uniform line.
+        self.layout = None
+        if long_line:
+            from .longline import LongLine
+
+            self.layout = LongLine(self.scenario, fluid, line, self.pumping, self.constraints,
+                                   built.table, tuple(m.name for m in materials), profile,
+                                   tuple(sections or ()), boosters, self.equipment, fittings,
+                                   self.service_temperature)
+            #: Every catalog size and class of the study's materials (a long line's candidate
+            #: table holds its designs instead).
+            self.catalog_candidates = built.table
+            self.candidates = self.layout.table
         self._frozen = True
 
     def __setattr__(self, name: str, value: Any) -> None:
@@ -213,7 +260,8 @@ class SizingStudy(StudyFileMixin):
 
     @property
     def efficiency(self) -> float:
-        return self.pumping.efficiency
+        """Wire-to-water efficiency at the pump's best point."""
+        return self.scenario.efficiency
 
     @property
     def service_temperature(self) -> float:
@@ -252,6 +300,10 @@ class SizingStudy(StudyFileMixin):
                 Variations.of({"pipe_cost_factor": arr}).resolved({})  # the factor's rule
                 if pipe is None:
                     pipe = np.ones((arr.shape[0], mats.size))
+                if self.layout is not None and ":" in name:  # a design's share of material
+                    share = self.layout.material_share(name.split(":", 1)[1])
+                    pipe *= 1.0 + (arr[:, None] - 1.0) * share[None, :]
+                    continue
                 cols = (slice(None) if name == "pipe_cost_factor"
                         else mats == name.split(":", 1)[1])
                 pipe[:, cols] *= arr[:, None]
@@ -283,7 +335,10 @@ class SizingStudy(StudyFileMixin):
                     catalog=sec["catalog"], name=info.name, currency=info.currency,
                     friction_method=hyd.friction_method,
                     constant_friction_factor=hyd.friction_factor,
-                    illustrative=info.illustrative, description=info.description)
+                    illustrative=info.illustrative, description=info.description,
+                    profile=sec["profile"], sections=sec["sections"],
+                    boosters=sec["boosters"], equipment=sec["equipment"],
+                    fittings=sec["fittings"])
         if sec["uncertainty"] is not None:
             from .uncertainty import read_uncertainty_section
 
@@ -300,6 +355,8 @@ class SizingStudy(StudyFileMixin):
         With ``variations`` (per-sample inputs), the arrays have a leading sample axis;
         ``yearly=False`` skips the yearly arrays.
         """
+        if self.layout is not None and scenario is None:
+            return self.layout.evaluate(variations, yearly)
         c = self.candidates
         s = scenario or self.scenario
         co2 = c["embodied_co2_kg_per_m"].to_numpy() if (self.carbon and self.carbon.embodied) \
@@ -309,9 +366,24 @@ class SizingStudy(StudyFileMixin):
                         variations=variations, yearly=yearly)
 
     def check(self, lc: LifeCycle) -> dict[str, np.ndarray]:
-        """The constraint checks of the candidates (:func:`pipeopt.feasibility.check`)."""
-        return feasibility.check(self.candidates, lc, self.constraints, self.scenario.density,
-                                 float(self.line.suction_pressure))
+        """The constraint checks of the candidates (:func:`pipeopt.feasibility.check`; a long
+        line's designs: :meth:`pipeopt.longline.LongLine.check`)."""
+        if self.layout is not None:
+            return self.layout.check(lc)
+        checks = feasibility.check(self.candidates, lc, self.constraints, self.scenario.density,
+                                   float(self.line.suction_pressure))
+        pmp = self.pumping
+        if pmp.npsh_required is not None:
+            pressure = (float(standard_atmosphere_pressure(pmp.elevation or 0.0))
+                        + float(self.line.suction_pressure))
+            if self.fluid.vapour_pressure is None:
+                raise InputError("pumping.npsh_required: the fluid gives no vapour pressure; "
+                                 "give fluid.vapour_pressure")
+            feasibility.npsh_check(checks, float(npsh_available(
+                pressure, self.fluid.vapour_pressure, self.fluid.density)),
+                float(pmp.npsh_required), float(pmp.npsh_margin if pmp.npsh_margin
+                                                is not None else 1.0))
+        return checks
 
     def run(self, inputs: dict[str, Any] | None = None, optimum: bool = True) -> SizingResult:
         """Evaluate every candidate, check feasibility, pick the best, find continuous optima.
@@ -345,7 +417,8 @@ class SizingStudy(StudyFileMixin):
             best = feasible.loc[feasible["eac"].idxmin()]
             success = True
             message = f"best of {len(feasible)} feasible candidates out of {len(table)}"
-        opt = self.continuous_optimum(table, variations) if optimum else pd.DataFrame()
+        opt = (self.continuous_optimum(table, variations) if optimum and self.layout is None
+               else pd.DataFrame())
         return SizingResult(self, table, best, opt, success, message, lc,
                             dict(inputs or {}))
 
@@ -381,8 +454,14 @@ class SizingStudy(StudyFileMixin):
             "eac_carbon": lc.pv_carbon * crf,
             "eac_residual": -lc.pv_residual * crf,
         })
-        reasons, notes = feasibility.reasons(c, lc, checks, self.constraints,
-                                             self.service_temperature)
+        if self.layout is not None:
+            reasons, notes = self.layout.reasons(lc, checks)
+            for col in ("nominal", "boosters", "booster_chainages_km", "classes_along"):
+                df[col] = c[col]
+            df["highest_pressure_bar"] = checks["highest_pressure"] / 1e5
+        else:
+            reasons, notes = feasibility.reasons(c, lc, checks, self.constraints,
+                                                 self.service_temperature)
         df["feasible"] = checks["feasible"]
         df["reasons"] = reasons
         df["notes"] = notes
@@ -504,6 +583,43 @@ class SizingResult(StudyResult):
         """The horizon this run used [yr]."""
         return int(self.lifecycle.cash_flows.timeline.horizon[0])
 
+    def _design(self, index: int | None) -> int:
+        if self.study.layout is None:
+            raise InputError("profile and stations describe a long line ([[profile]], "
+                             "[[section]] or [boosters]); this study is a uniform line")
+        if index is None:
+            if self.best is None:
+                raise InputError("no feasible design: pass the row index of a design")
+            index = int(self.best.name)
+        return index
+
+    def _run_inputs(self) -> Variations | None:
+        return self.study.variations(self.inputs) if self.inputs else None
+
+    @cached_property
+    def profile(self) -> pd.DataFrame:
+        """The grade-line envelope along the best design of a long line, one row per point:
+        ``chainage_m``, ``ground_m``, ``pipe_m`` (axis), ``head_min_m``, ``head_max_m``
+        (lowest and highest grade line over every duty point and year of the horizon),
+        ``pressure_min_bar``, ``pressure_max_bar`` (gauge), ``class`` and ``size`` laid there,
+        ``station``, ``pfa_bar``, ``pma_bar`` of the class, ``least_pressure_bar`` allowed.
+        :meth:`profile_of` gives another design's."""
+        return self.profile_of(None)
+
+    def profile_of(self, index: int | None = None) -> pd.DataFrame:
+        """The grade-line envelope of design ``index`` (default: the best)."""
+        index = self._design(index)
+        return self.study.layout.profile_table(index, self._run_inputs())
+
+    @cached_property
+    def stations(self) -> pd.DataFrame:
+        """The stations of the best design of a long line: ``station``, ``chainage_m``,
+        ``ground_m``, ``head_max_m`` (largest head added), ``peak_kw`` (electrical),
+        ``installed_kw``, ``suction_pressure_min_bar``, ``discharge_pressure_max_bar``,
+        ``npsh_available_m`` (least), ``npsh_required_m``."""
+        index = self._design(None)
+        return self.study.layout.station_table(index, self._run_inputs())
+
     def yearly(self, index: int | None = None) -> pd.DataFrame:
         """Year-by-year flows, energy and cash flows of one candidate (default: the best).
 
@@ -547,6 +663,33 @@ class SizingResult(StudyResult):
         return (f"service temperature {t:.0f} degC{given}: {row['material']} derated x {f:.3g} "
                 f"(PFA {row['pfa_bar']:.1f} of {row['rated_pressure_bar']:.1f} bar)")
 
+    def _line_words(self, b: pd.Series) -> list[str]:
+        """The long line's lines of the summary: classes, stations, pressures."""
+        cur = f" {self.currency}" if self.currency else ""
+        prof = self.profile
+        st = self.stations
+        low = prof["pressure_min_bar"].to_numpy()
+        at = prof["chainage_m"].to_numpy()
+        i_hi = int(np.argmax(prof["pressure_max_bar"]))
+        i_lo = int(np.argmin(low))
+        out = [f"  classes along the line: {b['classes_along']}",
+               f"  highest pressure {prof['pressure_max_bar'].iloc[i_hi]:.1f} bar at "
+               f"{at[i_hi] / 1000:.1f} km; lowest {low[i_lo]:.2f} bar at {at[i_lo] / 1000:.1f} "
+               f"km; governing stretch: operating {b['operating_pressure_bar']:.1f} bar within "
+               f"PFA {b['pfa_bar']:.1f} bar, MDP {b['mdp_bar']:.1f} bar (surge "
+               f"{b['surge_head_m']:.1f} m) within PMA {b['pma_bar']:.1f} bar"]
+        for _, r in st.iterrows():
+            out.append(f"  {r['station']:<13} {r['chainage_m'] / 1000:6.1f} km  head up to "
+                       f"{r['head_max_m']:6.1f} m  peak {r['peak_kw']:7.0f} kW  suction "
+                       f">= {r['suction_pressure_min_bar']:.2f} bar")
+        ru = self.candidates[self.candidates["feasible"]]
+        if "boosters" in ru and not ru.empty:
+            by_n = ru.loc[ru.groupby("boosters")["eac"].idxmin()]
+            out.append("  best with each number of boosters: " + "; ".join(
+                f"{r['size']} EAC {r['eac']:,.0f}{cur}/yr"
+                for _, r in by_n.iterrows()))
+        return out
+
     def tables(self) -> dict[str, pd.DataFrame]:
         top = self.candidates.sort_values(["feasible", "eac"], ascending=[False, True])
         cols = ["material", "size", "inner_diameter_m", "velocity_m_s", "head_loss_m",
@@ -588,12 +731,16 @@ class SizingResult(StudyResult):
                 f"  velocity {b['velocity_m_s']:.2f} m/s, head loss {b['head_loss_m']:.2f} m, "
                 f"pump head {b['pump_head_m']:.1f} m, peak power {b['pump_power_kw']:.1f} kW "
                 f"(largest duty, year 1)",
-                f"  MDP {b['mdp_bar']:.1f} bar (suction {s.line.suction_pressure / 1e5:.1f} "
-                f"bar + highest pump head {b['pump_head_max_m']:.1f} m + surge "
-                f"{b['surge_head_m']:.1f} m) within PMA {b['pma_bar']:.1f} bar; operating "
-                f"{b['operating_pressure_bar']:.1f} bar within PFA {b['pfa_bar']:.1f} bar",
-                f"  {self._temperature_words(b)}",
             ]
+            if s.layout is None:
+                lines += [
+                    f"  MDP {b['mdp_bar']:.1f} bar (suction {s.line.suction_pressure / 1e5:.1f} "
+                    f"bar + highest pump head {b['pump_head_max_m']:.1f} m + surge "
+                    f"{b['surge_head_m']:.1f} m) within PMA {b['pma_bar']:.1f} bar; operating "
+                    f"{b['operating_pressure_bar']:.1f} bar within PFA {b['pfa_bar']:.1f} bar",
+                    f"  {self._temperature_words(b)}"]
+            else:
+                lines += self._line_words(b)
         else:
             lines += ["", "No feasible candidate. " + self.message]
         ru = self.runner_up()

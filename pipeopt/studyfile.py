@@ -233,12 +233,21 @@ class StudyFileMixin:
             raise StudyFileError(str(exc)) from None
 
     @classmethod
-    def demo(cls):
-        """The bundled demonstration study of this kind (an invented scenario; illustrative)."""
+    def demo(cls, name: str | None = None):
+        """The bundled demonstration study of this kind (an invented scenario; illustrative).
+
+        ``name`` picks another bundled demo of the kind, ``pipeopt/data/demo_<name>.toml``
+        (e.g. ``SizingStudy.demo("longline")``).
+        """
         from importlib import resources
 
-        text = resources.files("pipeopt").joinpath("data", cls._DEMO_FILE).read_text("utf-8")
-        return cls.from_dict(tomllib.loads(text))
+        file = cls._DEMO_FILE if name is None else f"demo_{name}.toml"
+        data = resources.files("pipeopt").joinpath("data")
+        if not data.joinpath(file).is_file():
+            known = sorted(p.name[5:-5] for p in data.iterdir()
+                           if p.name.startswith("demo_") and p.name.endswith(".toml"))
+            raise InputError(f"demo: no bundled demo {name!r}; demos: {', '.join(known)}")
+        return cls.from_dict(tomllib.loads(data.joinpath(file).read_text("utf-8")))
 
 
 def _kind_word(value: Any) -> str:

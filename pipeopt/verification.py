@@ -23,7 +23,9 @@ import pandas as pd
 
 __all__ = ["Check", "CHECKS", "run_checks", "half_unit", "COLEBROOK_ROOTS", "WATER_AMBIENT",
            "R12_08_VERIFICATION", "CRF_VALUES", "WAVE_SPEED_CASES", "HAZEN_WILLIAMS",
-           "PVC_PN_BY_SDR", "standard_tables", "catalog_reference_values"]
+           "PVC_PN_BY_SDR", "standard_tables", "catalog_reference_values", "STANDARD_ATMOSPHERE",
+           "CRANE_FT", "CRANE_K_MULTIPLES", "CRANE_BUTTERFLY", "CRANE_FIXED_K",
+           "AFFINITY_CASE"]
 
 def half_unit(text: str) -> float:
     """Half a unit in the last digit of a number as printed: ``"0.0802426"`` -> 5e-8."""
@@ -95,6 +97,42 @@ HAZEN_WILLIAMS = {
 PE_SDR = (26.0, 21.0, 17.0, 13.6, 11.0, 9.0, 7.4)  # the PE series bundled (ISO 4427)
 PVC_PN_BY_SDR = {"up to 90 mm": {41: 5.0, 33: 6.0, 26: 8.0, 21: 10.0, 17: 12.5, 13.6: 16.0},
                  "above 90 mm": {41: 6.0, 33: 8.0, 26: 10.0, 21: 12.5, 17: 16.0, 13.6: 20.0}}
+
+
+#: Standard atmosphere (docs/references.md#long-lines): ISO 2533:1975 / ICAO table pressures at
+#: geopotential altitudes, as (elevation [m], pressure [kPa] as printed) (from memory).
+STANDARD_ATMOSPHERE = [(0.0, "101.325"), (500.0, "95.46"), (1000.0, "89.87"),
+                       (2000.0, "79.50")]
+ATMOSPHERE_SOURCE = ("ISO 2533:1975 standard atmosphere, table values (from memory; "
+                     "docs/references.md#long-lines)")
+
+#: Crane Technical Paper No. 410 (docs/references.md#long-lines), from memory: f_T of clean
+#: commercial steel pipe in complete turbulence by nominal pipe size [in], and the resistance
+#: coefficients of fittings as multiples of f_T (or fixed K).
+CRANE_FT = {0.5: "0.027", 0.75: "0.025", 1.0: "0.023", 1.25: "0.022", 1.5: "0.021",
+            2.0: "0.019", 2.5: "0.018", 3.0: "0.018", 4.0: "0.017", 5.0: "0.016", 6.0: "0.015",
+            8.0: "0.014", 10.0: "0.014", 12.0: "0.013", 14.0: "0.013", 16.0: "0.013",
+            18.0: "0.012", 20.0: "0.012", 24.0: "0.012"}
+CRANE_K_MULTIPLES = {"gate-valve": 8, "ball-valve": 3, "globe-valve": 340, "angle-valve": 150,
+                     "plug-valve": 18, "swing-check-valve": 100, "lift-check-valve": 600,
+                     "foot-valve-poppet": 420, "foot-valve-hinged": 75,
+                     "elbow-90-standard": 30, "elbow-45-standard": 16, "bend-90-r1": 20,
+                     "bend-90-long-radius": 14, "bend-90-r2": 12, "bend-90-r3": 12,
+                     "bend-90-r4": 14, "bend-90-r6": 17, "bend-90-r8": 24, "bend-90-r10": 30,
+                     "close-return-bend": 50, "tee-through-run": 20, "tee-through-branch": 60}
+#: Butterfly valves by size band [in]: 2-8 in 45 f_T, 10-14 in 35 f_T, 16-24 in 25 f_T.
+CRANE_BUTTERFLY = [(4.0, 45), (8.0, 45), (10.0, 35), (14.0, 35), (16.0, 25), (24.0, 25)]
+CRANE_FIXED_K = {"entrance-sharp": 0.5, "entrance-projecting": 0.78, "entrance-rounded": 0.04,
+                 "exit": 1.0}
+CRANE_SOURCE = ("Crane Co., Technical Paper No. 410, representative resistance coefficients "
+                "and f_T (from memory; docs/references.md#long-lines)")
+
+#: Affinity laws (docs/references.md#long-lines): a pump at 100 L/s, 40 m, 50 kW slowed to
+#: 0.8 of its speed gives 80 L/s, 25.6 m and 25.6 kW (Q ~ n, H ~ n^2, P ~ n^3; Gulich,
+#: Centrifugal Pumps, 2014, section 3.4, from memory), worked by hand.
+AFFINITY_CASE = ((0.1, 40.0, 50e3, 0.8), ("0.08", "25.6", "25600"))
+AFFINITY_SOURCE = ("affinity laws Q ~ n, H ~ n^2, P ~ n^3 (Gulich, Centrifugal Pumps, 3rd ed. "
+                   "2014, section 3.4, from memory; docs/references.md#long-lines)")
 
 
 def standard_tables() -> pd.DataFrame:
@@ -322,6 +360,51 @@ def _catalog_max_error(materials: tuple[str, ...]) -> Callable[[], float]:
     return f
 
 
+def _atmosphere(z: float) -> Callable[[], float]:
+    def run() -> float:
+        from .pumps import standard_atmosphere_pressure
+
+        return float(standard_atmosphere_pressure(z)) / 1000.0
+    return run
+
+
+def _ft(nps: float) -> Callable[[], float]:
+    def run() -> float:
+        from .losses import fully_turbulent_friction_factor
+
+        bore = _sch40_bore(nps)
+        return float(fully_turbulent_friction_factor(bore))
+    return run
+
+
+def _sch40_bore(nps: float) -> float:
+    """The bore of ASME B36.10M Schedule 40 pipe of a nominal size [m] (bundled catalog)."""
+    from .catalog import list_sizes
+
+    sizes = list_sizes("steel", pressure_class="Sch 40")
+    whole, frac = int(nps), nps - int(nps)
+    label = {0.0: "", 0.25: "1/4", 0.5: "1/2", 0.75: "3/4"}[frac]
+    name = (f"NPS {label}" if whole == 0 else f"NPS {whole}-{label}" if label
+            else f"NPS {whole}") + " Sch 40"
+    return float(sizes.loc[sizes["designation"] == name, "inner_diameter_m"].iloc[0])
+
+
+def _fitting(name: str, nps: float) -> Callable[[], float]:
+    def run() -> float:
+        from .losses import fitting_k
+
+        return float(fitting_k(name, _sch40_bore(nps)))
+    return run
+
+
+def _affinity(i: int) -> Callable[[], float]:
+    def run() -> float:
+        from .pumps import affinity_laws
+
+        return float(affinity_laws(*AFFINITY_CASE[0])[i])
+    return run
+
+
 def _n_recorded(materials: tuple[str, ...]) -> int:
     return int(catalog_reference_values()["material"].isin(materials).sum())
 
@@ -394,6 +477,22 @@ CHECKS: list[Check] = [
     Check("sizing", "energy over capital charge at D*", "m/5 at the closed-form optimum "
           "(docs/references.md#economics)", 1.4 / 5, _closed_form("ratio"), 1e-6,
           why="follows from the 1e-6 m optimum"),
+    *[Check("long lines", f"standard atmosphere at {z:g} m [kPa]", ATMOSPHERE_SOURCE, float(p),
+            _atmosphere(z), half_unit(p), relative=False, why=_HALF)
+      for z, p in STANDARD_ATMOSPHERE],
+    *[Check("long lines", f"f_T of NPS {nps:g} Schedule 40", CRANE_SOURCE, float(ft), _ft(nps),
+            1e-12, relative=False, why="the table's value at its own size")
+      for nps, ft in CRANE_FT.items() if nps in (0.5, 2.0, 4.0, 12.0, 24.0)],
+    Check("long lines", "K of a gate valve, NPS 4", CRANE_SOURCE,
+          CRANE_K_MULTIPLES["gate-valve"] * float(CRANE_FT[4.0]), _fitting("gate-valve", 4.0),
+          1e-12, relative=False, why="8 f_T at the table's f_T"),
+    Check("long lines", "K of a long-radius 90 degree bend, NPS 12", CRANE_SOURCE,
+          CRANE_K_MULTIPLES["bend-90-long-radius"] * float(CRANE_FT[12.0]),
+          _fitting("bend-90-long-radius", 12.0), 1e-12, relative=False,
+          why="14 f_T at the table's f_T"),
+    *[Check("long lines", f"affinity laws: {what} at 0.8 of the speed", AFFINITY_SOURCE,
+            float(AFFINITY_CASE[1][i]), _affinity(i), 1e-12, why="exact powers of 0.8")
+      for i, what in enumerate(("flow [m3/s]", "head [m]", "power [W]"))],
 ]
 
 

@@ -160,6 +160,41 @@ def programme_demo() -> str:
     return buf.getvalue().rstrip("\n")
 
 
+def demo_longline_study() -> str:
+    """The long-line demo without its study labels, fluid, profile points and money tables."""
+    text = _demo_file("demo_longline.toml")
+    keep, take, points = [], False, 0
+    for line in text.splitlines():
+        if line.startswith("["):
+            take = line.startswith(("[line]", "[[section]]", "[[duty]]", "[pumping]",
+                                    "[boosters]", "[[equipment]]", "[fittings]", "[[profile]]"))
+            if line.startswith("[[profile]]"):
+                points += 1
+                if points == 3:
+                    keep.append("# ... one [[profile]] table per point of the ground profile")
+                take = points <= 2
+        if take:
+            keep.append(line)
+    return "\n".join(keep).rstrip()
+
+
+def _longline_text() -> str:
+    from pipeopt import SizingStudy
+
+    return SizingStudy.demo("longline").run().text()
+
+
+def demo_longline_output() -> str:
+    return _between(_longline_text(), "Best:", "Best two")
+
+
+def demo_longline_stations() -> str:
+    from pipeopt import SizingStudy
+
+    result = SizingStudy.demo("longline").run()
+    return result.stations.round(2).to_string(index=False)
+
+
 GENERATORS = {
     "programme-demo": programme_demo,
     "network-demo-study": demo_network_study,
@@ -172,6 +207,9 @@ GENERATORS = {
     "demo-best-year": demo_best_year,
     "demo-tornado": demo_tornado,
     "physics-output": physics_output,
+    "demo-longline-study": demo_longline_study,
+    "demo-longline-output": demo_longline_output,
+    "demo-longline-stations": demo_longline_stations,
     "error-example": error_example,
 }
 

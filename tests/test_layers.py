@@ -21,13 +21,15 @@ LAYERS = {
     "errors": 0, "_arrays": 0, "units": 0, "fields": 0, "studyfile": 0,
     # physics
     "friction": 1, "fluid": 1, "water": 1, "catalog": 1, "pressure": 1, "surge": 1,
+    "pumps": 1, "losses": 1,
     # model
     "economics": 2, "costs": 2, "duty": 2, "hydraulics": 2, "cashflow": 2, "variations": 2,
     "lifecycle": 2, "surrogate": 2, "renewal": 2, "upgrade_model": 2, "replacement": 2,
-    "schedule": 2,
+    "schedule": 2, "pumpset": 2, "profile": 2, "stations": 2,
     # study
     "inputs": 3, "candidates": 3, "feasibility": 3, "optimum": 3, "results": 3, "sizing": 3,
     "upgrade": 3, "uncertainty": 3, "verification": 3, "programme": 3, "register": 3,
+    "route": 3, "longline": 3,
     # presentation
     "plots": 4, "widgets": 4, "report": 4, "cli": 4, "outputs": 4,
     "programme_report": 4,

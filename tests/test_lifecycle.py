@@ -155,3 +155,70 @@ def test_each_sample_uses_its_own_horizon(horizons, growth, rate):
         # every cash-flow table reconciles to its present value
         np.testing.assert_allclose(batch.cash_flows.present_value[j], one.pv_total,
                                    rtol=1e-12)
+
+
+def test_time_of_use_duty_efficiencies_equipment_and_fittings_by_hand():
+    # DEVELOPERS.md model section, with each duty's own price and pump efficiency, a fixed
+    # loss c Q^2 (35 kPa at 0.08 m3/s) and two gate valves (Crane TP-410, 8 f_T, f_T 0.014 at
+    # 250 mm, from memory; docs/references.md#long-lines), worked by hand
+    from pipeopt.losses import Fittings
+    from pipeopt.pumpset import PumpSet
+
+    duty = DutyProfile(("0.05 m^3/s", "0.08 m^3/s"), (3000.0, 1500.0), growth=0.02,
+                       prices=(0.06, 0.15))
+    c_eq = 35e3 / (999.1 * G * 0.08**2)
+    s = small_scenario(duty=duty, efficiency=0.8, pump=PumpSet(0.8, duty_ratios=(1.0, 0.9)),
+                       equipment_coefficient=c_eq,
+                       fittings=Fittings((("gate-valve", 2),)))
+    d, eps0, alpha = 0.25, 0.1e-3, 0.05e-3
+    lc = evaluate(s, np.array([d]), eps0, alpha, np.array([300.0]))
+    area = math.pi * d * d / 4
+    k_fit = 2 * 8 * 0.014
+    cost, energy = [], []
+    for t in (1, 2, 3):
+        eps_t = eps0 + alpha * (t - 1)
+        e_t, c_t, p_max = 0.0, 0.0, 0.0
+        for q0, hrs, price, eta in ((0.05, 3000.0, 0.06, 0.8), (0.08, 1500.0, 0.15, 0.72)):
+            q = q0 * 1.02 ** (t - 1)
+            v = q / area
+            re = 999.1 * v * d / 1.1376e-3
+            f = colebrook_mpmath(re, eps_t / d)
+            h = (f * 2000.0 / d + 4.0 + k_fit) * v * v / (2 * G) + c_eq * q * q
+            p_w = 999.1 * G * q * (15.0 + h) / eta
+            e_t += p_w * hrs / 1000.0
+            c_t += p_w * hrs / 1000.0 * price * 1.01 ** (t - 1)
+            p_max = max(p_max, p_w / 1000.0)
+        energy.append(e_t)
+        cost.append(c_t + 40.0 * p_max)
+    assert lc.energy_kwh[0] == pytest.approx(energy, rel=1e-12)
+    assert lc.energy_cost[0] == pytest.approx(cost, rel=1e-12)
+    pv_energy = sum(cost[t - 1] / 1.06**t for t in (1, 2, 3))
+    assert lc.pv_energy[0] == pytest.approx(pv_energy, rel=1e-12)
+    # the named input energy_price scales every period's price in proportion
+    from pipeopt.variations import Variations
+
+    lc2 = evaluate(s, np.array([d]), eps0, alpha, np.array([300.0]),
+                   variations=Variations.of({"energy_price": 0.2, "demand_charge": 0.0}))
+    energy_part = [c - 40.0 * p for c, p in zip(cost, lc.peak_kw[0], strict=True)]
+    assert lc2.pv_energy[0, 0] == pytest.approx(
+        sum(2.0 * energy_part[t - 1] / 1.06**t for t in (1, 2, 3)), rel=1e-12)
+
+
+def test_variable_speed_curve_on_friction_only_costs_as_the_best_efficiency():
+    # affinity laws (Gulich 2014, 3.4, from memory): with no static head every duty of a
+    # variable-speed pump is similar to the design point, at the best efficiency; a throttled
+    # pump on its curve never uses less
+    from pipeopt.pumpset import PumpSet
+
+    same = dict(static_head=0.0, efficiency=0.8, friction_method="constant",
+                constant_friction_factor=0.02)
+    base = small_scenario(**same)
+    vsd = small_scenario(**same, pump=PumpSet(0.8, curve=True, control="variable-speed"))
+    thr = small_scenario(**same, pump=PumpSet(0.8, curve=True, control="throttle"))
+    d = np.array([0.2, 0.25, 0.3])
+    a = evaluate(base, d, 0.0, 0.0, np.full(3, 300.0))
+    b = evaluate(vsd, d, 0.0, 0.0, np.full(3, 300.0))
+    c = evaluate(thr, d, 0.0, 0.0, np.full(3, 300.0))
+    # a constant friction factor: H = c Q^2 exactly, every state similar to the design point
+    np.testing.assert_allclose(b.pv_energy, a.pv_energy, rtol=1e-12)
+    assert np.all(c.pv_energy > b.pv_energy)

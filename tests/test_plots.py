@@ -143,3 +143,23 @@ def test_log_tick_labels_are_plain_text():
     assert {"0.3", "0.5", "1", "2"} <= set(short_labels)
     assert not any("$" in t for t in wide_labels + short_labels)
     plt.close(fig)
+
+
+def test_profile_of_a_long_line():
+    result = SizingStudy.demo("longline").run()
+    ax = plots.profile(result)
+    assert _has_unit(ax.get_xlabel()) and _has_unit(ax.get_ylabel())
+    labels = [line.get_label() for line in ax.get_lines()]
+    for word in ("pipe axis", "highest grade line", "lowest grade line", "PFA", "least head",
+                 "stations"):
+        assert any(word in x for x in labels), word
+    legend = ax.get_legend()
+    assert legend is not None and legend.get_bbox_to_anchor().x0 > ax.bbox.x1 - 1  # off data
+    plt.close(ax.figure)
+    tables, fig = plots.profile_section(result)
+    assert set(tables) == {"Grade line along the line", "Stations",
+                           "Best design with each number of boosters"}
+    assert list(tables["Best design with each number of boosters"]["boosters"]) == [0, 1, 2]
+    plt.close(fig)
+    with pytest.raises(ValueError, match="long line"):
+        plots.profile(SizingStudy.demo().run())

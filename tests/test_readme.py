@@ -55,6 +55,7 @@ def workdir(tmp_path):
     register = invented_register()
     register.to_csv(tmp_path / "mains.csv", index=False)
     register.to_parquet(tmp_path / "mains.parquet", index=False)
+    shutil.copy(data / "demo_longline.toml", tmp_path / "longline.toml")
     return tmp_path
 
 

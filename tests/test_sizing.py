@@ -244,6 +244,19 @@ def test_aging_and_growth_raise_energy_over_the_years():
         ({"constraints": {"velocity_min": "3 m/s", "velocity_max": "2 m/s"}},
          r"velocity_min \(3 m/s\) must be below velocity_max"),
         ({"extra": {}}, r"extra: unknown key"),
+        ({"duty": [{"flow": "0.2 m^3/s", "hours": 4000, "price": "0.1 EUR"}]},
+         r"duty\[0\]\.price: expected a number \(write it without a unit"),
+        ({"duty": [{"flow": "0.2 m^3/s", "hours": 4000, "efficiency": 0.8},
+                   {"flow": "0.1 m^3/s", "hours": 4000}], "pumping": {}},
+         r"duty\[1\]\.efficiency: give a pump efficiency on every \[\[duty\]\], or on none"),
+        ({"duty": [{"flow": "0.2 m^3/s", "hours": 4000, "efficiency": 0.8}]},
+         r"duty\[0\]\.efficiency: the duty points give pump efficiencies"),
+        ({"pumping": {"efficiency": 0.7, "npsh_margin": "1 m"}},
+         r"pumping\.npsh_margin: needs npsh_required"),
+        ({"equipment": [{"pressure_drop": "35 kPa", "at_flow": "400 m^3/h", "at": "1 km"}]},
+         r"equipment\[0\]\.at: a chainage needs a long line"),
+        ({"line": {"length": "2 km", "static_head": "0 m", "cover": "1 m"}},
+         r"line\.cover: needs a ground profile"),
     ],
 )
 def test_study_errors(changes, match):
@@ -292,3 +305,69 @@ def test_study_rich_display():
     html = SizingStudy.demo()._repr_html_()
     assert "Sizing study" in html and "<table" in html and "flow [m³/h]" in html
     assert "Illustrative" in html
+
+
+# ------------------------------------------------------------------------------------------
+# time of use, pumps, equipment and fittings in a uniform line (docs/references.md#long-lines)
+# ------------------------------------------------------------------------------------------
+def test_time_of_use_prices_from_a_study_file():
+    # one duty at 0.05 and one at 0.15 EUR/kWh: the energy cost is each duty's energy at its
+    # own price (hand: the two halves of the hours, priced apart)
+    flat = study_from(duty=[{"flow": "0.2 m^3/s", "hours": 4000},
+                            {"flow": "0.2 m^3/s", "hours": 4000}]).run()
+    tou = study_from(duty=[{"flow": "0.2 m^3/s", "hours": 4000, "price": 0.05},
+                           {"flow": "0.2 m^3/s", "hours": 4000, "price": 0.15}]).run()
+    np.testing.assert_allclose(tou.candidates["pv_energy"], flat.candidates["pv_energy"],
+                               rtol=1e-12)   # the mean of 0.05 and 0.15 is the flat 0.1
+    half = study_from(duty=[{"flow": "0.2 m^3/s", "hours": 4000, "price": 0.05},
+                            {"flow": "0.2 m^3/s", "hours": 4000}]).run()  # the other at 0.1
+    np.testing.assert_allclose(half.candidates["pv_energy"],
+                               0.75 * flat.candidates["pv_energy"], rtol=1e-12)
+    assert tou.study.duty.prices == (0.05, 0.15)
+
+
+def test_npsh_short_is_a_reason_for_every_candidate():
+    # NPSH available at sea level from an open tank at the pump, water at 15 degC:
+    # (101325 - 1705) / (999.1 g) = 10.17 m (ISO 9906 definition; docs/references.md)
+    res = study_from(pumping={"efficiency": 0.75, "npsh_required": "9.5 m",
+                              "npsh_margin": "1 m"}).run()
+    assert not res.success
+    assert res.candidates["reasons"].str.contains(
+        r"NPSH available 10\.17 m at the pump inlet is below NPSH required 9\.50 m \+ margin "
+        r"1\.00 m").all()
+    ok = study_from(pumping={"efficiency": 0.75, "npsh_required": "9 m",
+                             "npsh_margin": "1 m"}).run()
+    assert ok.success
+    high = study_from(pumping={"efficiency": 0.75, "npsh_required": "9 m",
+                               "npsh_margin": "1 m", "elevation": "1000 m"}).run()
+    assert not high.success   # the barometric pressure at 1000 m is 11.4 kPa lower
+
+
+def test_equipment_and_fittings_add_their_losses():
+    base = study_from().run().candidates
+    eq = study_from(equipment=[{"pressure_drop": "35 kPa", "at_flow": "0.2 m^3/s"}]).run()
+    rho_g = eq.study.fluid.density * 9.80665
+    np.testing.assert_allclose(eq.candidates["head_loss_m"] - base["head_loss_m"],
+                               35e3 / rho_g, atol=1e-9)   # the stated drop at the stated flow
+    fit = study_from(fittings={"gate-valve": 2, "exit": 1}).run().candidates
+    from pipeopt.losses import fitting_k
+
+    d = fit["inner_diameter_m"].to_numpy()
+    v = fit["velocity_m_s"].to_numpy()
+    k = 2 * np.asarray(fitting_k("gate-valve", d)) + 1.0
+    np.testing.assert_allclose(fit["head_loss_m"] - base["head_loss_m"], k * v * v / 19.6133,
+                               rtol=1e-9)
+
+
+def test_upgrade_studies_refuse_the_sizing_only_keys():
+    from pipeopt import UpgradeStudy
+    from pipeopt.studyfile import read_toml
+
+    d = read_toml(Path(__file__).parents[1] / "pipeopt" / "data" / "demo_upgrade.toml")
+    d["duty"][0]["price"] = 0.1
+    with pytest.raises(StudyFileError, match=r"duty\[0\]\.price: unknown key"):
+        UpgradeStudy.from_dict(d)
+    d = read_toml(Path(__file__).parents[1] / "pipeopt" / "data" / "demo_upgrade.toml")
+    d["pumping"] = {"bep_efficiency": 0.8}
+    with pytest.raises(StudyFileError, match=r"pumping\.bep_efficiency: unknown key"):
+        UpgradeStudy.from_dict(d)

@@ -1,0 +1,226 @@
+"""Tests of pipeopt.longline: a long-line sizing study end to end.
+
+Sources: the model of the contributor guide (DEVELOPERS.md, "Long lines") for the rules
+checked (every stretch within its class, every point at or above the least pressure, the best
+design the least EAC of the feasible ones, cash flows that add up to the present value); the
+demo is invented and illustrative. Hand-worked checks of the grade line and of the station
+optimizer are in tests/test_profile.py and tests/test_stations.py.
+"""
+
+from __future__ import annotations
+
+import copy
+import os
+import subprocess
+import sys
+import tomllib
+from importlib import resources
+
+import numpy as np
+import pytest
+
+from pipeopt import SizingStudy
+from pipeopt.errors import InputError
+from pipeopt.longline import PROFILE_COLUMNS, STATION_COLUMNS
+from pipeopt.studyfile import StudyFileError
+from pipeopt.uncertainty import Triangular, Uniform
+
+DEMO = tomllib.loads(resources.files("pipeopt").joinpath("data", "demo_longline.toml")
+                     .read_text("utf-8"))
+
+
+@pytest.fixture(scope="module")
+def demo():
+    study = SizingStudy.demo("longline")
+    return study, study.run()
+
+
+def test_demo_result(demo):
+    study, res = demo
+    assert res.success and res.best is not None
+    c = res.candidates
+    feas = c[c["feasible"]]
+    assert res.best["eac"] == feas["eac"].min()
+    assert set(c["boosters"]) == {0, 1, 2}
+    # every design of every pipe: one per pipe and number of boosters (3 x 3 sizes)
+    assert len(c) == 9 * 3
+    text = res.text()
+    for word in ("ILLUSTRATIVE", "Caution", "classes along the line", "head station",
+                 "booster 1", "best with each number of boosters"):
+        assert word in text
+    assert "continuous optimum" not in text.lower() and res.optimum.empty
+
+
+def test_profile_and_stations_tables(demo):
+    study, res = demo
+    prof = res.profile
+    assert list(prof.columns) == PROFILE_COLUMNS
+    assert list(res.stations.columns) == STATION_COLUMNS
+    x = prof["chainage_m"].to_numpy()
+    assert x[0] == 0.0 and x[-1] == 39600.0 and np.all(np.diff(x) >= 0)
+    # every point at or above the least pressure, at every duty and year
+    assert np.all(prof["pressure_min_bar"] >= prof["least_pressure_bar"] - 1e-9)
+    # every stretch within the PFA of its class (operating, without surge)
+    line = prof[~prof["station"].str.endswith("suction")]
+    assert np.all(line["pressure_max_bar"] <= line["pfa_bar"] + 1e-9)
+    # the grade line is never below the pipe minus the least head
+    assert np.all(prof["head_min_m"] >= prof["least_head_m"] - 1e-9)
+    n = int(res.best["boosters"])
+    assert len(res.stations) == n + 1
+    # the lowest point of the lowest grade line is at the ridge, named sub-atmospheric
+    ridge = prof.loc[prof["pressure_min_bar"].idxmin()]
+    assert ridge["chainage_m"] == 22000.0 and ridge["pressure_min_bar"] < 0
+    assert "sub-atmospheric at" in res.best["notes"] and "21.4-22.9 km" in res.best["notes"]
+    # a booster's suction: NPSH available = required + margin where it is the least allowed
+    st = res.stations
+    assert np.all(st["npsh_available_m"] >= st["npsh_required_m"] + 1.0 - 1e-9)
+
+
+def test_yearly_cash_flows_add_up(demo):
+    _, res = demo
+    y = res.yearly()
+    assert y["discounted"].sum() == pytest.approx(res.best["pv_total"], rel=1e-12)
+    assert len(y) == 41
+
+
+def test_python_constructor_matches_the_study_file(demo):
+    from pipeopt import Fluid
+    from pipeopt.costs import EnergyTariff, PumpStationCost
+    from pipeopt.duty import DutyProfile
+    from pipeopt.inputs import Constraints, Economics, Line, MaterialChoice, Pumping
+    from pipeopt.losses import Equipment, Fittings
+    from pipeopt.profile import GroundProfile
+    from pipeopt.route import LineSection
+    from pipeopt.stations import Boosters
+
+    pts = DEMO["profile"]
+    study = SizingStudy(
+        Fluid.water("12 degC"),
+        Line("39.6 km", "246 m", minor_loss_k=4.0, cover="1.2 m", source_level="44 m"),
+        DutyProfile(("1600 m^3/h", "1000 m^3/h"), (4000, 3500), growth=0.005, design_year=20,
+                    names=("day", "night"), prices=(0.16, 0.08)),
+        Pumping(bep_efficiency=0.86, bep_flow="1500 m^3/h", control="variable-speed",
+                motor_efficiency=0.95, drive_efficiency=0.97, npsh_required="5 m",
+                npsh_margin="1 m"),
+        EnergyTariff(0.13, escalation=0.01, demand_charge=70.0),
+        Economics(0.05, 40, 80, 0.002),
+        [MaterialChoice("ductile-iron", DEMO["material"][0]["cost"],
+                        classes=["C25", "C30", "C40", "C50"], min_diameter="0.45 m",
+                        max_diameter="0.85 m")],
+        pump_station=PumpStationCost(9000.0, 0.68, standby_fraction=0.5, life=25,
+                                     maintenance=0.015),
+        constraints=Constraints("0.5 m/s", "2.5 m/s"),
+        profile=GroundProfile(tuple(p["chainage"] for p in pts),
+                              tuple(p["elevation"] for p in pts)),
+        sections=(LineSection(end="22 km", sizes=["DN 600", "DN 700", "DN 800"]),
+                  LineSection(sizes=["DN 500", "DN 600", "DN 700"])),
+        boosters=Boosters(2, sites=["12 km", "19 km"], fixed_cost=650000.0, cost_per_kw=450.0,
+                          standby_fraction=0.5, life=25, maintenance=0.02,
+                          suction_pressure_min="0.5 bar"),
+        equipment=(Equipment("35 kPa", "1600 m^3/h"),),
+        fittings=Fittings.parse(DEMO["fittings"]))
+    np.testing.assert_allclose(study.run().candidates["eac"], demo[1].candidates["eac"],
+                               rtol=1e-13)
+
+
+def test_named_inputs_and_their_samples(demo):
+    study, res = demo
+    same = study.run(inputs={"flow_factor": 1.0, "energy_price": 0.13})
+    np.testing.assert_allclose(same.candidates["eac"], res.candidates["eac"], rtol=1e-12)
+    more = study.run(inputs={"flow_factor": 1.1})
+    assert (more.candidates["eac"] > res.candidates["eac"]).all()
+    assert more.profile["head_max_m"].iloc[1] > res.profile["head_max_m"].iloc[1]
+    # one material: its factor is the factor on every pipe
+    a = study.run(inputs={"pipe_cost_factor:ductile-iron": 1.2}).candidates["capex_pipe"]
+    b = study.run(inputs={"pipe_cost_factor": 1.2}).candidates["capex_pipe"]
+    np.testing.assert_allclose(a, b, rtol=1e-13)
+    # a batch of samples equals the samples one by one (hydraulic inputs vary)
+    values = {"flow_factor": np.array([0.9, 1.0, 1.15]), "horizon": np.array([30, 40, 35]),
+              "energy_price": np.array([0.1, 0.13, 0.2])}
+    lc = study.evaluate(variations=study.variations(values), yearly=False)
+    for i in range(3):
+        one = study.run(inputs={k: float(v[i]) for k, v in values.items()}, optimum=False)
+        np.testing.assert_allclose(lc.eac[i], one.candidates["eac"], rtol=1e-11)
+        np.testing.assert_array_equal(study.check(lc)["feasible"][i],
+                                      one.candidates["feasible"])
+
+
+def test_uncertainty_of_a_long_line(demo):
+    study, _ = demo
+    mc = study.monte_carlo({"energy_price": Triangular(0.1, 0.13, 0.2),
+                            "flow_factor": Uniform(0.9, 1.1)}, n=200, seed=3)
+    assert mc.candidates["prob_cheapest"].sum() == pytest.approx(1.0)
+    t = study.tornado({"energy_price": (0.1, 0.2), "discount_rate": (0.03, 0.07)})
+    assert len(t.table) == 2 and (t.table["swing"] > 0).all()
+
+
+@pytest.mark.parametrize(
+    ("changes", "match"),
+    [
+        ({"pumping": {"efficiency": 0.7, "bep_efficiency": 0.8}},
+         r"pumping\.bep_efficiency: give one of efficiency \(wire-to-water\)"),
+        ({"pumping": {"efficiency": 0.7, "motor_efficiency": 0.95}},
+         r"pumping\.motor_efficiency: not with efficiency"),
+        ({"pumping": {"pump_efficiency": 0.8, "control": "variable-speed"}},
+         r"pumping\.control: needs a pump curve \(bep_efficiency\)"),
+        ({"pumping": {"motor_efficiency": 0.95}},
+         r"pumping\.efficiency: required key is missing"),
+        ({"boosters": {"max_count": 1, "sites": ["12 km"]}},
+         r"boosters: give a booster's cost"),
+        ({"boosters": {"max_count": 1, "sites": ["12 km", "12 km"], "fixed_cost": 1.0}},
+         r"boosters\.sites: each site may appear once"),
+        ({"fittings": {"gate-valv": 2}}, r"fittings\.gate-valv: unknown fitting; did you mean"),
+        ({"equipment": [{"pressure_drop": "35 kPa"}]},
+         r"equipment\[0\]\.at_flow: required key is missing"),
+        ({"line": {"static_head": "246 m", "cover": "1.2 m", "length": "30 km"}},
+         r"line\.length \(30 km\) differs from the profile's"),
+        ({"boosters": {"max_count": 1, "fixed_cost": 1.0, "colour": "red"}},
+         r"boosters\.colour: unknown key"),
+    ],
+)
+def test_long_line_study_errors(changes, match):
+    d = copy.deepcopy(DEMO)
+    d.update(changes)
+    with pytest.raises(StudyFileError, match=match):
+        SizingStudy.from_dict(d)
+
+
+def test_no_profile_sections_only_is_a_level_line():
+    d = copy.deepcopy(DEMO)
+    for key in ("profile", "boosters"):
+        d.pop(key)
+    d["line"] = {"length": "39.6 km", "static_head": "246 m", "minor_loss_k": 4.0}
+    res = SizingStudy.from_dict(d).run()
+    assert set(res.candidates["boosters"]) == {0}
+    assert (res.profile["ground_m"] == 0).all() and (res.profile["pipe_m"] == 0).all()
+    # a level line: the highest pressure is at the pump's discharge
+    prof = res.profile[res.profile["station"] != "head station suction"]
+    assert prof["pressure_max_bar"].idxmax() == prof.index[0]
+    with pytest.raises(InputError, match="uniform line"):
+        SizingStudy.demo().run().profile  # noqa: B018
+
+
+@pytest.mark.slow
+def test_command_line_runs_the_long_line_demo(tmp_path):
+    study = tmp_path / "longline.toml"
+    study.write_text(resources.files("pipeopt").joinpath("data", "demo_longline.toml")
+                     .read_text("utf-8"))
+    run = subprocess.run([sys.executable, "-m", "pipeopt.cli", "run", str(study), "--out",
+                          str(tmp_path / "out")], capture_output=True, text=True, timeout=600,
+                         env={**os.environ, "MPLBACKEND": "Agg"})
+    assert run.returncode == 0, run.stderr[-2000:]
+    assert "booster" in run.stdout and (tmp_path / "out" / "report.html").exists()
+
+
+def test_samples_in_batches_give_the_same_figures(demo, monkeypatch):
+    # hydraulic samples are evaluated a batch at a time; the batch size changes nothing
+    import pipeopt.stations as stations
+
+    study, _ = demo
+    values = {"flow_factor": np.linspace(0.9, 1.1, 12), "energy_price": np.linspace(0.1, 0.2, 12)}
+    var = study.variations(values)
+    whole = study.evaluate(variations=var, yearly=False)
+    monkeypatch.setattr(stations, "_BATCH_NUMBERS", 1e4)
+    parts = study.evaluate(variations=var, yearly=False)
+    np.testing.assert_array_equal(whole.eac, parts.eac)
+    np.testing.assert_array_equal(study.check(whole)["feasible"], study.check(parts)["feasible"])

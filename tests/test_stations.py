@@ -1,0 +1,228 @@
+"""Tests of pipeopt.stations: booster stations placed by dynamic programming.
+
+Sources, named beside each check:
+- the economic number and positions of pumping stations on a level line, worked by hand in
+  this file and found by brute-force enumeration of every layout of up to four boosters among
+  eleven sites (the optimizer must match it exactly);
+- the control rule of the contributor guide (DEVELOPERS.md, "Long lines": each station holds
+  its discharge at the least head its own segment needs), whose laws are checked as
+  properties: another booster never raises the pressure anywhere, and telescoped classes never
+  cost more than the cheapest single class that holds everywhere.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+import tempfile
+from pathlib import Path
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from pipeopt import SizingStudy
+from pipeopt.economics import capital_recovery_factor
+from pipeopt.errors import InputError
+from pipeopt.stations import Boosters, evaluate_layouts, telescope
+
+G = 9.80665
+SIZES = """material,designation,nominal,pressure_class,outside_diameter_mm,wall_mm,\
+pressure_rating_bar
+steel,600 A,600,A,620,10,10
+steel,600 B,600,B,620,10,20
+"""
+_FOLDER = tempfile.TemporaryDirectory()   # the user's own sizes file of these studies
+(Path(_FOLDER.name) / "level_sizes.csv").write_text(SIZES)
+
+
+def level_study(max_count: int = 4, fixed: float = 300000.0, per_kw: float = 400.0,
+                flow: str = "0.5 m^3/s", **extra) -> SizingStudy:
+    """A level 60 km line, one bore with two classes (equal bores, ratings 10 and 20 bar),
+    eleven booster sites; constant friction factor, no station at the head is priced."""
+    d = {
+        "catalog": {"sizes": "level_sizes.csv"},
+        "study": {"name": "level line (invented)", "currency": "EUR", "illustrative": True},
+        "fluid": {"kind": "custom", "density": "1000 kg/m^3", "viscosity": "1 mPa*s"},
+        "hydraulics": {"friction_method": "constant", "friction_factor": 0.02},
+        "line": {"length": "60 km", "static_head": "20 m"},
+        "duty": [{"flow": flow, "hours": 6000}],
+        "pumping": {"efficiency": 0.75},
+        "energy": {"price": 0.1},
+        "economics": {"discount_rate": 0.05, "horizon": 30, "pipe_life": 30},
+        "material": [{"name": "steel", "classes": ["A", "B"],
+                      "cost": {"table": {"600 A": 300.0, "600 B": 380.0}}}],
+        "constraints": {"surge_allowance": "0 m", "pressure_min": "0 bar"},
+        "boosters": {"max_count": max_count, "sites": [f"{k} km" for k in range(5, 60, 5)],
+                     "fixed_cost": fixed, "cost_per_kw": per_kw, "life": 30},
+    }
+    d.update(extra)
+    return SizingStudy.from_dict(d, base_dir=_FOLDER.name)
+
+
+def hand_layouts(max_count: int, fixed: float, per_kw: float, q: float = 0.5):
+    """Every layout of up to ``max_count`` boosters among the eleven sites, priced by hand.
+
+    Level line at elevation 0, uniform friction gradient i = f / D × V² / (2 g) (constant f),
+    delivery head 20 m, least head 0 m everywhere: a station's discharge head is i × its
+    segment's length + the head wanted at the segment's end (0 at a booster, 20 m at the
+    delivery); every booster receives exactly 0 m. Each 5 km stretch takes class A (10 bar,
+    300 EUR/m) when its highest pressure is within 10 bar, else B (20 bar, 380 EUR/m), else
+    the layout fails. Boosters cost fixed + per kW of ρ g Q ΔH / η; energy is Σ ρ g Q ΔH / η
+    over 6000 h at 0.1 EUR/kWh, every year (no escalation), discounted at 5 % over 30 years.
+    """
+    rho, f, eta = 1000.0, 0.02, 0.75
+    bore = 0.620 - 2 * 0.010
+    v = q / (math.pi * bore**2 / 4)
+    i = f / bore * v * v / (2 * G)
+    annuity = (1 - 1.05**-30) / 0.05
+    crf = capital_recovery_factor(0.05, 30)
+    sites = [5000.0 * k for k in range(1, 12)]
+    out = {}
+    for n in range(max_count + 1):
+        for chosen in itertools.combinations(sites, n):
+            xs = [0.0, *chosen, 60000.0]
+            pipe, stations, energy, ok = 0.0, 0.0, 0.0, True
+            for j in range(len(xs) - 1):
+                a, b = xs[j], xs[j + 1]
+                head = i * (b - a) + (20.0 if b == 60000.0 else 0.0)
+                kw = rho * G * q * head / eta / 1000.0
+                energy += kw * 6000 * 0.1 * annuity
+                if j:
+                    stations += fixed + per_kw * kw
+                for s in np.arange(a, b, 5000.0):  # each stretch of the segment
+                    p_bar = rho * G * (head - i * (s - a)) / 1e5   # highest at its start
+                    if p_bar <= 10 + 1e-9:
+                        pipe += 5000 * 300.0
+                    elif p_bar <= 20 + 1e-9:
+                        pipe += 5000 * 380.0
+                    else:
+                        ok = False
+            if ok:
+                out[chosen] = (pipe + stations + energy) * crf
+    return out
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("fixed", "per_kw"), [(300000.0, 400.0), (50000.0, 100.0),
+                                               (2_000_000.0, 0.0)])
+def test_dynamic_programme_matches_brute_force_enumeration(fixed, per_kw):
+    # hand-worked model of this file, every one of the 562 layouts enumerated
+    hand = hand_layouts(4, fixed, per_kw)
+    best_layout = min(hand, key=hand.get)
+    res = level_study(4, fixed, per_kw).run()
+    b = res.best
+    got = tuple(float(x) * 1000.0 for x in b["booster_chainages_km"].split(", ") if x)
+    assert got == pytest.approx(best_layout)
+    assert b["eac"] == pytest.approx(hand[best_layout], rel=1e-9)
+    # and for every number of boosters, the best layout of that number
+    c = res.candidates
+    for n in range(5):
+        mine = {k: v for k, v in hand.items() if len(k) == n}
+        row = c[c["boosters"] == n]
+        if not mine:
+            assert not row["feasible"].any()
+            continue
+        assert row["eac"].min() == pytest.approx(min(mine.values()), rel=1e-9)
+
+
+@pytest.mark.reference
+def test_economic_number_of_stations_falls_as_stations_cost_more():
+    # hand model of this file: cheap stations -> more of them, dear stations -> the fewest that
+    # hold the pressure (the classic trade of pipe class against station capital)
+    counts = []
+    for fixed in (20000.0, 300000.0, 5_000_000.0):
+        hand = hand_layouts(4, fixed, 0.0)
+        n_hand = len(min(hand, key=hand.get))
+        res = level_study(4, fixed, 0.0).run()
+        assert int(res.best["boosters"]) == n_hand
+        counts.append(n_hand)
+    assert counts[0] > counts[-1]
+    # the fewest stations that hold: total head over the 20 bar of class B, by hand
+    bore = 0.6
+    v = 0.5 / (math.pi * bore**2 / 4)
+    total = 0.02 / bore * v * v / (2 * G) * 60000.0 + 20.0
+    assert counts[-1] == math.ceil(total / (20e5 / (1000 * G))) - 1
+
+
+def test_more_boosters_than_sites_is_refused():
+    boosters = {"max_count": 3, "sites": ["10 km", "20 km"], "fixed_cost": 1.0}
+    with pytest.raises(InputError, match=r"boosters\.max_count \(3\) exceeds the 2 "):
+        level_study(boosters=boosters)
+    with pytest.raises(InputError, match=r"boosters\.max_count: must be <= 10; got 12"):
+        level_study(12)
+    bad = {"max_count": 1, "sites": ["60 km"], "fixed_cost": 1.0}
+    with pytest.raises(InputError, match=r"boosters\.sites: 60 km is not within the line"):
+        level_study(boosters=bad)
+
+
+def test_booster_cost_rules():
+    with pytest.raises(InputError, match=r"boosters: give a booster's cost"):
+        Boosters(2)
+    with pytest.raises(InputError, match=r"boosters\.cost_exponent: give cost_coefficient"):
+        Boosters(1, cost_coefficient=5000.0)
+    b = Boosters(1, fixed_cost=1.0, cost_coefficient=2.0, cost_exponent=0.5,
+                 standby_fraction=1.0)
+    assert float(b.capital(8.0)) == pytest.approx(1.0 + 2.0 * 16.0**0.5)   # by hand
+
+
+# ------------------------------------------------------------------------------------------
+# laws of the control rule (DEVELOPERS.md, Long lines)
+# ------------------------------------------------------------------------------------------
+PROFILE_STUDY = None
+
+
+def ridge_study() -> SizingStudy:
+    global PROFILE_STUDY
+    if PROFILE_STUDY is None:
+        PROFILE_STUDY = SizingStudy.demo("longline")
+    return PROFILE_STUDY
+
+
+@settings(max_examples=25, deadline=None)
+@given(pipe=st.integers(0, 8), first=st.sampled_from([None, 0, 1]), extra=st.integers(0, 1))
+def test_another_booster_never_raises_any_pressure(pipe, first, extra):
+    # the suction minimum is the line's own minimum here (no NPSH rule at the boosters), so
+    # splitting a segment can only lower its discharge heads (law of the control rule)
+    study = ridge_study()
+    m = study.layout.model
+    saved = m.suction_least
+    m.suction_least = m.least.copy()
+    try:
+        sites = list(m.sites)
+        base = [0] + ([] if first is None else [sites[first]])
+        more = sorted(set(base) | {sites[extra]})
+        n = max(len(base), len(more))
+        lay = np.full((2, n), -1)
+        lay[0, : len(base)] = base
+        lay[1, : len(more)] = more
+        p = np.array([pipe, pipe])
+        classes = np.zeros((2, m.n_points - 1), dtype=int)
+        _, extra_ = evaluate_layouts(m, p, classes, lay)
+    finally:
+        m.suction_least = saved
+    assert np.all(extra_["stretch_pressure"][1] <= extra_["stretch_pressure"][0] + 1e-6)
+
+
+@settings(max_examples=20, deadline=None)
+@given(flow=st.floats(0.3, 0.7), count=st.integers(0, 4), seed=st.integers(0, 10**6))
+def test_telescoping_never_costs_more_than_one_class_throughout(flow, count, seed):
+    # equal bores: the classes do not change the hydraulics, so each stretch's cheapest
+    # holding class is never dearer than the one class that holds everywhere (law)
+    study = level_study(4, flow=f"{flow} m^3/s")
+    m = study.layout.model
+    rng = np.random.default_rng(seed)
+    chosen = np.sort(rng.choice(m.sites, size=count, replace=False))
+    lay = np.concatenate([[0], chosen])[None, :]
+    classes, excess, _ = telescope(m, np.array([0]), lay, np.zeros((1, m.n_points - 1), int))
+    lc, extra = evaluate_layouts(m, np.array([0]), classes, lay)
+    if np.any(excess > 0):
+        return  # no class holds somewhere: nothing to compare
+    cost = lc.capex_pipe[0]
+    for j in range(2):  # one class throughout, where it holds everywhere
+        one = np.full_like(classes, j)
+        lc1, e1 = evaluate_layouts(m, np.array([0]), one, lay)
+        pfa = m.pfa[0, :, j]
+        if np.all(e1["stretch_pressure"][0] <= pfa + 1e-6):
+            assert cost <= lc1.capex_pipe[0] + 1e-6
