@@ -78,7 +78,8 @@ def _commands() -> list[str]:
     found = re.findall(rf"`(pipeopt (?:{verbs})[^`]*)`", README)
     for block in re.findall(r"```bash\n(.*?)\n```", README, re.S):
         found += re.findall(rf"^(pipeopt (?:{verbs}).*)$", block, re.M)
-    return sorted({c.strip() for c in found if "[" not in c and "..." not in c})
+    # an inline command wrapped over two lines of the Markdown reads as one line
+    return sorted({" ".join(c.split()) for c in found if "[" not in c and "..." not in c})
 
 
 @pytest.mark.slow
