@@ -317,20 +317,28 @@ def _cmd_catalog(args: argparse.Namespace) -> int:
         flag = "--" + name.replace("_", "-")
         bounds[name] = None if text is None else Quantity(to_si(text, "diameter", flag), "m")
     sizes = catalog.list_sizes(args.material, bounds["min_diameter"], bounds["max_diameter"],
-                               args.pressure_class)
+                               args.classes)
     if sizes.empty:
         given = " and ".join(f"{'--' + k.replace('_', '-')} {getattr(args, k)!r}"
                              for k in bounds if getattr(args, k) is not None)
-        every = catalog.list_sizes(args.material, None, None, args.pressure_class)
+        every = catalog.list_sizes(args.material, None, None, args.classes)
         raise InputError(f"{given}: no size of {args.material} has its inner diameter in that "
                          f"range (the sizes run from {every['inner_diameter_m'].min() * 1e3:.1f} "
                          f"to {every['inner_diameter_m'].max() * 1e3:.1f} mm)")
+    # the columns of a size file (pipeopt.catalog.read_sizes), so a listing can be edited and
+    # read back as one
     view = pd.DataFrame({
-        "designation": sizes["designation"], "OD_mm": sizes["outside_diameter_m"] * 1e3,
+        "designation": sizes["designation"], "class": sizes["class"],
+        "outside_diameter_mm": sizes["outside_diameter_m"] * 1e3,
         "wall_mm": sizes["wall_m"] * 1e3, "lining_mm": sizes["lining_m"] * 1e3,
-        "ID_mm": sizes["inner_diameter_m"] * 1e3,
-        "rating_bar": sizes["pressure_rating_pa"] / 1e5})
-    _say(view.to_string(index=False, float_format=lambda x: f"{x:.1f}"))
+        "inner_diameter_mm": sizes["inner_diameter_m"] * 1e3,
+        "pressure_rating_bar": sizes["pressure_rating_pa"] / 1e5})
+    def mm(x: float) -> str:  # the standards give dimensions to 0.01 mm at most
+        return f"{x:.2f}".rstrip("0").rstrip(".")
+
+    formats = {c: mm for c in view.columns if c.endswith("_mm")}
+    formats["pressure_rating_bar"] = lambda x: f"{x:.1f}"
+    _say(view.to_string(index=False, formatters=formats, na_rep="-"))
     _say(f"\nsource: {sizes['provenance'].iloc[0]}")
     return 0
 
@@ -414,7 +422,9 @@ def build_parser() -> argparse.ArgumentParser:
     cat.add_argument("material", nargs="?", help="a material key, e.g. ductile-iron")
     cat.add_argument("--min-diameter", help='smallest inner diameter, e.g. "150 mm"')
     cat.add_argument("--max-diameter", help='largest inner diameter, e.g. "0.6 m"')
-    cat.add_argument("--class", dest="pressure_class", help='a pressure class, e.g. "C40"')
+    cat.add_argument("--class", dest="classes", action="append",
+                     help='a class (pressure class, SDR, PN or schedule), e.g. "C40"; may be '
+                          'given more than once')
     cat.set_defaults(func=_cmd_catalog)
     return parser
 

@@ -13,6 +13,7 @@ file is answered at once.
 
 from __future__ import annotations
 
+import datetime as _dt
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -55,13 +56,40 @@ __all__ = ["StudyInfo", "FluidSpec", "Line", "Pumping", "Economics", "Constraint
 # --------------------------------------------------------------------------------------------
 @dataclass(frozen=True)
 class StudyInfo(InputSection):
-    """Labels of a study: name, currency, whether its numbers are invented, a description."""
+    """Labels of a study for its outputs: the title block of every report.
+
+    Parameters
+    ----------
+    name : str
+        The study's title.
+    currency : str
+        A label for every money figure (``"EUR"``).
+    illustrative : bool
+        The numbers are invented; every output says so.
+    description : str
+        A sentence on the job.
+    author : str
+        Who prepared the study (``"A. Engineer"``).
+    revision : str
+        Its revision (``"B"``, ``"2"``, ``"draft"``).
+    date : str
+        Its date, as text (``"2026-03-01"``) or a TOML date (``date = 2026-03-01``), shown
+        as given. pipeopt never reads the clock: a report without a date says so.
+    """
 
     SECTION = "study"
     name: str = text(default="study")
     currency: str = text(default="")
     illustrative: bool = flag(default=False)
     description: str = text(default="")
+    author: str = text(default="")
+    revision: str = text(default="")
+    date: str = text(default="")
+
+    def __post_init__(self) -> None:
+        if isinstance(self.date, _dt.date):  # a TOML date (or a datetime.date from Python)
+            object.__setattr__(self, "date", self.date.isoformat())
+        super().__post_init__()
 
 
 @dataclass(frozen=True)
@@ -219,8 +247,9 @@ class Carbon(InputSection):
 
     Parameters
     ----------
-    grid_factor : float
-        Emission factor of the electricity [kg CO2e per kWh].
+    grid_factor : str or Quantity
+        Emission factor of the electricity, a mass of CO2e per energy, e.g. ``"0.25 kg/kWh"``
+        or ``"250 g/kWh"`` (stored in kg/kWh), at most 5 kg/kWh.
     price : float
         Carbon price [currency per tonne CO2e].
     embodied : bool
@@ -228,7 +257,7 @@ class Carbon(InputSection):
     """
 
     SECTION = "carbon"
-    grid_factor: float = number(0.0, 5.0, example="0.25")
+    grid_factor: float = quantity("emission_factor", low=0.0, high=5.0)
     price: float = number(0.0, 1e5, example="80")
     embodied: bool = flag(default=True)
 

@@ -152,7 +152,7 @@ def cost_breakdown(result, n: int = 5, ax=None):
     ax = _axes(ax)
     b = result.breakdown(n)
     labels = (b["material"] + "\n" + b["size"]).tolist()
-    parts = [("capex_pipe", "pipe"), ("capex_pump_station", "pump station"),
+    parts = [("capex_pipe", "pipe"), ("pv_pump_station", "pump station"),
              ("pv_energy", "energy"), ("pv_maintenance", "maintenance"),
              ("pv_replacement", "station renewal"), ("pv_carbon", "carbon")]
     bottom = np.zeros(len(b))
@@ -189,7 +189,7 @@ def velocity_head(result, ax=None):
     d_mm = c["inner_diameter_m"] * 1e3
     ax.plot(d_mm, c["velocity_m_s"], "o", color=PALETTE[0], markersize=3,
             label="velocity, largest duty, year 1")
-    ax.plot(d_mm, c["velocity_max_m_s"], ".", color=PALETTE[5], markersize=3,
+    ax.plot(d_mm, c["velocity_peak_m_s"], ".", color=PALETTE[5], markersize=3,
             label="velocity, largest flow of any year")
     con = result.study.constraints
     for value, name in ((con.velocity_min, "velocity_min"), (con.velocity_max, "velocity_max")):

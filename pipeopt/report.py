@@ -372,7 +372,7 @@ def _html(title, summary_text, inputs, assumptions, provenance, status, figures,
         c = tables["candidates"]
         top = (c[c["feasible"]].nsmallest(10, "eac")
                [["material", "size", "inner_diameter_m", "velocity_m_s", "head_loss_m",
-                 "pump_power_kw", "capex_pipe", "pv_energy", "eac"]]
+                 "electrical_power_kw", "capex_pipe", "pv_energy", "eac"]]
                .to_html(index=False, border=0, float_format=lambda x: f"{x:,.4g}"))
     style = ("body{font-family:sans-serif;max-width:70em;margin:2em auto;color:#222}"
              "table{border-collapse:collapse;font-size:0.85em}td,th{padding:2px 8px;"

@@ -95,6 +95,9 @@ class SizingStudy(StudyFileMixin):
         Sizes and materials (default: the bundled catalog).
     name, currency, description : str
         Labels for outputs.
+    author, revision, date : str
+        The title block of the report (``[study]`` keys); ``date`` as text or a
+        :class:`datetime.date`. Empty: not given (the report says so).
     friction_method : str
         ``"colebrook"`` (default), another :data:`pipeopt.friction.METHODS` entry, or
         ``"constant"`` with ``constant_friction_factor``.
@@ -117,7 +120,8 @@ class SizingStudy(StudyFileMixin):
                  catalog: Catalog | None = None, name: str = "sizing study",
                  currency: str = "", friction_method: str = "colebrook",
                  constant_friction_factor: float | None = None, illustrative: bool = False,
-                 description: str = "", uncertainty: dict | None = None) -> None:
+                 description: str = "", uncertainty: dict | None = None, author: str = "",
+                 revision: str = "", date: Any = "") -> None:
         if not isinstance(fluid, Fluid):
             raise InputError("fluid must be a pipeopt.Fluid")
         for value, cls, what in ((line, Line, "line"), (duty, DutyProfile, "duty"),
@@ -139,7 +143,8 @@ class SizingStudy(StudyFileMixin):
                       "friction_method": friction_method,
                       "constant_friction_factor": constant_friction_factor,
                       "illustrative": illustrative, "description": description,
-                      "uncertainty": uncertainty}
+                      "uncertainty": uncertainty, "author": author, "revision": revision,
+                      "date": date}
         self.fluid = fluid
         self.line = line
         self.duty = duty
@@ -152,7 +157,9 @@ class SizingStudy(StudyFileMixin):
         self.carbon = carbon
         self.hydraulics = Hydraulics(friction_method, constant_friction_factor)
         self.catalog = catalog or default_catalog()
-        self.info = StudyInfo(name, currency, illustrative, description)
+        self.info = StudyInfo(name=name, currency=currency, illustrative=illustrative,
+                              description=description, author=author, revision=revision,
+                              date=date)
         self.uncertainty = uncertainty
         for m in materials:
             self.catalog.material(m.name)
@@ -262,7 +269,8 @@ class SizingStudy(StudyFileMixin):
                     catalog=sec["catalog"], name=info.name, currency=info.currency,
                     friction_method=hyd.friction_method,
                     constant_friction_factor=hyd.friction_factor,
-                    illustrative=info.illustrative, description=info.description)
+                    illustrative=info.illustrative, description=info.description,
+                    author=info.author, revision=info.revision, date=info.date)
         if sec["uncertainty"] is not None:
             from .uncertainty import read_uncertainty_section
 
@@ -332,21 +340,22 @@ class SizingStudy(StudyFileMixin):
         checks = self.check(lc)
         crf = float(np.asarray(lc.crf).reshape(-1)[0])
         df = pd.DataFrame({
-            "material": c["material"], "size": c["size"], "pressure_class": c["pressure_class"],
+            "material": c["material"], "size": c["size"], "class": c["class"],
             "inner_diameter_m": c["inner_diameter_m"], "roughness_m": c["roughness_m"],
             "velocity_m_s": lc.velocity_design, "reynolds": lc.reynolds_design,
             "friction_factor": lc.friction_factor_design, "head_loss_m": lc.head_loss_design,
-            "pump_head_m": lc.pump_head_design, "pump_power_kw": lc.pump_power_peak_year1,
-            "energy_kwh_year1": lc.energy_year1, "velocity_max_m_s": lc.velocity_max,
+            "pump_head_m": lc.pump_head_design, "electrical_power_kw": lc.pump_power_peak_year1,
+            "energy_kwh_year1": lc.energy_year1, "velocity_peak_m_s": lc.velocity_max,
             "pump_head_max_m": lc.pump_head_max, "surge_head_m": checks["surge"],
             "operating_pressure_bar": checks["operating_pressure"] / 1e5,
             "mdp_bar": checks["mdp"] / 1e5, "pfa_bar": checks["pfa"] / 1e5,
             "pma_bar": checks["pma"] / 1e5,
-            "rated_pressure_bar": c["pressure_rating_pa"].to_numpy() / 1e5,
+            "pressure_rating_bar": c["pressure_rating_pa"].to_numpy() / 1e5,
             "temperature_factor": c["temperature_factor"],
             "mass_kg_per_m": c["mass_kg_per_m"], "cost_per_metre": c["cost_per_metre"],
             "installed_power_kw": lc.installed_power, "capex_pipe": lc.capex_pipe,
-            "capex_pump_station": lc.capex_pump_station, "pv_energy": lc.pv_energy,
+            "capex_pump_station": lc.capex_pump_station,
+            "pv_pump_station": lc.pv_pump_station, "pv_energy": lc.pv_energy,
             "pv_maintenance": lc.pv_maintenance, "pv_replacement": lc.pv_replacement,
             "pv_carbon": lc.pv_carbon, "pv_residual": lc.pv_residual, "pv_total": lc.pv_total,
             "eac": lc.eac,
@@ -372,9 +381,15 @@ class SizingStudy(StudyFileMixin):
         """The EAC-minimizing inner diameter of each material within the velocity limits
         (:func:`pipeopt.optimum.continuous_optimum`)."""
         table = self._table(self.evaluate()) if table is None else table
-        return continuous_optimum(self.scenario, self.candidates, table, self.constraints,
-                                  variations, bool(self.carbon and self.carbon.embodied),
-                                  float(self.line.suction_pressure))
+        # pipeopt.optimum still uses the names of before this release (pressure_class for the
+        # class, velocity_max_m_s for the peak velocity): the names go in and come out here
+        old = {"class": "pressure_class"}
+        out = continuous_optimum(self.scenario, self.candidates.rename(columns=old), table,
+                                 self.constraints, variations,
+                                 bool(self.carbon and self.carbon.embodied),
+                                 float(self.line.suction_pressure))
+        return out.rename(columns={"pressure_class": "class",
+                                   "velocity_max_m_s": "velocity_peak_m_s"})
 
     # ----- uncertainty ----------------------------------------------------------------------
     def tornado(self, ranges: dict[str, tuple[float, float]] | None = None):
@@ -506,8 +521,9 @@ class SizingResult(StudyResult):
 
     def breakdown(self, n: int = 5) -> pd.DataFrame:
         """Present-value cost breakdown of the ``n`` best feasible candidates."""
-        cols = ["material", "size", "capex_pipe", "capex_pump_station", "pv_energy",
-                "pv_maintenance", "pv_replacement", "pv_carbon", "pv_residual", "pv_total", "eac"]
+        cols = ["material", "size", "capex_pipe", "capex_pump_station", "pv_pump_station",
+                "pv_energy", "pv_maintenance", "pv_replacement", "pv_carbon", "pv_residual",
+                "pv_total", "eac"]
         feas = self.candidates[self.candidates["feasible"]]
         return feas.nsmallest(n, "eac")[cols]
 
@@ -523,12 +539,21 @@ class SizingResult(StudyResult):
         if f == 1:
             return f"service temperature {t:.0f} degC{given}: no derating of {row['material']}"
         return (f"service temperature {t:.0f} degC{given}: {row['material']} derated x {f:.3g} "
-                f"(PFA {row['pfa_bar']:.1f} of {row['rated_pressure_bar']:.1f} bar)")
+                f"(PFA {row['pfa_bar']:.1f} of {row['pressure_rating_bar']:.1f} bar)")
+
+    @staticmethod
+    def _pv_parts(row: pd.Series) -> str:
+        """The parts of a candidate's present value in words (those that are not zero)."""
+        parts = [("pipe", row["capex_pipe"]), ("pump station", row["pv_pump_station"]),
+                 ("energy", row["pv_energy"]), ("maintenance", row["pv_maintenance"]),
+                 ("station renewals", row["pv_replacement"]), ("carbon", row["pv_carbon"]),
+                 ("residual value", -row["pv_residual"])]
+        return ", ".join(f"{name} {value:,.0f}" for name, value in parts if value != 0)
 
     def tables(self) -> dict[str, pd.DataFrame]:
         top = self.candidates.sort_values(["feasible", "eac"], ascending=[False, True])
         cols = ["material", "size", "inner_diameter_m", "velocity_m_s", "head_loss_m",
-                "pump_power_kw", "capex_pipe", "pv_energy", "eac", "feasible", "reasons"]
+                "electrical_power_kw", "capex_pipe", "pv_energy", "eac", "feasible", "reasons"]
         return {f"Ten best candidates (money in {self.currency or 'currency'})":
                 top[cols].head(10)}
 
@@ -560,12 +585,11 @@ class SizingResult(StudyResult):
                 "",
                 f"Best: {b['material']} {b['size']} (inner diameter "
                 f"{b['inner_diameter_m'] * 1000:.1f} mm)",
-                f"  EAC {b['eac']:,.0f}{cur}/yr; present value {b['pv_total']:,.0f}{cur} "
-                f"(pipe {b['capex_pipe']:,.0f}, pump station {b['capex_pump_station']:,.0f}, "
-                f"energy {b['pv_energy']:,.0f})",
+                f"  EAC {b['eac']:,.0f}{cur}/yr; present value {b['pv_total']:,.0f}{cur} = "
+                + self._pv_parts(b),
                 f"  velocity {b['velocity_m_s']:.2f} m/s, head loss {b['head_loss_m']:.2f} m, "
-                f"pump head {b['pump_head_m']:.1f} m, peak power {b['pump_power_kw']:.1f} kW "
-                f"(largest duty, year 1)",
+                f"pump head {b['pump_head_m']:.1f} m, electrical power "
+                f"{b['electrical_power_kw']:.1f} kW (largest duty, year 1)",
                 f"  MDP {b['mdp_bar']:.1f} bar (suction {s.line.suction_pressure / 1e5:.1f} "
                 f"bar + highest pump head {b['pump_head_max_m']:.1f} m + surge "
                 f"{b['surge_head_m']:.1f} m) within PMA {b['pma_bar']:.1f} bar; operating "
@@ -586,7 +610,7 @@ class SizingResult(StudyResult):
                           "EAC, neighbouring sizes of the class):"]
             for _, o in self.optimum.iterrows():
                 flag = " (at the edge of the size range)" if o["at_bound"] else ""
-                lines.append(f"  {o['material']:<16} {o['pressure_class']:<8} "
+                lines.append(f"  {o['material']:<16} {o['class']:<8} "
                              f"{o['inner_diameter_m'] * 1000:8.1f} mm  EAC {o['eac']:>12,.0f}"
                              f"{cur}/yr  between {o['lower_size']} and {o['upper_size']}{flag}")
                 if o["limited_by"]:

@@ -77,7 +77,8 @@ class Kind:
 
 #: The kinds of dimensional input, the SI unit each is stored in, and an example for messages.
 #: ``aging_rate`` (roughness growth) is stored per *year*, not per second: study years are the
-#: time axis of every model below this layer.
+#: time axis of every model below this layer; ``emission_factor`` is stored in kg per kWh, the
+#: unit of the yearly energy it multiplies.
 KINDS: dict[str, Kind] = {
     k.name: k
     for k in [
@@ -97,6 +98,8 @@ KINDS: dict[str, Kind] = {
         Kind("stress", "Pa", "140 MPa", "a stress"),
         Kind("mass_per_length", "kg/m", "45 kg/m", "a mass per length"),
         Kind("time", "s", "2 h", "a time"),
+        Kind("emission_factor", "kg/kWh", "0.25 kg/kWh",
+             "an emission factor (mass of CO2e per energy)"),
     ]
 }
 
@@ -196,6 +199,22 @@ def _bare_number(value: Any) -> bool:
     return False
 
 
+#: Temperature units written as a letter alone (a coulomb, a farad to pint) or with a space.
+_TEMPERATURE_LETTERS = {"c": "degC", "deg c": "degC", "f": "degF", "deg f": "degF"}
+
+
+def _temperature_words(value: str, field: str) -> None:
+    """Answer ``"15 C"`` (pint: 15 coulomb) with how to write degrees Celsius."""
+    m = _NUMBER.match(value)
+    unit = "" if m is None else " ".join(m.group(2).split()).lower()
+    if unit in _TEMPERATURE_LETTERS:
+        right = _TEMPERATURE_LETTERS[unit]
+        scale = "Celsius" if right == "degC" else "Fahrenheit"
+        raise InputError(f"{field}: {value!r}: write {right} for degrees {scale}, e.g. "
+                         f"'{m.group(1)} {right}' ("
+                         f"{'C is the coulomb' if right == 'degC' else 'F is the farad'})")
+
+
 def to_si(value: Any, kind: str, field: str,
           limit: float | None = MAX_MAGNITUDE) -> float | np.ndarray:
     """Convert a user's dimensional input to an SI float (or array).
@@ -237,6 +256,8 @@ def to_si(value: Any, kind: str, field: str,
     if isinstance(value, str) and (m := _NUMBER.match(value)) is not None and not m.group(2):
         raise InputError(f"{field}: expected {k.description} such as '{k.example}', got "
                          f"{value!r} with no unit")
+    if kind == "temperature" and isinstance(value, str):
+        _temperature_words(value, field)
     q = parse_quantity(value, field)
     try:
         out = q.to(k.si_unit).magnitude

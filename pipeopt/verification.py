@@ -235,7 +235,7 @@ def _closed_form(which: str) -> Callable[[], float]:
 
         # a textbook cost model on the bore, a D^m, priced for every size of the class: the
         # continuous optimum interpolates it log-log, which reproduces the power law exactly
-        sizes = list_sizes("pe100", pressure_class="SDR 17")
+        sizes = list_sizes("pe100", classes="SDR 17")
         table = {d: 1500.0 * b**1.4 for d, b in zip(sizes["designation"],
                                                       sizes["inner_diameter_m"], strict=True)}
         study = {**_CLOSED_FORM_STUDY, "material": [{"name": "pe100", "classes": ["SDR 17"],

@@ -188,7 +188,7 @@ class SizingExplorer(_Explorer):
         self.ax.clear()
         plots.cost_curves(result, materials=chosen, ax=self.ax)
         cols = ["material", "size", "inner_diameter_m", "velocity_m_s", "head_loss_m",
-                "pump_power_kw", "capex_pipe", "pv_energy", "eac"]
+                "electrical_power_kw", "capex_pipe", "pv_energy", "eac"]
         self.table.value = (f"<b>Best feasible candidates</b> (money in "
                             f"{html.escape(self.study.currency or 'currency')})"
                             + sel[cols].to_html(index=False, border=0,

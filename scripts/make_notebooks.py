@@ -74,7 +74,7 @@ print(f"bore {d * 1000:.1f} mm, Re {re:,.0f}, f {f:.6f}, head loss {h:.2f} m")
     md("## The candidates: three materials from the catalog"),
     code("""
 catalog.list_sizes("pe100", min_diameter="0.25 m", max_diameter="0.6 m",
-                   pressure_class="SDR 17")[["designation", "inner_diameter_m",
+                   classes="SDR 17")[["designation", "inner_diameter_m",
                                              "pressure_rating_pa"]]
 """),
     md("""
@@ -189,7 +189,7 @@ study = SizingStudy.from_dict({
     "pumping": {"efficiency": 0.74},
     "energy": {"price": 0.19, "escalation": 0.015},
     "economics": {"discount_rate": 0.035, "horizon": 30, "pipe_life": 50},
-    "carbon": {"grid_factor": 0.2, "price": 90.0},
+    "carbon": {"grid_factor": "0.2 kg/kWh", "price": 90.0},
     "material": [
         {"name": "steel", "min_diameter": "0.2 m", "max_diameter": "0.5 m",
          "classes": ["STD", "Sch 40"],
