@@ -175,10 +175,10 @@ class Economics(InputSection):
     """
 
     SECTION = "economics"
-    discount_rate: float = number(0.0, 1.0, example="0.05")
-    horizon: int = whole(1, 200, example="30")
-    pipe_life: float = number(1.0, 500.0, example="60")
-    pipe_maintenance: float = number(0.0, 1.0, default=0.0)
+    discount_rate: float = number(0.0, 1.0, example="0.05", unit="1/yr")
+    horizon: int = whole(1, 200, example="30", unit="yr")
+    pipe_life: float = number(1.0, 500.0, example="60", unit="yr")
+    pipe_maintenance: float = number(0.0, 1.0, default=0.0, unit="1/yr")
 
 
 @dataclass(frozen=True)
@@ -258,7 +258,7 @@ class Carbon(InputSection):
 
     SECTION = "carbon"
     grid_factor: float = quantity("emission_factor", low=0.0, high=5.0)
-    price: float = number(0.0, 1e5, example="80")
+    price: float = number(0.0, 1e5, example="80", unit="{currency}/t CO2e")
     embodied: bool = flag(default=True)
 
 
@@ -458,12 +458,12 @@ class ExistingLine(InputSection):
     hazen_williams_c: float | None = number(20.0, 160.0, default=None)
     field_test: FieldTest | None = section(FieldTest, default=None)
     aging: float | None = quantity("aging_rate", low=0.0, default=None)
-    age: float | None = number(0.0, 300.0, default=None)
-    breaks_per_year: float = number(0.0, 1e5, default=0.0)
-    break_growth: float = number(-0.5, 0.5, default=0.0)
-    break_cost: float = number(0.0, 1e9, default=0.0)
-    leakage_cost: float = number(0.0, 1e10, default=0.0)
-    leakage_growth: float = number(-0.5, 0.5, default=0.0)
+    age: float | None = number(0.0, 300.0, default=None, unit="yr")
+    breaks_per_year: float = number(0.0, 1e5, default=0.0, unit="1/yr")
+    break_growth: float = number(-0.5, 0.5, default=0.0, unit="1/yr")
+    break_cost: float = number(0.0, 1e9, default=0.0, unit="{currency}")
+    leakage_cost: float = number(0.0, 1e10, default=0.0, unit="{currency}/yr")
+    leakage_growth: float = number(-0.5, 0.5, default=0.0, unit="1/yr")
 
     def _check(self, path: str) -> None:
         if self.inner_diameter is None and self.size is None:
@@ -527,10 +527,10 @@ class UpgradeOption(InputSection):
     SECTION = "option"
     kind: str = text(OPTION_KINDS)
     name: str | None = text(default=None)
-    year: int = whole(0, 199, default=0)
-    cost_per_metre: float | None = number(0.0, 1e9, default=None)
+    year: int = whole(0, 199, default=0, unit="yr")
+    cost_per_metre: float | None = number(0.0, 1e9, default=None, unit="{currency}/m")
     cost: PowerLawPipeCost | None = section(PowerLawPipeCost, default=None)
-    cleaning_cost_per_metre: float = number(0.0, 1e9, default=0.0)
+    cleaning_cost_per_metre: float = number(0.0, 1e9, default=0.0, unit="{currency}/m")
     liner_thickness: float | None = quantity("length", low=0.0, low_open=True, default=None)
     liner_roughness: float | None = quantity("roughness", low=0.0, default=None)
     cleaned_bore: float | None = quantity("diameter", low=0.0, low_open=True, default=None)
@@ -539,8 +539,8 @@ class UpgradeOption(InputSection):
     inner_diameter: float | None = quantity("diameter", low=0.0, low_open=True, default=None)
     roughness: float | None = quantity("roughness", low=0.0, default=None)
     aging: float | None = quantity("aging_rate", low=0.0, default=None)
-    life: float | None = number(0.0, 1e12, low_open=True, default=None)
-    maintenance: float = number(0.0, 1.0, default=0.0)
+    life: float | None = number(0.0, 1e12, low_open=True, default=None, unit="yr")
+    maintenance: float = number(0.0, 1.0, default=0.0, unit="1/yr")
     break_factor: float | None = number(0.0, 1.0, default=None)
     leakage_factor: float | None = number(0.0, 1.0, default=None)
     minor_loss_k: float | None = number(0.0, 1e4, default=None)

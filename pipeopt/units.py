@@ -34,8 +34,8 @@ import pint
 
 from .errors import InputError
 
-__all__ = ["ureg", "Quantity", "KINDS", "MAX_TEXT", "MAX_MAGNITUDE", "to_si", "parse_quantity",
-           "format_si"]
+__all__ = ["ureg", "Quantity", "KINDS", "DISPLAY_UNITS", "MAX_TEXT", "MAX_MAGNITUDE", "to_si",
+           "parse_quantity", "format_si", "display"]
 
 #: Longest text accepted for a quantity such as ``"450 m^3/h"`` [characters].
 MAX_TEXT = 100
@@ -284,3 +284,35 @@ def format_si(value: float, kind: str, unit: str, digits: int = 4) -> str:
     """
     q = Quantity(value, KINDS[kind].si_unit).to(unit)
     return f"{q.magnitude:.{digits}g} {q.units:~P}"
+
+
+#: The unit reports show each kind in: (pint unit, label). Lengths are shown in km from 1 km
+#: up and in mm below 0.1 m (a liner, a wall), in m between.
+DISPLAY_UNITS: dict[str, tuple[str, str]] = {
+    "length": ("m", "m"), "diameter": ("mm", "mm"), "roughness": ("mm", "mm"),
+    "head": ("m", "m"), "flow": ("m**3/h", "m³/h"), "velocity": ("m/s", "m/s"),
+    "temperature": ("degC", "°C"), "pressure": ("bar", "bar"),
+    "density": ("kg/m**3", "kg/m³"), "viscosity": ("mPa*s", "mPa·s"), "power": ("kW", "kW"),
+    "aging_rate": ("mm/year", "mm/yr"), "modulus": ("GPa", "GPa"), "stress": ("MPa", "MPa"),
+    "mass_per_length": ("kg/m", "kg/m"), "time": ("h", "h"),
+    "emission_factor": ("kg/kWh", "kg/kWh"),
+}
+
+
+def display(value: float, kind: str) -> tuple[float, str]:
+    """An SI value of ``kind`` in the unit reports show it in (:data:`DISPLAY_UNITS`).
+
+    >>> display(0.125, "flow")
+    (450.0, 'm³/h')
+    >>> display(4600.0, "length")
+    (4.6, 'km')
+    >>> display(288.15, "temperature")
+    (15.0, '°C')
+    """
+    unit, label = DISPLAY_UNITS[kind]
+    if kind == "length":
+        size = abs(float(value))
+        unit, label = (("km", "km") if size >= 1000.0 else ("mm", "mm") if 0 < size < 0.1
+                       else ("m", "m"))
+    q = Quantity(float(value), KINDS[kind].si_unit).to(unit)
+    return float(round(q.magnitude, 12)), label

@@ -228,6 +228,7 @@ class UpgradeStudy(StudyFileMixin):
         ex = self.existing
         s = self.scenario
         q_design = max(self.duty.flows)
+        h = None
         v = q_design / (np.pi * self.bore**2 / 4.0)
         if ex.roughness is not None:
             eps = float(ex.roughness)
@@ -251,7 +252,8 @@ class UpgradeStudy(StudyFileMixin):
                                      s.viscosity, transition="ignore")
         c = fr.hazen_williams_c_from_head_loss(q_design, self.bore, s.length, h_design)
         return {"roughness_m": float(eps), "hazen_williams_c": float(c), "source": source,
-                "bore_m": self.bore, "bore_as_laid_m": self.bore_as_laid}
+                "bore_m": self.bore, "bore_as_laid_m": self.bore_as_laid,
+                "field_test_friction_loss_m": h}
 
     def _resolve(self, o: UpgradeOption) -> _Option:
         life = o.life if o.life is not None else self.economics.pipe_life
@@ -464,7 +466,7 @@ class UpgradeStudy(StudyFileMixin):
 
 def _long_frame(name: str, fl: Any) -> pd.DataFrame:
     frame = fl.frame(0, 0, option=name)
-    return frame[["option", "year", *ROWS, "total", "discounted"]]
+    return frame[["option", "year", *ROWS, "total", "discount_factor", "discounted"]]
 
 
 def _payback(savings: np.ndarray) -> float | None:
@@ -565,7 +567,8 @@ class UpgradeResult(StudyResult):
         The study.
     cash_flows : pandas.DataFrame
         Long table: option, year (0 … N), capital, cleaning, station, energy_cost, breaks,
-        leakage, maintenance, residual (a credit, negative), total, discounted.
+        leakage, maintenance, residual (a credit, negative), total, discount_factor,
+        discounted (total × discount factor; it adds up to the option's ``pv_cost``).
     summary : pandas.DataFrame
         Per option: PV of costs, NPV against keeping the line (positive = the option saves),
         IRR of the incremental cash flows (None with a note when there is no unique rate),

@@ -122,7 +122,8 @@ def test_higher_energy_price_never_gives_smaller_optimum(p1, p2):
 # the result
 # ------------------------------------------------------------------------------------------
 REQUIRED = ["material", "size", "inner_diameter_m", "roughness_m", "velocity_m_s", "reynolds",
-            "friction_factor", "head_loss_m", "electrical_power_kw", "energy_kwh_year1", "capex_pipe",
+            "friction_factor", "head_loss_m", "electrical_power_kw", "energy_kwh_year1",
+            "capex_pipe",
             "capex_pump_station", "pv_energy", "pv_maintenance", "pv_total", "eac", "feasible",
             "reasons"]
 

@@ -611,7 +611,8 @@ class Catalog:
         min_diameter, max_diameter : str or pint.Quantity, optional
             Inner-diameter range, e.g. ``"0.15 m"`` (inclusive).
         classes : str or list of str, optional
-            Keep only these classes (the ``class`` column: pressure class, SDR, PN or schedule) (``"C40"``, ``"SDR 17"``, ``"Sch 40"``, ``"PN 10"``).
+            Keep only these classes (the ``class`` column: pressure class, SDR, PN or
+            schedule), e.g. ``"C40"``, ``"SDR 17"``, ``"Sch 40"``, ``"PN 10"``.
         designations : list of str, optional
             Keep only these designations (parsed forgivingly; an unknown one is an error).
 
