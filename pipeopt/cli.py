@@ -138,7 +138,14 @@ def _say(text: object = "") -> None:
 
 
 def _prepare_out(args: argparse.Namespace) -> Path | None:
-    """Check --out before any computation: a writable folder with room, empty unless --force."""
+    """Check --out before any computation: a writable folder with room, empty unless --force;
+    with --pdf, that a PDF can be made."""
+    if getattr(args, "pdf", False):
+        if not args.out:
+            raise InputError("--pdf: the PDF is written into the result set; give --out FOLDER")
+        from .report import check_pdf
+
+        check_pdf(args.paper)
     if not args.out:
         return None
     from .outputs import check_out
@@ -188,7 +195,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
     if out is not None:
         from .report import report_files
 
-        _write(out, report_files(result, extra), args, inputs)
+        _write(out, report_files(result, extra, pdf=args.pdf, paper=args.paper), args, inputs)
     return 0 if result.success else 1
 
 
@@ -216,7 +223,7 @@ def _cmd_upgrade(args: argparse.Namespace) -> int:
     if out is not None:
         from .report import report_files
 
-        _write(out, report_files(result, extra), args, inputs)
+        _write(out, report_files(result, extra, pdf=args.pdf, paper=args.paper), args, inputs)
     return 0
 
 
@@ -258,9 +265,10 @@ def _cmd_demo(args: argparse.Namespace) -> int:
     if out is not None:
         from .report import report_files
 
-        files = {f"sizing/{k}": v for k, v in report_files(result).items()}
-        files.update({f"upgrade/{k}": v
-                      for k, v in report_files(upgrade, verification=False).items()})
+        pdf = {"pdf": args.pdf, "paper": args.paper}
+        files = {f"sizing/{k}": v for k, v in report_files(result, **pdf).items()}
+        files.update({f"upgrade/{k}": v for k, v in
+                      report_files(upgrade, verification=False, **pdf).items()})
         _write(out, files, args)
     return 0
 
@@ -343,12 +351,17 @@ def _cmd_catalog(args: argparse.Namespace) -> int:
     return 0
 
 
-def _add_out(sub: argparse.ArgumentParser) -> None:
+def _add_out(sub: argparse.ArgumentParser, pdf: bool = True) -> None:
     sub.add_argument("--out", help="folder for the report (HTML, Markdown, workbook, figures, "
                                    "CSV tables)")
     sub.add_argument("--force", action="store_true",
                      help="replace the result set in a non-empty --out folder (files pipeopt "
                           "did not write stay)")
+    if pdf:
+        sub.add_argument("--pdf", action="store_true",
+                         help="also write report.pdf into --out (printed by WeasyPrint)")
+        sub.add_argument("--paper", choices=("A4", "Letter"), default="A4",
+                         help="paper of report.pdf (default A4)")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -391,7 +404,7 @@ def build_parser() -> argparse.ArgumentParser:
                                               "standard input")
     net.add_argument("--demo", action="store_true", help="run the bundled demonstration "
                                                         "network (invented)")
-    _add_out(net)
+    _add_out(net, pdf=False)
     net.add_argument("--quiet", action="store_true", help="no progress bar")
     net.set_defaults(func=_cmd_network)
 

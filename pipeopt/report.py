@@ -53,7 +53,8 @@ from .outputs import printable, write_atomic, write_result_set  # noqa: E402
 from .results import CAUTION  # noqa: E402
 from .units import display  # noqa: E402
 
-__all__ = ["write_report", "report_files", "report_html", "pdf_from_html", "write_atomic",
+__all__ = ["write_report", "report_files", "report_html", "pdf_from_html", "check_pdf",
+           "write_atomic",
            "SET_PATTERNS", "CAUTIONS", "ASSUMPTIONS_SIZING", "ASSUMPTIONS_UPGRADE", "PAPERS"]
 
 #: Every file a report set may hold (besides ``manifest.json``), for the check that no study
@@ -817,8 +818,8 @@ def report_files(result: Any, extra: dict[str, Any] | None = None,
         File name (``"report.html"``, ``"figures/cost_curves.png"``, ...) to content, ready
         for :func:`pipeopt.outputs.write_result_set`.
     """
-    if pdf and paper not in PAPERS:
-        raise InputError(f"paper: must be one of {', '.join(PAPERS)}; got {paper!r}")
+    if pdf:
+        check_pdf(paper)
     content = _content(result, dict(extra or {}), verification)
     files: dict[str, bytes | str] = {f"{name}.csv": _csv(t)
                                      for name, t in content["data"].items()}
@@ -1113,6 +1114,26 @@ def _data_only_fetcher() -> Any:
     return URLFetcher(allowed_protocols=("data",))
 
 
+def check_pdf(paper: str = "A4") -> Any:
+    """Whether a PDF can be made, before anything is computed: the paper is known and
+    WeasyPrint loads (with the Pango library it draws text with). Returns the module.
+
+    Raises
+    ------
+    InputError
+        Naming the paper sizes, or what to install.
+    """
+    if paper not in PAPERS:
+        raise InputError(f"--paper: must be one of {', '.join(PAPERS)}; got {paper!r}")
+    try:
+        import weasyprint
+    except (ImportError, OSError) as exc:  # OSError: the Pango library is missing
+        raise InputError(f"--pdf: the PDF export needs WeasyPrint and the Pango library "
+                         f"(pip install weasyprint; on Debian or Ubuntu apt-get install "
+                         f"libpango-1.0-0 libpangoft2-1.0-0): {exc}") from None
+    return weasyprint
+
+
 def pdf_from_html(page: str, paper: str = "A4") -> bytes:
     """The printed report as PDF bytes, by WeasyPrint (CSS Paged Media: the page's running
     heads and page numbers, tables split across pages with their headers repeated).
@@ -1130,14 +1151,7 @@ def pdf_from_html(page: str, paper: str = "A4") -> bytes:
         When WeasyPrint or the Pango library it draws text with cannot be loaded (the message
         says what to install).
     """
-    if paper not in PAPERS:
-        raise InputError(f"paper: must be one of {', '.join(PAPERS)}; got {paper!r}")
-    try:
-        import weasyprint
-    except (ImportError, OSError) as exc:  # OSError: the Pango library is missing
-        raise InputError(f"pdf: the PDF export needs WeasyPrint and the Pango library "
-                         f"(pip install weasyprint; on Debian or Ubuntu apt-get install "
-                         f"libpango-1.0-0 libpangoft2-1.0-0): {exc}") from None
+    weasyprint = check_pdf(paper)
     size = weasyprint.CSS(string=f"@page {{ size: {paper}; }}")
     document = weasyprint.HTML(string=page, url_fetcher=_data_only_fetcher())
     return document.write_pdf(stylesheets=[size])

@@ -510,7 +510,8 @@ class SizingResult(StudyResult):
             index = int(self.best.name)
         lc = self.lifecycle
         n = self.horizon
-        frame = lc.cash_flows.frame(0, index)
+        # the model names its money row "energy"; in tables it is energy_cost (kWh apart)
+        frame = lc.cash_flows.frame(0, index).rename(columns={"energy": "energy_cost"})
         mult = np.concatenate([[np.nan], self.study.duty.multipliers(
             n, growth=self.inputs.get("growth"),
             flow_factor=self.inputs.get("flow_factor", 1.0)).reshape(-1)])
