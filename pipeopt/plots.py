@@ -560,6 +560,8 @@ def _fit_margins(canvas: FigureCanvasAgg, everything: bool, pad: float = 4.0) ->
             boxes += [text.get_window_extent(renderer)
                       for text in (*titles, ax.xaxis.label, ax.yaxis.label)
                       if text.get_visible() and text.get_text()]
+            if ax.get_legend() is not None:  # outside the axes: the margins make room once
+                boxes.append(ax.get_legend().get_window_extent(renderer))
     grow = [0.0, 0.0, 0.0, 0.0]  # left, right, bottom, top [px]
     for box in boxes:
         grow = [max(grow[0], pad - box.x0), max(grow[1], box.x1 - width + pad),

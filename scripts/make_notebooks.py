@@ -315,7 +315,7 @@ NETWORK = nb([
 # 4. Designing a ring main by least life-cycle cost
 
 **Scenario (invented, illustrative):** the fictional town of Quillmere is fed from its works by
-a pumped rising main into a ring of streets with one cross-connection, a spur to Lockside and
+a pumped rising main into a ring of streets with one cross-connection, a spur to Sorvantle Quay and
 one old cast-iron main that stays. Which size should each new pipe be, and how high must the
 pumps lift, so that every street keeps its pressure at the least cost over forty years? Every
 figure is invented to show the method (the bundled demo network).
@@ -375,7 +375,7 @@ plt.show()
     md("""
 ## What the loop costs: the same town as a tree
 
-Without the cross-connection and the ring pipe past Hillcrest the network is branched: the flows
+Without the cross-connection and the ring pipe past Glimmerhythe the network is branched: the flows
 follow from the demands and the least-cost design is found exactly by mixed-integer programming,
 with its optimality gap.
 """),

@@ -66,8 +66,9 @@ __all__ = ["Node", "Source", "Pipe", "DiameterOption", "NetworkSettings", "Netwo
            "NetworkResult", "CAUTION"]
 
 #: The caution every network summary carries.
-CAUTION = ("A study aid, not a design: the check covers steady pressures at the given demands "
-           "only, not surge, fire flows, pipe pressure ratings or supply when a pipe fails; "
+CAUTION = ("An engineering-economics study that supports, and does not replace, a design: the "
+           "check covers steady pressures at the given demands only, not surge, fire flows, "
+           "pipe pressure ratings or supply when a pipe fails; "
            "pressure, surge and structural questions need a qualified engineer, and local "
            "codes and licensed engineering practice govern.")
 
