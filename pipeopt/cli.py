@@ -38,6 +38,9 @@ STARTER_SIZING = """# pipeopt sizing study: edit every value for your line.
 [study]
 name = "my line"
 currency = "EUR"
+# author = "A. Engineer"    # the report's title block: author, revision, date
+# revision = "A"
+# date = 2026-01-15
 
 [fluid]
 kind = "water"              # "water", "coolprop" (with name = "INCOMP::MEG-30%"), or "custom"
@@ -88,6 +91,9 @@ STARTER_UPGRADE = """# pipeopt upgrade study: edit every value for your main.
 [study]
 name = "my main"
 currency = "EUR"
+# author = "A. Engineer"    # the report's title block: author, revision, date
+# revision = "A"
+# date = 2026-01-15
 
 [fluid]
 kind = "water"

@@ -245,9 +245,6 @@ def _whole(value: Any) -> str:
     return "-" if _blank(value) else f"{int(round(float(value))):d}"
 
 
-_NUMERIC = ("r",)  # alignment code of numeric columns
-
-
 # --------------------------------------------------------------------------------------------
 # the report's content: tables, figures, texts, rendered to HTML and Markdown alike
 # --------------------------------------------------------------------------------------------

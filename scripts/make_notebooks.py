@@ -74,8 +74,7 @@ print(f"bore {d * 1000:.1f} mm, Re {re:,.0f}, f {f:.6f}, head loss {h:.2f} m")
     md("## The candidates: three materials from the catalog"),
     code("""
 catalog.list_sizes("pe100", min_diameter="0.25 m", max_diameter="0.6 m",
-                   classes="SDR 17")[["designation", "inner_diameter_m",
-                                             "pressure_rating_pa"]]
+                   classes="SDR 17")[["designation", "inner_diameter_m", "pressure_rating_pa"]]
 """),
     md("""
 ## The study

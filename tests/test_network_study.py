@@ -235,7 +235,8 @@ def test_topology_errors_reach_the_user_with_names():
     d = gravity_dict()
     d["node"] += [{"name": "Quistlemoor Row", "elevation": "40 m", "demand": "1 L/s"},
                   {"name": "Quistlemoor Lane", "elevation": "40 m", "demand": "1 L/s"}]
-    d["pipe"].append({"name": "island", "from": "Quistlemoor Row", "to": "Quistlemoor Lane", "length": "90 m"})
+    d["pipe"].append({"name": "island", "from": "Quistlemoor Row", "to": "Quistlemoor Lane",
+                      "length": "90 m"})
     with pytest.raises(StudyFileError, match="Quistlemoor Row: has no path to any source"):
         NetworkStudy.from_dict(d)
 

@@ -80,7 +80,12 @@ def test_commands_shown_run(command, workdir):
         args[args.index("--out") + 1] = str(workdir / ("out-" + args[0]))
     if args[0] == "init":  # the file the README names exists already: write a new one
         args[1] = str(workdir / "new.toml")
+    stdin = None
+    if "<" in args:  # a shell redirection: the file on standard input
+        k = args.index("<")
+        stdin = (workdir / args[k + 1]).read_text(encoding="utf-8")
+        args = args[:k] + args[k + 2:]
     exe = shutil.which("pipeopt") or str(Path(sys.executable).parent / "pipeopt")
     run = subprocess.run([exe, *args], cwd=workdir, capture_output=True, text=True,
-                         timeout=600, env={**os.environ, "MPLBACKEND": "Agg"})
+                         timeout=600, env={**os.environ, "MPLBACKEND": "Agg"}, input=stdin)
     assert run.returncode == 0, f"{command}: {run.stderr[-2000:]}"
