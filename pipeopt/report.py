@@ -1191,6 +1191,8 @@ def _column_format(name: str, currency: str, sheet: str, columns: list[str]) -> 
         return f"{money}/yr", "#,##0"
     if _MONEY_COLUMNS.match(name):
         return (f"{money}/m" if name == "cost_per_metre" else money), "#,##0"
+    if name.startswith("roughness") or name.endswith("roughness_m"):
+        return "m", "0.000000"
     for suffix, unit, fmt in _UNIT_SUFFIXES:
         if name.endswith(suffix):
             return unit, fmt
@@ -1203,8 +1205,9 @@ def _column_format(name: str, currency: str, sheet: str, columns: list[str]) -> 
 
 
 def _workbook(tables: dict[str, pd.DataFrame], currency: str = "") -> bytes:
-    """The workbook: a names row and a units row (frozen), numbers as numbers with number
-    formats, text cells as text, column widths, fixed dates and zip entry times."""
+    """The workbook: a names row and a units row (frozen; no units row on a sheet of text
+    and its own unit column, such as the inputs), numbers as numbers with number formats, text
+    cells as text, column widths, fixed dates and zip entry times."""
     from openpyxl import Workbook
     from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
     from openpyxl.styles import Alignment, Font
@@ -1229,21 +1232,26 @@ def _workbook(tables: dict[str, pd.DataFrame], currency: str = "") -> bytes:
     for name, frame in tables.items():
         sheet = book.create_sheet(name[:31])
         columns = [str(c) for c in frame.columns]
-        formats = [_column_format(c, currency, name, columns) for c in columns]
+        text = set(_text_columns(frame))
+        formats = [("", "General") if c in text else _column_format(c, currency, name, columns)
+                   for c in columns]
+        units = any(u for u, _ in formats)    # a units row where the columns have units
+        first = 3 if units else 2
         sheet.append([clean(c) for c in columns])
-        sheet.append([u for u, _ in formats])
+        if units:
+            sheet.append([u for u, _ in formats])
         widths = [max(len(c), len(u)) for c, (u, _) in zip(columns, formats, strict=True)]
         for rec in frame.itertuples(index=False, name=None):
             sheet.append([clean(v) for v in rec])
         for j, (_, fmt) in enumerate(formats, start=1):
-            for (cell,) in sheet.iter_rows(min_row=3, min_col=j, max_col=j):
+            for (cell,) in sheet.iter_rows(min_row=first, min_col=j, max_col=j):
                 if isinstance(cell.value, str):
                     cell.data_type = "s"  # '=...' would be a formula, '#N/A' an error
                     widths[j - 1] = max(widths[j - 1], min(len(cell.value), 60))
                 elif isinstance(cell.value, (int, float)) and not isinstance(cell.value, bool):
                     cell.number_format = fmt
                     widths[j - 1] = max(widths[j - 1], 12)
-        for row in (1, 2):
+        for row in range(1, first):
             for cell in sheet[row]:
                 if isinstance(cell.value, str):
                     cell.data_type = "s"
@@ -1251,7 +1259,7 @@ def _workbook(tables: dict[str, pd.DataFrame], currency: str = "") -> bytes:
                 cell.alignment = Alignment(wrap_text=False)
         for j, w in enumerate(widths, start=1):
             sheet.column_dimensions[get_column_letter(j)].width = min(max(w + 2, 8), 62)
-        sheet.freeze_panes = "A3"
+        sheet.freeze_panes = f"A{first}"
     props = book.properties
     props.created = props.modified = _FIXED_DATE
     props.creator = f"pipeopt {_version}"

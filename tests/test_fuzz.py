@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import contextlib
 import copy
+import datetime
 import io
 import os
 import re
@@ -67,6 +68,8 @@ def _string(value: str) -> str:
 
 
 def _toml(value) -> str:
+    if isinstance(value, datetime.date):   # a TOML local date (TOML v1.0.0, "Local Date")
+        return value.isoformat()
     if isinstance(value, bool):
         return "true" if value else "false"
     if isinstance(value, (int, float)):

@@ -42,7 +42,7 @@ def test_sizing_report_contents(sizing_report):
     assert {"candidates", "optimum", "inputs", "verification"} <= set(book.sheetnames)
     header = [c.value for c in book["inputs"][1]]
     assert header == ["key", "value", "unit"]
-    rows = {r[0]: r[1:] for r in book["inputs"].iter_rows(min_row=3, values_only=True)}
+    rows = {r[0]: r[1:] for r in book["inputs"].iter_rows(min_row=2, values_only=True)}
     # inputs are numbers in the units people read, beside their unit (demo_sizing.toml)
     assert rows["line.length"] == (4.6, "km") and rows["duty[1].flow"] == (520, "m³/h")
     assert rows["fluid.temperature"] == (12, "°C")
@@ -66,7 +66,7 @@ def test_upgrade_report(tmp_path):
     assert {"summary", "cash_flows", "inputs", "derived", "tornado"} <= set(book.sheetnames)
     page = (tmp_path / "report.html").read_text(encoding="utf-8")
     assert "cumulative_cash_flow" in page and "figure-tornado" in page
-    rows = {r[0]: r[1:] for r in book["inputs"].iter_rows(min_row=3, values_only=True)}
+    rows = {r[0]: r[1:] for r in book["inputs"].iter_rows(min_row=2, values_only=True)}
     # the upgrade study's own inputs, as demo_upgrade.toml gives them
     assert rows["existing.static_head"] == (22, "m")
     assert rows["existing.field_test.upstream_pressure"] == (4.6, "bar")
@@ -77,10 +77,32 @@ def test_upgrade_report(tmp_path):
     assert rows["existing.leakage_cost"] == (12000, "EUR/yr")
     assert rows["option[1].cost_per_metre"] == (520, "EUR/m")
     assert rows["option[0].liner_thickness"] == (6, "mm")
-    derived = {r[0]: r[1:3] for r in book["derived"].iter_rows(min_row=3, values_only=True)}
+    derived = {r[0]: r[1:3] for r in book["derived"].iter_rows(min_row=2, values_only=True)}
     # back-calculated, so a derived value, not an input
     assert derived["existing roughness now"][1] == "mm"
     assert "existing.roughness" not in rows or rows["existing.roughness"][0] is None
+
+
+def test_workbook_numbers_formats_units_and_frozen_headers(sizing_report):
+    book = openpyxl.load_workbook(sizing_report / "workbook.xlsx")
+    sheet = book["candidates"]
+    names = [c.value for c in sheet[1]]
+    units = dict(zip(names, [c.value for c in sheet[2]], strict=True))
+    assert sheet.freeze_panes == "A3"                       # names and units stay in view
+    assert units["eac"] == "EUR/yr" and units["capex_pipe"] == "EUR"
+    assert units["inner_diameter_m"] == "m" and units["mdp_bar"] == "bar"
+    assert units["material"] is None                        # text has no unit
+    row = dict(zip(names, sheet[3], strict=True))
+    assert isinstance(row["eac"].value, float) and row["eac"].number_format == "#,##0"
+    assert isinstance(row["velocity_m_s"].value, float)
+    widths = [sheet.column_dimensions[c].width for c in ("A", "B", "D")]
+    assert all(w >= 8 for w in widths)
+    yearly = book["yearly_best"]
+    assert [c.value for c in yearly[1]][:2] == ["year", "flow_multiplier"]
+    assert "energy_cost" in [c.value for c in yearly[1]]
+    inputs = book["inputs"]
+    assert inputs.freeze_panes == "A2" and [c.value for c in inputs[1]] == ["key", "value",
+                                                                           "unit"]
 
 
 def test_out_folder_is_not_overwritten_without_force(tmp_path, capsys):
