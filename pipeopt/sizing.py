@@ -61,6 +61,11 @@ __all__ = ["Line", "Economics", "Constraints", "Carbon", "MaterialChoice", "Sizi
            "SizingResult", "CAUTION"]
 
 
+def _size_words(size: Any) -> str:
+    """A designation for a summary; "-" where there is none (no NaN, no None in words)."""
+    return size if isinstance(size, str) and size else "-"
+
+
 def _section(value: Any, cls: type, build: Any) -> Any:
     """``value`` if it is already a ``cls``, else ``build(value)``."""
     return value if isinstance(value, cls) else build(value)
@@ -613,7 +618,8 @@ class SizingResult(StudyResult):
                 flag = " (at the edge of the size range)" if o["at_bound"] else ""
                 lines.append(f"  {o['material']:<16} {o['class']:<8} "
                              f"{o['inner_diameter_m'] * 1000:8.1f} mm  EAC {o['eac']:>12,.0f}"
-                             f"{cur}/yr  between {o['lower_size']} and {o['upper_size']}{flag}")
+                             f"{cur}/yr  between {_size_words(o['lower_size'])} and "
+                             f"{_size_words(o['upper_size'])}{flag}")
                 if o["limited_by"]:
                     lines.append(f"    {o['limited_by']} binds: unconstrained "
                                  f"{o['unconstrained_inner_diameter_m'] * 1000:.1f} mm, EAC "

@@ -357,7 +357,8 @@ def test_class_column_and_its_old_header():
     assert "pressure_class" not in new.columns
 
 
-def test_catalog_listing_reads_back_as_a_size_file(capsys):
+@pytest.mark.reference
+def test_catalog_listing_has_the_columns_of_a_size_file(capsys):
     from pipeopt.cli import main
 
     assert main(["catalog", "steel", "--class", "STD", "--class", "Sch 40",

@@ -434,6 +434,7 @@ def test_html_report_printed_by_chromium(printed, deadline):
 # ------------------------------------------------------------------------------------------
 # the yearly cash flows of the report reconcile to the present value
 # ------------------------------------------------------------------------------------------
+@pytest.mark.reference
 def test_yearly_cash_flows_reconcile_to_the_present_value():
     import numpy as np
 
