@@ -33,7 +33,7 @@ REFERENCE_TEMPERATURE = 293.15
 #: The most candidates a study may hold (a user catalog with many sizes and classes).
 MAX_CANDIDATES = 20_000
 
-CANDIDATE_COLUMNS = ["material", "size", "nominal", "pressure_class", "outside_diameter_m",
+CANDIDATE_COLUMNS = ["material", "size", "nominal", "class", "outside_diameter_m",
                      "wall_m", "lining_m", "inner_diameter_m", "mass_kg_per_m", "roughness_m",
                      "aging_m_per_year", "pressure_rating_pa", "temperature_factor", "pfa_pa",
                      "pma_pa", "max_temperature_k", "wave_speed_m_s", "cost_per_metre",
@@ -66,7 +66,7 @@ class Candidates:
 def _sizes_of(choice: MaterialChoice, catalog: Catalog) -> pd.DataFrame:
     where = f"material {choice.name!r}"
     try:
-        sizes = catalog.sizes(choice.name, pressure_class=list(choice.classes)
+        sizes = catalog.sizes(choice.name, classes=list(choice.classes)
                               if choice.classes else None)
         if choice.sizes is not None:
             sizes = catalog.sizes(choice.name, designations=list(choice.sizes))
@@ -132,7 +132,7 @@ def build_candidates(materials: tuple[MaterialChoice, ...], catalog: Catalog,
         wall_mass = np.asarray(mass_per_metre(od, wall, 0.0, mat.density))
         frames.append(pd.DataFrame({
             "material": choice.name, "size": sizes["designation"], "nominal": sizes["nominal"],
-            "pressure_class": sizes["pressure_class"], "outside_diameter_m": od,
+            "class": sizes["class"], "outside_diameter_m": od,
             "wall_m": wall, "lining_m": lining, "inner_diameter_m": sizes["inner_diameter_m"],
             "mass_kg_per_m": mass, "roughness_m": roughness, "aging_m_per_year": aging,
             "pressure_rating_pa": rating, "temperature_factor": factor,

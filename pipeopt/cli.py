@@ -38,6 +38,9 @@ STARTER_SIZING = """# pipeopt sizing study: edit every value for your line.
 [study]
 name = "my line"
 currency = "EUR"
+# author = "A. Engineer"    # the report's title block: author, revision, date
+# revision = "A"
+# date = 2026-01-15
 
 [fluid]
 kind = "water"              # "water", "coolprop" (with name = "INCOMP::MEG-30%"), or "custom"
@@ -88,6 +91,9 @@ STARTER_UPGRADE = """# pipeopt upgrade study: edit every value for your main.
 [study]
 name = "my main"
 currency = "EUR"
+# author = "A. Engineer"    # the report's title block: author, revision, date
+# revision = "A"
+# date = 2026-01-15
 
 [fluid]
 kind = "water"
@@ -138,7 +144,14 @@ def _say(text: object = "") -> None:
 
 
 def _prepare_out(args: argparse.Namespace) -> Path | None:
-    """Check --out before any computation: a writable folder with room, empty unless --force."""
+    """Check --out before any computation: a writable folder with room, empty unless --force;
+    with --pdf, that a PDF can be made."""
+    if getattr(args, "pdf", False):
+        if not args.out:
+            raise InputError("--pdf: the PDF is written into the result set; give --out FOLDER")
+        from .report import check_pdf
+
+        check_pdf(args.paper)
     if not args.out:
         return None
     from .outputs import check_out
@@ -191,7 +204,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
     if out is not None:
         from .report import report_files
 
-        _write(out, report_files(result, extra), args, inputs)
+        _write(out, report_files(result, extra, pdf=args.pdf, paper=args.paper), args, inputs)
     return 0 if result.success else 1
 
 
@@ -222,7 +235,7 @@ def _cmd_upgrade(args: argparse.Namespace) -> int:
     if out is not None:
         from .report import report_files
 
-        _write(out, report_files(result, extra), args, inputs)
+        _write(out, report_files(result, extra, pdf=args.pdf, paper=args.paper), args, inputs)
     return 0
 
 
@@ -264,9 +277,10 @@ def _cmd_demo(args: argparse.Namespace) -> int:
     if out is not None:
         from .report import report_files
 
-        files = {f"sizing/{k}": v for k, v in report_files(result).items()}
-        files.update({f"upgrade/{k}": v
-                      for k, v in report_files(upgrade, verification=False).items()})
+        pdf = {"pdf": args.pdf, "paper": args.paper}
+        files = {f"sizing/{k}": v for k, v in report_files(result, **pdf).items()}
+        files.update({f"upgrade/{k}": v for k, v in
+                      report_files(upgrade, verification=False, **pdf).items()})
         _write(out, files, args)
     return 0
 
@@ -323,30 +337,43 @@ def _cmd_catalog(args: argparse.Namespace) -> int:
         flag = "--" + name.replace("_", "-")
         bounds[name] = None if text is None else Quantity(to_si(text, "diameter", flag), "m")
     sizes = catalog.list_sizes(args.material, bounds["min_diameter"], bounds["max_diameter"],
-                               args.pressure_class)
+                               args.classes)
     if sizes.empty:
         given = " and ".join(f"{'--' + k.replace('_', '-')} {getattr(args, k)!r}"
                              for k in bounds if getattr(args, k) is not None)
-        every = catalog.list_sizes(args.material, None, None, args.pressure_class)
+        every = catalog.list_sizes(args.material, None, None, args.classes)
         raise InputError(f"{given}: no size of {args.material} has its inner diameter in that "
                          f"range (the sizes run from {every['inner_diameter_m'].min() * 1e3:.1f} "
                          f"to {every['inner_diameter_m'].max() * 1e3:.1f} mm)")
+    # the columns of a size file (pipeopt.catalog.read_sizes), so a listing can be edited and
+    # read back as one
     view = pd.DataFrame({
-        "designation": sizes["designation"], "OD_mm": sizes["outside_diameter_m"] * 1e3,
+        "designation": sizes["designation"], "class": sizes["class"],
+        "outside_diameter_mm": sizes["outside_diameter_m"] * 1e3,
         "wall_mm": sizes["wall_m"] * 1e3, "lining_mm": sizes["lining_m"] * 1e3,
-        "ID_mm": sizes["inner_diameter_m"] * 1e3,
-        "rating_bar": sizes["pressure_rating_pa"] / 1e5})
-    _say(view.to_string(index=False, float_format=lambda x: f"{x:.1f}"))
+        "inner_diameter_mm": sizes["inner_diameter_m"] * 1e3,
+        "pressure_rating_bar": sizes["pressure_rating_pa"] / 1e5})
+    def mm(x: float) -> str:  # the standards give dimensions to 0.01 mm at most
+        return f"{x:.2f}".rstrip("0").rstrip(".")
+
+    formats = {c: mm for c in view.columns if c.endswith("_mm")}
+    formats["pressure_rating_bar"] = lambda x: f"{x:.1f}"
+    _say(view.to_string(index=False, formatters=formats, na_rep="-"))
     _say(f"\nsource: {sizes['provenance'].iloc[0]}")
     return 0
 
 
-def _add_out(sub: argparse.ArgumentParser) -> None:
+def _add_out(sub: argparse.ArgumentParser, pdf: bool = True) -> None:
     sub.add_argument("--out", help="folder for the report (HTML, Markdown, workbook, figures, "
                                    "CSV tables)")
     sub.add_argument("--force", action="store_true",
                      help="replace the result set in a non-empty --out folder (files pipeopt "
                           "did not write stay)")
+    if pdf:
+        sub.add_argument("--pdf", action="store_true",
+                         help="also write report.pdf into --out (printed by WeasyPrint)")
+        sub.add_argument("--paper", choices=("A4", "Letter"), default="A4",
+                         help="paper of report.pdf (default A4)")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -389,7 +416,7 @@ def build_parser() -> argparse.ArgumentParser:
                                               "standard input")
     net.add_argument("--demo", action="store_true", help="run the bundled demonstration "
                                                         "network (invented)")
-    _add_out(net)
+    _add_out(net, pdf=False)
     net.add_argument("--quiet", action="store_true", help="no progress bar")
     net.set_defaults(func=_cmd_network)
 
@@ -420,7 +447,9 @@ def build_parser() -> argparse.ArgumentParser:
     cat.add_argument("material", nargs="?", help="a material key, e.g. ductile-iron")
     cat.add_argument("--min-diameter", help='smallest inner diameter, e.g. "150 mm"')
     cat.add_argument("--max-diameter", help='largest inner diameter, e.g. "0.6 m"')
-    cat.add_argument("--class", dest="pressure_class", help='a pressure class, e.g. "C40"')
+    cat.add_argument("--class", dest="classes", action="append",
+                     help='a class (pressure class, SDR, PN or schedule), e.g. "C40"; may be '
+                          'given more than once')
     cat.set_defaults(func=_cmd_catalog)
     _add_programme(sub)
     return parser

@@ -78,7 +78,8 @@ class PowerLawPipeCost(PipeCostModel, InputSection):
     """
 
     SECTION = "cost"
-    coefficient: float = number(0.0, 1e9, low_open=True, example="1800.0")
+    coefficient: float = number(0.0, 1e9, low_open=True, example="1800.0",
+                                unit="{currency}/m (OD in m)")
     exponent: float = number(0.0, 4.0, low_open=True, example="1.25")
 
     def per_metre(self, diameter: Any) -> Any:
@@ -122,8 +123,10 @@ class MassLayingCost(PipeCostModel, InputSection):
     """
 
     SECTION = "cost"
-    price_per_kg: float = number(0.0, 1e5, low_open=True, example="2.4")
-    laying_coefficient: float = number(0.0, 1e9, default=0.0)
+    price_per_kg: float = number(0.0, 1e5, low_open=True, example="2.4",
+                                 unit="{currency}/kg")
+    laying_coefficient: float = number(0.0, 1e9, default=0.0,
+                                       unit="{currency}/m (OD in m)")
     laying_exponent: float = number(0.0, 4.0, default=1.0)
     laying_table: Any = field(default=None, metadata={})
 
@@ -255,12 +258,12 @@ class PumpStationCost(InputSection):
 
     SECTION = "pump_station"
     coefficient: float = number(0.0, 1e9, low_open=True, example="8000",
-                                key="cost_coefficient")
+                                key="cost_coefficient", unit="{currency}/kW^b")
     exponent: float = number(0.0, 2.0, low_open=True, example="0.7", key="cost_exponent")
     standby_fraction: float = number(0.0, 10.0, default=0.0)
-    life: int = whole(1, 200, default=20)
-    maintenance: float = number(0.0, 1.0, default=0.0)
-    stages: tuple = numbers(0.0, 200.0, default=(0,))
+    life: int = whole(1, 200, default=20, unit="yr")
+    maintenance: float = number(0.0, 1.0, default=0.0, unit="1/yr")
+    stages: tuple = numbers(0.0, 200.0, default=(0,), unit="yr")
 
     def _check(self, path: str) -> None:
         st = self.stages
@@ -297,9 +300,10 @@ class EnergyTariff(InputSection):
     """
 
     SECTION = "energy"
-    price: float = number(0.0, 100.0, low_open=True, example="0.12")
-    escalation: float = number(-0.5, 0.5, default=0.0)
-    demand_charge: float = number(0.0, 1e5, default=0.0)
+    price: float = number(0.0, 100.0, low_open=True, example="0.12",
+                          unit="{currency}/kWh")
+    escalation: float = number(-0.5, 0.5, default=0.0, unit="1/yr")
+    demand_charge: float = number(0.0, 1e5, default=0.0, unit="{currency}/(kW yr)")
 
     def price_by_year(self, years: int, price: Any = None, escalation: Any = None) -> Any:
         """Energy price of years 1…N [currency/kWh], shape (N,), or (S, N) for per-sample

@@ -110,10 +110,13 @@ class DutyProfile(InputSection):
 
     SECTION = "duty"
     flows: tuple = quantities("flow", low=0.0, low_open=True, element="flow")
-    hours: tuple = numbers(0.0, HOURS_PER_YEAR, low_open=True, element="hours")
-    growth: float = number(-0.5, 0.5, default=0.0, key="growth.flow_per_year")
+    hours: tuple = numbers(0.0, HOURS_PER_YEAR, low_open=True, element="hours",
+                           unit="h/yr")
+    growth: float = number(-0.5, 0.5, default=0.0, key="growth.flow_per_year",
+                           unit="1/yr")
     names: tuple = texts(default=(), element="name")
-    design_year: int | None = whole(1, 200, default=None, key="growth.design_year")
+    design_year: int | None = whole(1, 200, default=None, key="growth.design_year",
+                                    unit="yr")
     flow_cap: float | None = quantity("flow", low=0.0, low_open=True, default=None,
                                       key="growth.flow_cap")
     prices: tuple = numbers(0.0, 100.0, low_open=True, default=(), element="price")

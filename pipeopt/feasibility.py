@@ -127,7 +127,7 @@ def reasons(candidates: pd.DataFrame, lc: Any, checks: dict[str, np.ndarray],
     con = constraints
     surge, mdp, operating = checks["surge"], checks["mdp"], checks["operating_pressure"]
     pfa, pma = checks["pfa"], checks["pma"]
-    pclass = candidates["pressure_class"].to_numpy(dtype=str)
+    pclass = candidates["class"].to_numpy(dtype=str)
     material = candidates["material"].to_numpy(dtype=str)
     factor = candidates["temperature_factor"].to_numpy(dtype=float)
     t_max = candidates["max_temperature_k"].to_numpy(dtype=float)

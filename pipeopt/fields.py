@@ -131,6 +131,8 @@ class _Spec:
     cls: Any = None                # the InputSection class of a nested section
     key: str | None = None         # the study-file key when it differs from the field name
     element: str | None = None     # the key of each element, e.g. "flow" for duty[k].flow
+    unit: str = ""                 # unit of a plain number for reports ("1/yr", "h/yr",
+    #                                "{currency}/kWh"; "-" for a pure number)
 
     # ----- conversion and rules ------------------------------------------------------------
     def range_rule(self, v: float, key: str, original: Any) -> None:
@@ -245,15 +247,22 @@ def quantity(kind: str, *, low: float | None = None, high: float | None = None,
 
 
 def number(low: float | None = None, high: float | None = None, *, low_open: bool = False,
-           default: Any = MISSING, example: str = "", key: str | None = None) -> Any:
-    """A plain number (money, a fraction, hours per year, years), within [low, high]."""
-    return _field(_Spec("number", None, low, high, low_open, example, key=key), default)
+           default: Any = MISSING, example: str = "", key: str | None = None,
+           unit: str = "-") -> Any:
+    """A plain number (money, a fraction, hours per year, years), within [low, high].
+
+    ``unit`` says what the number counts, for reports (``"1/yr"``, ``"h/yr"``,
+    ``"{currency}/kWh"``; ``"-"`` for a pure number); it is not parsed.
+    """
+    return _field(_Spec("number", None, low, high, low_open, example, key=key, unit=unit),
+                  default)
 
 
 def whole(low: float | None = None, high: float | None = None, *, default: Any = MISSING,
-          example: str = "", key: str | None = None) -> Any:
-    """A whole number within [low, high]."""
-    return _field(_Spec("whole", None, low, high, False, example, key=key), default)
+          example: str = "", key: str | None = None, unit: str = "-") -> Any:
+    """A whole number within [low, high] (``unit`` as for :func:`number`)."""
+    return _field(_Spec("whole", None, low, high, False, example, key=key, unit=unit),
+                  default)
 
 
 def text(choices: tuple[str, ...] | None = None, *, default: Any = MISSING,
@@ -276,10 +285,11 @@ def quantities(kind: str, *, low: float | None = None, high: float | None = None
 
 
 def numbers(low: float | None = None, high: float | None = None, *, low_open: bool = False,
-            default: Any = MISSING, element: str | None = None, key: str | None = None) -> Any:
-    """A list of plain numbers, stored as a tuple."""
-    return _field(_Spec("numbers", None, low, high, low_open, element=element, key=key),
-                  default)
+            default: Any = MISSING, element: str | None = None, key: str | None = None,
+            unit: str = "-") -> Any:
+    """A list of plain numbers, stored as a tuple (``unit`` as for :func:`number`)."""
+    return _field(_Spec("numbers", None, low, high, low_open, element=element, key=key,
+                        unit=unit), default)
 
 
 def texts(choices: tuple[str, ...] | None = None, *, default: Any = MISSING,

@@ -13,6 +13,7 @@ file is answered at once.
 
 from __future__ import annotations
 
+import datetime as _dt
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -58,13 +59,40 @@ __all__ = ["StudyInfo", "FluidSpec", "Line", "Pumping", "Economics", "Constraint
 # --------------------------------------------------------------------------------------------
 @dataclass(frozen=True)
 class StudyInfo(InputSection):
-    """Labels of a study: name, currency, whether its numbers are invented, a description."""
+    """Labels of a study for its outputs: the title block of every report.
+
+    Parameters
+    ----------
+    name : str
+        The study's title.
+    currency : str
+        A label for every money figure (``"EUR"``).
+    illustrative : bool
+        The numbers are invented; every output says so.
+    description : str
+        A sentence on the job.
+    author : str
+        Who prepared the study (``"A. Engineer"``).
+    revision : str
+        Its revision (``"B"``, ``"2"``, ``"draft"``).
+    date : str
+        Its date, as text (``"2026-03-01"``) or a TOML date (``date = 2026-03-01``), shown
+        as given. pipeopt never reads the clock: a report without a date says so.
+    """
 
     SECTION = "study"
     name: str = text(default="study")
     currency: str = text(default="")
     illustrative: bool = flag(default=False)
     description: str = text(default="")
+    author: str = text(default="")
+    revision: str = text(default="")
+    date: str = text(default="")
+
+    def __post_init__(self) -> None:
+        if isinstance(self.date, _dt.date):  # a TOML date (or a datetime.date from Python)
+            object.__setattr__(self, "date", self.date.isoformat())
+        super().__post_init__()
 
 
 @dataclass(frozen=True)
@@ -244,10 +272,10 @@ class Economics(InputSection):
     """
 
     SECTION = "economics"
-    discount_rate: float = number(0.0, 1.0, example="0.05")
-    horizon: int = whole(1, 200, example="30")
-    pipe_life: float = number(1.0, 500.0, example="60")
-    pipe_maintenance: float = number(0.0, 1.0, default=0.0)
+    discount_rate: float = number(0.0, 1.0, example="0.05", unit="1/yr")
+    horizon: int = whole(1, 200, example="30", unit="yr")
+    pipe_life: float = number(1.0, 500.0, example="60", unit="yr")
+    pipe_maintenance: float = number(0.0, 1.0, default=0.0, unit="1/yr")
 
 
 @dataclass(frozen=True)
@@ -334,8 +362,9 @@ class Carbon(InputSection):
 
     Parameters
     ----------
-    grid_factor : float
-        Emission factor of the electricity [kg CO2e per kWh].
+    grid_factor : str or Quantity
+        Emission factor of the electricity, a mass of CO2e per energy, e.g. ``"0.25 kg/kWh"``
+        or ``"250 g/kWh"`` (stored in kg/kWh), at most 5 kg/kWh.
     price : float
         Carbon price [currency per tonne CO2e].
     embodied : bool
@@ -343,8 +372,8 @@ class Carbon(InputSection):
     """
 
     SECTION = "carbon"
-    grid_factor: float = number(0.0, 5.0, example="0.25")
-    price: float = number(0.0, 1e5, example="80")
+    grid_factor: float = quantity("emission_factor", low=0.0, high=5.0)
+    price: float = number(0.0, 1e5, example="80", unit="{currency}/t CO2e")
     embodied: bool = flag(default=True)
 
 
@@ -544,12 +573,12 @@ class ExistingLine(InputSection):
     hazen_williams_c: float | None = number(20.0, 160.0, default=None)
     field_test: FieldTest | None = section(FieldTest, default=None)
     aging: float | None = quantity("aging_rate", low=0.0, default=None)
-    age: float | None = number(0.0, 300.0, default=None)
-    breaks_per_year: float = number(0.0, 1e5, default=0.0)
-    break_growth: float = number(-0.5, 0.5, default=0.0)
-    break_cost: float = number(0.0, 1e9, default=0.0)
-    leakage_cost: float = number(0.0, 1e10, default=0.0)
-    leakage_growth: float = number(-0.5, 0.5, default=0.0)
+    age: float | None = number(0.0, 300.0, default=None, unit="yr")
+    breaks_per_year: float = number(0.0, 1e5, default=0.0, unit="1/yr")
+    break_growth: float = number(-0.5, 0.5, default=0.0, unit="1/yr")
+    break_cost: float = number(0.0, 1e9, default=0.0, unit="{currency}")
+    leakage_cost: float = number(0.0, 1e10, default=0.0, unit="{currency}/yr")
+    leakage_growth: float = number(-0.5, 0.5, default=0.0, unit="1/yr")
 
     def _check(self, path: str) -> None:
         if self.inner_diameter is None and self.size is None:
@@ -613,10 +642,10 @@ class UpgradeOption(InputSection):
     SECTION = "option"
     kind: str = text(OPTION_KINDS)
     name: str | None = text(default=None)
-    year: int = whole(0, 199, default=0)
-    cost_per_metre: float | None = number(0.0, 1e9, default=None)
+    year: int = whole(0, 199, default=0, unit="yr")
+    cost_per_metre: float | None = number(0.0, 1e9, default=None, unit="{currency}/m")
     cost: PowerLawPipeCost | None = section(PowerLawPipeCost, default=None)
-    cleaning_cost_per_metre: float = number(0.0, 1e9, default=0.0)
+    cleaning_cost_per_metre: float = number(0.0, 1e9, default=0.0, unit="{currency}/m")
     liner_thickness: float | None = quantity("length", low=0.0, low_open=True, default=None)
     liner_roughness: float | None = quantity("roughness", low=0.0, default=None)
     cleaned_bore: float | None = quantity("diameter", low=0.0, low_open=True, default=None)
@@ -625,8 +654,8 @@ class UpgradeOption(InputSection):
     inner_diameter: float | None = quantity("diameter", low=0.0, low_open=True, default=None)
     roughness: float | None = quantity("roughness", low=0.0, default=None)
     aging: float | None = quantity("aging_rate", low=0.0, default=None)
-    life: float | None = number(0.0, 1e12, low_open=True, default=None)
-    maintenance: float = number(0.0, 1.0, default=0.0)
+    life: float | None = number(0.0, 1e12, low_open=True, default=None, unit="yr")
+    maintenance: float = number(0.0, 1.0, default=0.0, unit="1/yr")
     break_factor: float | None = number(0.0, 1.0, default=None)
     leakage_factor: float | None = number(0.0, 1.0, default=None)
     minor_loss_k: float | None = number(0.0, 1e4, default=None)

@@ -324,7 +324,7 @@ class LongLine:
             out["usable"][i, :n] = g["_usable"].to_numpy(dtype=bool)
             out["eps"][i] = float(g["roughness_m"].iloc[0])
             out["alpha"][i] = float(g["aging_m_per_year"].iloc[0])
-            names[i, :n] = g["pressure_class"].to_numpy(dtype=object)
+            names[i, :n] = g["class"].to_numpy(dtype=object)
             sizes[i, :n] = g["size"].to_numpy(dtype=object)
             # padding classes: the first class's geometry (never chosen: not usable)
             for key in cols:
@@ -414,7 +414,7 @@ class LongLine:
                           for row in self.combos])[pipe].min(axis=1)
         table = pd.DataFrame({
             "material": lab["material"], "size": lab["size"], "nominal": lab["nominal"],
-            "pressure_class": lab["classes"], "outside_diameter_m": take("od")[:, 0],
+            "class": lab["classes"], "outside_diameter_m": take("od")[:, 0],
             "wall_m": take("wall")[:, 0], "lining_m": take("lining")[:, 0],
             "inner_diameter_m": take("bore").min(axis=1),
             "mass_kg_per_m": (take("mass") * lengths).sum(axis=1) / total,

@@ -34,8 +34,8 @@ from .variations import Variations
 
 __all__ = ["continuous_optimum", "OPTIMUM_COLUMNS"]
 
-OPTIMUM_COLUMNS = ["material", "pressure_class", "inner_diameter_m", "eac", "velocity_m_s",
-                   "velocity_max_m_s", "limited_by", "unconstrained_inner_diameter_m",
+OPTIMUM_COLUMNS = ["material", "class", "inner_diameter_m", "eac", "velocity_m_s",
+                   "velocity_peak_m_s", "limited_by", "unconstrained_inner_diameter_m",
                    "unconstrained_eac", "at_bound", "operating_pressure_bar", "mdp_bar",
                    "pfa_bar", "pma_bar", "pressure_ok", "lower_size", "lower_inner_diameter_m",
                    "lower_eac", "upper_size", "upper_inner_diameter_m", "upper_eac",
@@ -47,13 +47,13 @@ class _Classes:
 
     def __init__(self, candidates: pd.DataFrame, cost_factor: np.ndarray) -> None:
         col = {k: candidates[k].to_numpy() for k in (
-            "material", "pressure_class", "inner_diameter_m", "cost_per_metre",
+            "material", "class", "inner_diameter_m", "cost_per_metre",
             "embodied_co2_kg_per_m", "wave_speed_m_s", "pfa_pa", "pma_pa", "roughness_m",
             "aging_m_per_year", "pressure_rating_pa", "temperature_factor")}
         d_all = col["inner_diameter_m"].astype(float)
         cost_all = col["cost_per_metre"].astype(float) * cost_factor
         # classes in order of first appearance; rows of a class by bore, repeated bores once
-        keys = [(m, c) for m, c in zip(col["material"], col["pressure_class"], strict=True)]
+        keys = [(m, c) for m, c in zip(col["material"], col["class"], strict=True)]
         first = dict.fromkeys(keys)
         code = {k: j for j, k in enumerate(first)}
         g_of = np.fromiter((code[k] for k in keys), dtype=int, count=len(keys))
@@ -275,9 +275,9 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
         feas = (t_mat == mat) & t_feas
         i_best = np.flatnonzero(feas)[np.argmin(t_eac[feas])] if feas.any() else None
         rows.append({
-            "material": mat, "pressure_class": g["class"], "inner_diameter_m": d_star,
+            "material": mat, "class": g["class"], "inner_diameter_m": d_star,
             "eac": float(e_con[pick]), "velocity_m_s": q_design / (np.pi * d_star**2 / 4.0),
-            "velocity_max_m_s": float(lc.velocity_max[pick]), "limited_by": limited,
+            "velocity_peak_m_s": float(lc.velocity_max[pick]), "limited_by": limited,
             "unconstrained_inner_diameter_m": float(d_free[pick]),
             "unconstrained_eac": float(e_free[pick]),
             "at_bound": bool(np.isclose(d_star, g["d"][0], rtol=1e-6)

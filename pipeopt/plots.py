@@ -25,7 +25,7 @@ from PIL import Image
 
 from . import friction as fr
 
-__all__ = ["PALETTE", "FIXED_MARGINS", "figure_png", "cost_curves", "cost_breakdown",
+__all__ = ["PALETTE", "EAC_PARTS", "FIXED_MARGINS", "figure_png", "cost_curves", "cost_breakdown",
            "velocity_head", "friction_chart", "tornado_chart", "probability_cheapest",
            "eac_distributions", "cumulative_cash_flow", "network", "yearly_capital",
            "profile", "profile_section"]
@@ -34,6 +34,8 @@ __all__ = ["PALETTE", "FIXED_MARGINS", "figure_png", "cost_curves", "cost_breakd
 PALETTE = ["#0072B2", "#E69F00", "#009E73", "#D55E00", "#CC79A7", "#56B4E9", "#F0E442",
            "#000000"]
 _GREY = "#9a9a9a"
+#: gid of the titles this module sets (figure_png keeps them whole within the figure).
+TITLE_GID = "pipeopt-title"
 
 
 def _axes(ax: Any, figsize: tuple[float, float] = (7.5, 4.5)):
@@ -84,21 +86,49 @@ def _style(ax, title: str | None = None) -> None:
     ax.grid(True, which="major", color="#dddddd", linewidth=0.8)
     ax.spines[["top", "right"]].set_visible(False)
     if title:
-        ax.set_title(title, loc="left", fontsize=11, fontweight="bold")
+        ax.set_title(title, loc="left", fontsize=11, fontweight="bold").set_gid(TITLE_GID)
 
 
-def cost_curves(result, materials: list[str] | None = None, ax=None):
-    """Equivalent annual cost against inner diameter, per material.
+def _legend_outside(ax, below: bool = False, **kwargs: Any):
+    """The legend off the data: to the right of the axes (or below them, where a twin axis
+    holds the right side), never over the plotted points."""
+    kwargs.setdefault("fontsize", 7)
+    kwargs.setdefault("frameon", False)
+    if below:
+        return ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.17), borderaxespad=0.0,
+                         **kwargs)
+    return ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), borderaxespad=0.0,
+                     **kwargs)
 
-    For each material: the total EAC of every candidate (markers; hollow grey where infeasible),
-    its capital charge and its energy cost (thin lines), the continuous optimum (dashed
-    vertical line) and the best feasible size (filled diamond).
+
+def _money_ticks(axis) -> None:
+    """Money ticks as whole numbers with thousands separators (no 1e6 offset)."""
+    axis.set_major_formatter(ticker.FuncFormatter(lambda v, _pos: f"{v:,.0f}"))
+
+
+#: The parts of an EAC in the candidate table, in the order they are drawn, with their labels.
+EAC_PARTS = (("eac_capital", "capital charge"), ("eac_energy", "energy"),
+             ("eac_maintenance", "maintenance"), ("eac_renewal", "station renewals"),
+             ("eac_carbon", "carbon"), ("eac_residual", "residual value (credit)"))
+
+
+def cost_curves(result, materials: list[str] | None = None, parts: Any = "best", ax=None):
+    """Equivalent annual cost against inner diameter, per material, and the parts of one class.
+
+    For each material: the total EAC of every candidate (markers; hollow grey where infeasible)
+    and its continuous optimum (dashed vertical line); the best feasible size (filled diamond).
+    For one material and class (default: the best candidate's), the total EAC as a line and
+    its parts as thin lines: capital charge, energy, maintenance, station renewals, carbon and
+    the residual value (a credit, below zero), which add up to the total at every diameter.
+    Lines carry ``gid`` ``"total:<material>:<class>"`` and ``"part:<column>"``.
 
     Parameters
     ----------
     result : SizingResult
     materials : list of str, optional
         Materials to draw (default: all).
+    parts : "best", (material, class) or None
+        Whose EAC is drawn in parts (None: no parts).
     ax : matplotlib Axes, optional
 
     Returns
@@ -108,19 +138,31 @@ def cost_curves(result, materials: list[str] | None = None, ax=None):
     ax = _axes(ax)
     c = result.candidates
     mats = materials or list(dict.fromkeys(c["material"]))
+    if isinstance(parts, str) and parts == "best":
+        b = result.best
+        parts = None if b is None or b["material"] not in mats else (b["material"], b["class"])
+    lowest = 0.0
+    if parts is not None:
+        rows = c[(c["material"] == parts[0]) & (c["class"] == parts[1])] \
+            .sort_values("inner_diameter_m")
+        d_mm = rows["inner_diameter_m"] * 1e3
+        ax.plot(d_mm, rows["eac"], color="#000000", linewidth=1.3, alpha=0.8,
+                label=f"{parts[0]} {parts[1]}: total EAC", gid=f"total:{parts[0]}:{parts[1]}")
+        styles = ("-", "--", "-.", ":", (0, (5, 1, 1, 1)), (0, (1, 1)))
+        for j, (col, name) in enumerate(EAC_PARTS):
+            if not np.any(rows[col].to_numpy() != 0):
+                continue
+            ax.plot(d_mm, rows[col], color=PALETTE[(j + len(mats)) % len(PALETTE)],
+                    linewidth=0.9,
+                    linestyle=styles[j], label=f"  {name}", gid=f"part:{col}")
+            lowest = min(lowest, float(rows[col].min()))
     for j, mat in enumerate(mats):
         colour = PALETTE[j % len(PALETTE)]
-        rows = c[c["material"] == mat].sort_values("inner_diameter_m")
+        rows = c[c["material"] == mat]
         d_mm = rows["inner_diameter_m"] * 1e3
-        capital = rows["eac_capital"]
-        energy = rows["eac_energy"]
-        ax.plot(d_mm, capital, color=colour, linewidth=0.9, linestyle=":",
-                label=f"{mat}: capital charge")
-        ax.plot(d_mm, energy, color=colour, linewidth=0.9, linestyle="--",
-                label=f"{mat}: energy")
-        feas = rows["feasible"]
-        ax.plot(d_mm[feas], rows.loc[feas, "eac"], "o-", color=colour, markersize=4,
-                linewidth=1.6, label=f"{mat}: total EAC")
+        feas = rows["feasible"].to_numpy()
+        ax.plot(d_mm[feas], rows.loc[feas, "eac"], "o", color=colour, markersize=4,
+                label=f"{mat}: EAC of each size")
         ax.plot(d_mm[~feas], rows.loc[~feas, "eac"], "o", markerfacecolor="none",
                 markeredgecolor=_GREY, markersize=4, linestyle="none")
         opt = result.optimum[result.optimum["material"] == mat] if not result.optimum.empty \
@@ -128,18 +170,23 @@ def cost_curves(result, materials: list[str] | None = None, ax=None):
         if not opt.empty:
             ax.axvline(opt["inner_diameter_m"].iloc[0] * 1e3, color=colour, linestyle="--",
                        linewidth=0.8, alpha=0.7)
+    ax.plot([], [], "o", markerfacecolor="none", markeredgecolor=_GREY, label="infeasible")
+    ax.plot([], [], "--", color=_GREY, linewidth=0.8, label="continuous optimum")
     if result.best is not None:
         b = result.best
         ax.plot(b["inner_diameter_m"] * 1e3, b["eac"], "D", color="#000000", markersize=8,
                 label=f"chosen: {b['material']} {b['size']}")
-    ax.plot([], [], "o", markerfacecolor="none", markeredgecolor=_GREY, label="infeasible")
     feasible_eac = c.loc[c["feasible"], "eac"]
     if not feasible_eac.empty:
-        ax.set_ylim(0, float(feasible_eac.min()) * 3.0)
+        top = float(feasible_eac.min()) * 3.0
+        ax.set_ylim(min(0.0, 1.15 * lowest) if lowest < 0 else 0.0, top)
+    if lowest < 0:
+        ax.axhline(0, color="#000000", linewidth=0.6)
     ax.set_xlabel("inner diameter [mm]")
     ax.set_ylabel(f"equivalent annual cost [{_money(result)}/yr]")
+    _money_ticks(ax.yaxis)
     _style(ax, "Life-cycle cost against diameter")
-    ax.legend(fontsize=7, ncol=2, frameon=False)
+    _legend_outside(ax)
     return ax
 
 
@@ -153,7 +200,7 @@ def cost_breakdown(result, n: int = 5, ax=None):
     ax = _axes(ax)
     b = result.breakdown(n)
     labels = (b["material"] + "\n" + b["size"]).tolist()
-    parts = [("capex_pipe", "pipe"), ("capex_pump_station", "pump station"),
+    parts = [("capex_pipe", "pipe"), ("pv_pump_station", "pump station"),
              ("pv_energy", "energy"), ("pv_maintenance", "maintenance"),
              ("pv_replacement", "station renewal"), ("pv_carbon", "carbon")]
     bottom = np.zeros(len(b))
@@ -168,12 +215,13 @@ def cost_breakdown(result, n: int = 5, ax=None):
     if np.any(resid):
         ax.bar(x, -resid, color="#ffffff", edgecolor=_GREY, hatch="//", width=0.6,
                label="residual value (credit)")
-    ax.plot(x, b["pv_total"], "_", color="#000000", markersize=30, markeredgewidth=2,
-            label="present value, net")
+    ax.plot(x, b["pv_total"], "_", color="#000000", markersize=30, markeredgewidth=2)
+    ax.plot([], [], "-", color="#000000", linewidth=2, label="present value, net")
     ax.set_xticks(x, labels, fontsize=8)
     ax.set_ylabel(f"present value [{_money(result)}]")
+    _money_ticks(ax.yaxis)
     _style(ax, f"Cost breakdown of the {len(b)} best candidates")
-    ax.legend(fontsize=7, frameon=False, ncol=2)
+    _legend_outside(ax)
     return ax
 
 
@@ -190,14 +238,15 @@ def velocity_head(result, ax=None):
     d_mm = c["inner_diameter_m"] * 1e3
     ax.plot(d_mm, c["velocity_m_s"], "o", color=PALETTE[0], markersize=3,
             label="velocity, largest duty, year 1")
-    ax.plot(d_mm, c["velocity_max_m_s"], ".", color=PALETTE[5], markersize=3,
+    ax.plot(d_mm, c["velocity_peak_m_s"], ".", color=PALETTE[5], markersize=3,
             label="velocity, largest flow of any year")
     con = result.study.constraints
     for value, name in ((con.velocity_min, "velocity_min"), (con.velocity_max, "velocity_max")):
         if value is not None:
             ax.axhline(value, color=PALETTE[3], linestyle="--", linewidth=1)
-            ax.annotate(f"{name} {value:g} m/s", (d_mm.max(), value), fontsize=7,
-                        ha="right", va="bottom", color=PALETTE[3])
+            # at the small-diameter end, where the velocities are high above either limit
+            ax.annotate(f"{name} {value:g} m/s", (d_mm.min(), value), fontsize=7,
+                        ha="left", va="bottom", color=PALETTE[3])
     ax.set_xlabel("inner diameter [mm]")
     ax.set_ylabel("velocity [m/s]")
     ax.set_yscale("log")
@@ -210,7 +259,8 @@ def velocity_head(result, ax=None):
     _style(ax, "Velocity and head loss against diameter")
     lines = ax.get_legend_handles_labels()
     more = twin.get_legend_handles_labels()
-    ax.legend(lines[0] + more[0], lines[1] + more[1], fontsize=7, frameon=False)
+    _legend_outside(ax, below=True, handles=lines[0] + more[0], labels=lines[1] + more[1],
+                    ncol=3)
     return ax
 
 
@@ -246,7 +296,7 @@ def friction_chart(result=None, relative_roughness=(0.0, 1e-5, 1e-4, 1e-3, 5e-3,
     ax.set_xlabel("Reynolds number Re [-]")
     ax.set_ylabel("Darcy friction factor f [-]")
     _style(ax, "Friction factor (Colebrook–White, solved exactly)")
-    ax.legend(fontsize=7, frameon=False, ncol=2)
+    _legend_outside(ax)
     return ax
 
 
@@ -271,8 +321,10 @@ def tornado_chart(tornado_result, ax=None):
     money = tornado_result.currency or "currency"
     ax.set_xlabel(f"EAC of {tornado_result.chosen} [{money}/yr]" if m == "eac" else
                   f"present value of costs of {tornado_result.chosen} [{money}]")
-    _style(ax, "Sensitivity (* the best candidate changes within the range)")
-    ax.legend(fontsize=7, frameon=False)
+    _money_ticks(ax.xaxis)
+    ax.plot([], [], " ", label="* the best choice changes\n  within the range")
+    _style(ax, "Sensitivity, one input at a time")
+    _legend_outside(ax)
     return ax
 
 
@@ -309,8 +361,9 @@ def eac_distributions(mc_result, n: int = 5, ax=None):
                 label=f"{r['material']} {r['size']}")
     ax.set_xlabel(f"equivalent annual cost [{mc_result.currency or 'currency'}/yr]")
     ax.set_ylabel("samples [-]")
+    _money_ticks(ax.xaxis)
     _style(ax, "Distribution of the EAC")
-    ax.legend(fontsize=7, frameon=False)
+    _legend_outside(ax)
     return ax
 
 
@@ -336,13 +389,15 @@ def cumulative_cash_flow(upgrade_result, ax=None):
         pb = summary.loc[opt, "discounted_payback_year"]
         if pb is not None and not pd.isna(pb):
             ax.plot(pb, float(cum.loc[int(pb)]), "o", color=colour, markersize=7)
-            ax.annotate(f"pays back, year {int(pb)}", (pb, float(cum.loc[int(pb)])),
-                        textcoords="offset points", xytext=(5, 5), fontsize=7, color=colour)
+            ax.annotate(f"discounted payback, year {int(pb)}", (pb, float(cum.loc[int(pb)])),
+                        textcoords="offset points", xytext=(5, -11), fontsize=7, color=colour)
+    ax.plot([], [], "o", color=_GREY, markersize=6, label="discounted payback year")
     ax.axhline(0, color="#000000", linewidth=1)
     ax.set_xlabel("study year [yr]")
     ax.set_ylabel(f"cumulative discounted saving against keep [{_money(upgrade_result)}]")
+    _money_ticks(ax.yaxis)
     _style(ax, "Upgrade options: cumulative discounted cash flow")
-    ax.legend(fontsize=7, frameon=False)
+    _legend_outside(ax)
     return ax
 
 
@@ -444,13 +499,46 @@ def figure_png(figure, dpi: float | None = None, everything: bool = False) -> by
         figure.subplots_adjust(**margins)
     canvas = figure.canvas if isinstance(figure.canvas, _PngCanvas) else _PngCanvas(figure)
     canvas.draw()
-    if not _fit_margins(canvas, everything):
+    for _ in range(3):  # margins, then a title moved or wrapped: a few draws at most
+        fitted = _fit_margins(canvas, everything)
+        fitted = _fit_titles(canvas) and fitted
+        if fitted:
+            break
         canvas.draw()
     image = Image.frombuffer("RGBA", canvas.get_width_height(physical=True),
                              canvas.buffer_rgba(), "raw", "RGBA", 0, 1).convert("RGB")
     buffer = io.BytesIO()
     image.save(buffer, format="png", compress_level=1)
     return buffer.getvalue()
+
+
+def _fit_titles(canvas: FigureCanvasAgg, pad: float = 4.0) -> bool:
+    """Keep this module's titles whole: a title running past the right edge of the figure
+    moves left (down to the figure's left edge), then wraps; True when every title fitted."""
+    import textwrap
+
+    figure = canvas.figure
+    width = canvas.get_width_height(physical=True)[0]
+    renderer = canvas.get_renderer()
+    fitted = True
+    for ax in figure.axes:
+        for text in ax.get_children():
+            if not (isinstance(text, Text) and text.get_gid() == TITLE_GID
+                    and text.get_visible() and text.get_text()):
+                continue
+            box = text.get_window_extent(renderer)
+            over = box.x1 - (width - pad)
+            if over <= 0 and box.x0 >= pad:
+                continue
+            fitted = False
+            axes_box = ax.get_window_extent(renderer)
+            shift = min(max(over, 0.0), box.x0 - pad) if over > 0 else box.x0 - pad
+            x, y = text.get_position()
+            text.set_position((x - shift / max(axes_box.width, 1.0), y))
+            if over - shift > 0:  # still too long: wrap it at the width there is
+                chars = max(12, int(len(text.get_text()) * (width - 2 * pad) / box.width) - 2)
+                text.set_text(textwrap.fill(" ".join(text.get_text().split()), chars))
+    return fitted
 
 
 def _fit_margins(canvas: FigureCanvasAgg, everything: bool, pad: float = 4.0) -> bool:
@@ -460,7 +548,12 @@ def _fit_margins(canvas: FigureCanvasAgg, everything: bool, pad: float = 4.0) ->
     width, height = canvas.get_width_height(physical=True)
     renderer = canvas.get_renderer()
     if everything:  # axes, tick labels, titles, legends; data never leaves its axes
-        boxes = [ax.get_tightbbox(renderer, bbox_extra_artists=[]) for ax in figure.axes]
+        # titles count upwards only (for_layout_only: a long title moves left or wraps in
+        # _fit_titles; narrowing the axes would not help it)
+        boxes = [ax.get_tightbbox(renderer, bbox_extra_artists=[], for_layout_only=True)
+                 for ax in figure.axes]
+        boxes += [ax.get_legend().get_window_extent(renderer) for ax in figure.axes
+                  if ax.get_legend() is not None]  # legends sit outside the axes
     else:
         boxes = []
         for ax in figure.axes:
@@ -468,6 +561,8 @@ def _fit_margins(canvas: FigureCanvasAgg, everything: bool, pad: float = 4.0) ->
             boxes += [text.get_window_extent(renderer)
                       for text in (*titles, ax.xaxis.label, ax.yaxis.label)
                       if text.get_visible() and text.get_text()]
+            if ax.get_legend() is not None:  # outside the axes: the margins make room once
+                boxes.append(ax.get_legend().get_window_extent(renderer))
     grow = [0.0, 0.0, 0.0, 0.0]  # left, right, bottom, top [px]
     for box in boxes:
         grow = [max(grow[0], pad - box.x0), max(grow[1], box.x1 - width + pad),
@@ -475,8 +570,11 @@ def _fit_margins(canvas: FigureCanvasAgg, everything: bool, pad: float = 4.0) ->
     if max(grow) <= 0.0:
         return True
     p = figure.subplotpars
-    figure.subplots_adjust(left=p.left + grow[0] / width, right=p.right - grow[1] / width,
-                           bottom=p.bottom + grow[2] / height, top=p.top - grow[3] / height)
+    left, right = p.left + grow[0] / width, p.right - grow[1] / width
+    bottom, top = p.bottom + grow[2] / height, p.top - grow[3] / height
+    if right - left < 0.2 or top - bottom < 0.2:  # too little figure left: keep what fits best
+        return True
+    figure.subplots_adjust(left=left, right=right, bottom=bottom, top=top)
     return False
 
 
@@ -617,7 +715,7 @@ def profile_section(result):
     """
     c = result.candidates
     feas = c[c["feasible"]]
-    cols = ["boosters", "size", "pressure_class", "classes_along", "highest_pressure_bar",
+    cols = ["boosters", "size", "class", "classes_along", "highest_pressure_bar",
             "capex_pipe", "capex_pump_station", "pv_energy", "eac"]
     by_n = (feas.loc[feas.groupby("boosters")["eac"].idxmin(), cols] if not feas.empty
             else feas[cols])

@@ -356,8 +356,8 @@ def read_register(source: Any, materials: Any = None, first_year: int | None = N
 # --------------------------------------------------------------------------------------------
 #: The fictional utility of the invented register.
 INVENTED_UTILITY = "Oxtervale Water (an invented utility; illustrative)"
-_ZONES = ("Brackenmoor", "Quillhaven", "Tarnwick Heights", "Emberfold", "Saltmarrow",
-          "Fenwold Rise")
+_ZONES = ("Vordhallow", "Quillhaven", "Tarnwick Heights", "Emberfold", "Saltmarrow",
+          "Quennimar Rise")
 #: Material classes of the invented register: share of mains, years laid, nominal bores [mm],
 #: breaks per km and year now at age 50, and the growth of breaks [1/yr] (all invented).
 INVENTED_MATERIALS = {

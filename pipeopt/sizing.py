@@ -62,6 +62,11 @@ __all__ = ["Line", "Economics", "Constraints", "Carbon", "MaterialChoice", "Sizi
            "SizingResult", "CAUTION"]
 
 
+def _size_words(size: Any) -> str:
+    """A designation for a summary; "-" where there is none (no NaN, no None in words)."""
+    return size if isinstance(size, str) and size else "-"
+
+
 def _section(value: Any, cls: type, build: Any) -> Any:
     """``value`` if it is already a ``cls``, else ``build(value)``."""
     return value if isinstance(value, cls) else build(value)
@@ -112,6 +117,9 @@ class SizingStudy(StudyFileMixin):
         Sizes and materials (default: the bundled catalog).
     name, currency, description : str
         Labels for outputs.
+    author, revision, date : str
+        The title block of the report (``[study]`` keys); ``date`` as text or a
+        :class:`datetime.date`. Empty: not given (the report says so).
     friction_method : str
         ``"colebrook"`` (default), another :data:`pipeopt.friction.METHODS` entry, or
         ``"constant"`` with ``constant_friction_factor``.
@@ -149,7 +157,8 @@ class SizingStudy(StudyFileMixin):
                  constant_friction_factor: float | None = None, illustrative: bool = False,
                  description: str = "", uncertainty: dict | None = None,
                  profile: Any = None, sections: Any = (), boosters: Any = None,
-                 equipment: Any = (), fittings: Any = None) -> None:
+                 equipment: Any = (), fittings: Any = None, author: str = "",
+                 revision: str = "", date: Any = "") -> None:
         if not isinstance(fluid, Fluid):
             raise InputError("fluid must be a pipeopt.Fluid")
         for value, cls, what in ((line, Line, "line"), (duty, DutyProfile, "duty"),
@@ -172,7 +181,8 @@ class SizingStudy(StudyFileMixin):
                       "constant_friction_factor": constant_friction_factor,
                       "illustrative": illustrative, "description": description,
                       "uncertainty": uncertainty, "profile": profile, "sections": sections,
-                      "boosters": boosters, "equipment": equipment, "fittings": fittings}
+                      "boosters": boosters, "equipment": equipment, "fittings": fittings,
+                      "author": author, "revision": revision, "date": date}
         self.fluid = fluid
         self.line = line
         self.duty = duty
@@ -185,7 +195,9 @@ class SizingStudy(StudyFileMixin):
         self.carbon = carbon
         self.hydraulics = Hydraulics(friction_method, constant_friction_factor)
         self.catalog = catalog or default_catalog()
-        self.info = StudyInfo(name, currency, illustrative, description)
+        self.info = StudyInfo(name=name, currency=currency, illustrative=illustrative,
+                              description=description, author=author, revision=revision,
+                              date=date)
         self.uncertainty = uncertainty
         for m in materials:
             self.catalog.material(m.name)
@@ -338,7 +350,8 @@ class SizingStudy(StudyFileMixin):
                     illustrative=info.illustrative, description=info.description,
                     profile=sec["profile"], sections=sec["sections"],
                     boosters=sec["boosters"], equipment=sec["equipment"],
-                    fittings=sec["fittings"])
+                    fittings=sec["fittings"],
+                    author=info.author, revision=info.revision, date=info.date)
         if sec["uncertainty"] is not None:
             from .uncertainty import read_uncertainty_section
 
@@ -427,21 +440,22 @@ class SizingStudy(StudyFileMixin):
         checks = self.check(lc)
         crf = float(np.asarray(lc.crf).reshape(-1)[0])
         df = pd.DataFrame({
-            "material": c["material"], "size": c["size"], "pressure_class": c["pressure_class"],
+            "material": c["material"], "size": c["size"], "class": c["class"],
             "inner_diameter_m": c["inner_diameter_m"], "roughness_m": c["roughness_m"],
             "velocity_m_s": lc.velocity_design, "reynolds": lc.reynolds_design,
             "friction_factor": lc.friction_factor_design, "head_loss_m": lc.head_loss_design,
-            "pump_head_m": lc.pump_head_design, "pump_power_kw": lc.pump_power_peak_year1,
-            "energy_kwh_year1": lc.energy_year1, "velocity_max_m_s": lc.velocity_max,
+            "pump_head_m": lc.pump_head_design, "electrical_power_kw": lc.pump_power_peak_year1,
+            "energy_kwh_year1": lc.energy_year1, "velocity_peak_m_s": lc.velocity_max,
             "pump_head_max_m": lc.pump_head_max, "surge_head_m": checks["surge"],
             "operating_pressure_bar": checks["operating_pressure"] / 1e5,
             "mdp_bar": checks["mdp"] / 1e5, "pfa_bar": checks["pfa"] / 1e5,
             "pma_bar": checks["pma"] / 1e5,
-            "rated_pressure_bar": c["pressure_rating_pa"].to_numpy() / 1e5,
+            "pressure_rating_bar": c["pressure_rating_pa"].to_numpy() / 1e5,
             "temperature_factor": c["temperature_factor"],
             "mass_kg_per_m": c["mass_kg_per_m"], "cost_per_metre": c["cost_per_metre"],
             "installed_power_kw": lc.installed_power, "capex_pipe": lc.capex_pipe,
-            "capex_pump_station": lc.capex_pump_station, "pv_energy": lc.pv_energy,
+            "capex_pump_station": lc.capex_pump_station,
+            "pv_pump_station": lc.pv_pump_station, "pv_energy": lc.pv_energy,
             "pv_maintenance": lc.pv_maintenance, "pv_replacement": lc.pv_replacement,
             "pv_carbon": lc.pv_carbon, "pv_residual": lc.pv_residual, "pv_total": lc.pv_total,
             "eac": lc.eac,
@@ -633,7 +647,8 @@ class SizingResult(StudyResult):
             index = int(self.best.name)
         lc = self.lifecycle
         n = self.horizon
-        frame = lc.cash_flows.frame(0, index)
+        # the model names its money row "energy"; in tables it is energy_cost (kWh apart)
+        frame = lc.cash_flows.frame(0, index).rename(columns={"energy": "energy_cost"})
         mult = np.concatenate([[np.nan], self.study.duty.multipliers(
             n, growth=self.inputs.get("growth"),
             flow_factor=self.inputs.get("flow_factor", 1.0)).reshape(-1)])
@@ -644,8 +659,9 @@ class SizingResult(StudyResult):
 
     def breakdown(self, n: int = 5) -> pd.DataFrame:
         """Present-value cost breakdown of the ``n`` best feasible candidates."""
-        cols = ["material", "size", "capex_pipe", "capex_pump_station", "pv_energy",
-                "pv_maintenance", "pv_replacement", "pv_carbon", "pv_residual", "pv_total", "eac"]
+        cols = ["material", "size", "capex_pipe", "capex_pump_station", "pv_pump_station",
+                "pv_energy", "pv_maintenance", "pv_replacement", "pv_carbon", "pv_residual",
+                "pv_total", "eac"]
         feas = self.candidates[self.candidates["feasible"]]
         return feas.nsmallest(n, "eac")[cols]
 
@@ -661,7 +677,16 @@ class SizingResult(StudyResult):
         if f == 1:
             return f"service temperature {t:.0f} degC{given}: no derating of {row['material']}"
         return (f"service temperature {t:.0f} degC{given}: {row['material']} derated x {f:.3g} "
-                f"(PFA {row['pfa_bar']:.1f} of {row['rated_pressure_bar']:.1f} bar)")
+                f"(PFA {row['pfa_bar']:.1f} of {row['pressure_rating_bar']:.1f} bar)")
+
+    @staticmethod
+    def _pv_parts(row: pd.Series) -> str:
+        """The parts of a candidate's present value in words (those that are not zero)."""
+        parts = [("pipe", row["capex_pipe"]), ("pump station", row["pv_pump_station"]),
+                 ("energy", row["pv_energy"]), ("maintenance", row["pv_maintenance"]),
+                 ("station renewals", row["pv_replacement"]), ("carbon", row["pv_carbon"]),
+                 ("residual value", -row["pv_residual"])]
+        return ", ".join(f"{name} {value:,.0f}" for name, value in parts if value != 0)
 
     def _line_words(self, b: pd.Series) -> list[str]:
         """The long line's lines of the summary: classes, stations, pressures."""
@@ -693,7 +718,7 @@ class SizingResult(StudyResult):
     def tables(self) -> dict[str, pd.DataFrame]:
         top = self.candidates.sort_values(["feasible", "eac"], ascending=[False, True])
         cols = ["material", "size", "inner_diameter_m", "velocity_m_s", "head_loss_m",
-                "pump_power_kw", "capex_pipe", "pv_energy", "eac", "feasible", "reasons"]
+                "electrical_power_kw", "capex_pipe", "pv_energy", "eac", "feasible", "reasons"]
         return {f"Ten best candidates (money in {self.currency or 'currency'})":
                 top[cols].head(10)}
 
@@ -725,12 +750,11 @@ class SizingResult(StudyResult):
                 "",
                 f"Best: {b['material']} {b['size']} (inner diameter "
                 f"{b['inner_diameter_m'] * 1000:.1f} mm)",
-                f"  EAC {b['eac']:,.0f}{cur}/yr; present value {b['pv_total']:,.0f}{cur} "
-                f"(pipe {b['capex_pipe']:,.0f}, pump station {b['capex_pump_station']:,.0f}, "
-                f"energy {b['pv_energy']:,.0f})",
+                f"  EAC {b['eac']:,.0f}{cur}/yr; present value {b['pv_total']:,.0f}{cur} = "
+                + self._pv_parts(b),
                 f"  velocity {b['velocity_m_s']:.2f} m/s, head loss {b['head_loss_m']:.2f} m, "
-                f"pump head {b['pump_head_m']:.1f} m, peak power {b['pump_power_kw']:.1f} kW "
-                f"(largest duty, year 1)",
+                f"pump head {b['pump_head_m']:.1f} m, electrical power "
+                f"{b['electrical_power_kw']:.1f} kW (largest duty, year 1)",
             ]
             if s.layout is None:
                 lines += [
@@ -755,9 +779,10 @@ class SizingResult(StudyResult):
                           "EAC, neighbouring sizes of the class):"]
             for _, o in self.optimum.iterrows():
                 flag = " (at the edge of the size range)" if o["at_bound"] else ""
-                lines.append(f"  {o['material']:<16} {o['pressure_class']:<8} "
+                lines.append(f"  {o['material']:<16} {o['class']:<8} "
                              f"{o['inner_diameter_m'] * 1000:8.1f} mm  EAC {o['eac']:>12,.0f}"
-                             f"{cur}/yr  between {o['lower_size']} and {o['upper_size']}{flag}")
+                             f"{cur}/yr  between {_size_words(o['lower_size'])} and "
+                             f"{_size_words(o['upper_size'])}{flag}")
                 if o["limited_by"]:
                     lines.append(f"    {o['limited_by']} binds: unconstrained "
                                  f"{o['unconstrained_inner_diameter_m'] * 1000:.1f} mm, EAC "

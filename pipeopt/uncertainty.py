@@ -32,7 +32,6 @@ from typing import Any
 
 import numpy as np
 import pandas as pd
-from scipy import optimize, stats
 
 from .errors import InputError
 from .results import StudyResult
@@ -100,6 +99,8 @@ class Uniform(_Distribution):
             raise InputError(f"uniform: low ({self.low}) must be below high ({self.high})")
 
     def _frozen(self):
+        from scipy import stats
+
         return stats.uniform(self.low, self.high - self.low)
 
 
@@ -119,6 +120,8 @@ class Triangular(_Distribution):
                              f"{self.low}, {self.mode}, {self.high}")
 
     def _frozen(self):
+        from scipy import stats
+
         return stats.triang((self.mode - self.low) / (self.high - self.low), self.low,
                             self.high - self.low)
 
@@ -142,6 +145,8 @@ class Normal(_Distribution):
     def _frozen(self):
         a = (self.low - self.mean) / self.sd
         b = (self.high - self.mean) / self.sd
+        from scipy import stats
+
         return stats.truncnorm(a, b, loc=self.mean, scale=self.sd)
 
 
@@ -158,6 +163,8 @@ class LogNormal(_Distribution):
             raise InputError("lognormal: median and sigma must be positive")
 
     def _frozen(self):
+        from scipy import stats
+
         return stats.lognorm(self.sigma, scale=self.median)
 
 
@@ -604,6 +611,8 @@ def _switch_one(d: _Decision, name: str, direction: str, xs: np.ndarray, order: 
             row["statement"] = (f"switches to {row['switches_to']} at {hi:.6g}, where {lost} "
                                 f"{verb}")
             return row
+    from scipy import optimize
+
     x_star = optimize.brentq(gap, lo, hi, xtol=1e-14 * max(1.0, abs(hi)), rtol=1e-13,
                              maxiter=200)
     _, e_star, _ = at(x_star)
@@ -849,6 +858,8 @@ def monte_carlo(study: Any, distributions: dict[str, Any], n: int = 10000, seed:
         "expected_regret": exp_regret})
     table = table.sort_values(["prob_cheapest", "eac_mean"], ascending=[False, True],
                               kind="stable").reset_index(drop=True)
+    from scipy import stats
+
     corr = []
     for name, col in values.items():
         rho = stats.spearmanr(col, eac[:, chosen]).statistic if np.ptp(col) > 0 else np.nan

@@ -38,8 +38,8 @@ if TYPE_CHECKING:
     import pint
 
 # ureg and Quantity come from __getattr__ (created on first use)
-__all__ = ["ureg", "Quantity", "KINDS", "MAX_TEXT", "MAX_MAGNITUDE", "to_si",  # noqa: F822
-           "parse_quantity", "format_si"]
+__all__ = ["ureg", "Quantity", "KINDS", "DISPLAY_UNITS", "MAX_TEXT",  # noqa: F822
+           "MAX_MAGNITUDE", "to_si", "parse_quantity", "format_si", "display"]
 
 #: Longest text accepted for a quantity such as ``"450 m^3/h"`` [characters].
 MAX_TEXT = 100
@@ -90,7 +90,8 @@ class Kind:
 
 #: The kinds of dimensional input, the SI unit each is stored in, and an example for messages.
 #: ``aging_rate`` (roughness growth) is stored per *year*, not per second: study years are the
-#: time axis of every model below this layer.
+#: time axis of every model below this layer; ``emission_factor`` is stored in kg per kWh, the
+#: unit of the yearly energy it multiplies.
 KINDS: dict[str, Kind] = {
     k.name: k
     for k in [
@@ -110,6 +111,8 @@ KINDS: dict[str, Kind] = {
         Kind("stress", "Pa", "140 MPa", "a stress"),
         Kind("mass_per_length", "kg/m", "45 kg/m", "a mass per length"),
         Kind("time", "s", "2 h", "a time"),
+        Kind("emission_factor", "kg/kWh", "0.25 kg/kWh",
+             "an emission factor (mass of CO2e per energy)"),
     ]
 }
 
@@ -218,6 +221,22 @@ def _bare_number(value: Any) -> bool:
     return False
 
 
+#: Temperature units written as a letter alone (a coulomb, a farad to pint) or with a space.
+_TEMPERATURE_LETTERS = {"c": "degC", "deg c": "degC", "f": "degF", "deg f": "degF"}
+
+
+def _temperature_words(value: str, field: str) -> None:
+    """Answer ``"15 C"`` (pint: 15 coulomb) with how to write degrees Celsius."""
+    m = _NUMBER.match(value)
+    unit = "" if m is None else " ".join(m.group(2).split()).lower()
+    if unit in _TEMPERATURE_LETTERS:
+        right = _TEMPERATURE_LETTERS[unit]
+        scale = "Celsius" if right == "degC" else "Fahrenheit"
+        raise InputError(f"{field}: {value!r}: write {right} for degrees {scale}, e.g. "
+                         f"'{m.group(1)} {right}' ("
+                         f"{'C is the coulomb' if right == 'degC' else 'F is the farad'})")
+
+
 def to_si(value: Any, kind: str, field: str,
           limit: float | None = MAX_MAGNITUDE) -> float | np.ndarray:
     """Convert a user's dimensional input to an SI float (or array).
@@ -259,6 +278,8 @@ def to_si(value: Any, kind: str, field: str,
     if isinstance(value, str) and (m := _NUMBER.match(value)) is not None and not m.group(2):
         raise InputError(f"{field}: expected {k.description} such as '{k.example}', got "
                          f"{value!r} with no unit")
+    if kind == "temperature" and isinstance(value, str):
+        _temperature_words(value, field)
     q = parse_quantity(value, field)
     try:
         out = q.to(k.si_unit).magnitude
@@ -285,3 +306,35 @@ def format_si(value: float, kind: str, unit: str, digits: int = 4) -> str:
     """
     q = registry().Quantity(value, KINDS[kind].si_unit).to(unit)
     return f"{q.magnitude:.{digits}g} {q.units:~P}"
+
+
+#: The unit reports show each kind in: (pint unit, label). Lengths are shown in km from 1 km
+#: up and in mm below 0.1 m (a liner, a wall), in m between.
+DISPLAY_UNITS: dict[str, tuple[str, str]] = {
+    "length": ("m", "m"), "diameter": ("mm", "mm"), "roughness": ("mm", "mm"),
+    "head": ("m", "m"), "flow": ("m**3/h", "m³/h"), "velocity": ("m/s", "m/s"),
+    "temperature": ("degC", "°C"), "pressure": ("bar", "bar"),
+    "density": ("kg/m**3", "kg/m³"), "viscosity": ("mPa*s", "mPa·s"), "power": ("kW", "kW"),
+    "aging_rate": ("mm/year", "mm/yr"), "modulus": ("GPa", "GPa"), "stress": ("MPa", "MPa"),
+    "mass_per_length": ("kg/m", "kg/m"), "time": ("h", "h"),
+    "emission_factor": ("kg/kWh", "kg/kWh"),
+}
+
+
+def display(value: float, kind: str) -> tuple[float, str]:
+    """An SI value of ``kind`` in the unit reports show it in (:data:`DISPLAY_UNITS`).
+
+    >>> display(0.125, "flow")
+    (450.0, 'm³/h')
+    >>> display(4600.0, "length")
+    (4.6, 'km')
+    >>> display(288.15, "temperature")
+    (15.0, '°C')
+    """
+    unit, label = DISPLAY_UNITS[kind]
+    if kind == "length":
+        size = abs(float(value))
+        unit, label = (("km", "km") if size >= 1000.0 else ("mm", "mm") if 0 < size < 0.1
+                       else ("m", "m"))
+    q = registry().Quantity(float(value), KINDS[kind].si_unit).to(unit)
+    return float(round(q.magnitude, 12)), label

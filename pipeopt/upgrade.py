@@ -113,6 +113,9 @@ class UpgradeStudy(StudyFileMixin):
         Sizes and materials.
     name, currency, description : str
         Labels.
+    author, revision, date : str
+        The title block of the report (``[study]`` keys); ``date`` as text or a
+        :class:`datetime.date`. Empty: not given (the report says so).
     illustrative : bool
         Marks every output as using invented numbers.
     uncertainty : dict, optional
@@ -127,7 +130,8 @@ class UpgradeStudy(StudyFileMixin):
                  efficiency: Any, tariff: EnergyTariff, economics: Economics, options: Any, *,
                  pump_station: PumpStationCost | None = None, catalog: Catalog | None = None,
                  name: str = "upgrade study", currency: str = "", illustrative: bool = False,
-                 description: str = "", uncertainty: dict | None = None) -> None:
+                 description: str = "", uncertainty: dict | None = None, author: str = "",
+                 revision: str = "", date: Any = "") -> None:
         if not isinstance(fluid, Fluid):
             raise InputError("fluid must be a pipeopt.Fluid")
         options = tuple(options or ())
@@ -135,7 +139,8 @@ class UpgradeStudy(StudyFileMixin):
                       "efficiency": efficiency, "tariff": tariff, "economics": economics,
                       "options": options, "pump_station": pump_station, "catalog": catalog,
                       "name": name, "currency": currency, "illustrative": illustrative,
-                      "description": description, "uncertainty": uncertainty}
+                      "description": description, "uncertainty": uncertainty,
+                      "author": author, "revision": revision, "date": date}
         self.fluid = fluid
         self.existing = existing
         self.duty = duty
@@ -145,7 +150,9 @@ class UpgradeStudy(StudyFileMixin):
         self.options = options
         self.pump_station = pump_station
         self.catalog = catalog or default_catalog()
-        self.info = StudyInfo(name, currency, illustrative, description)
+        self.info = StudyInfo(name=name, currency=currency, illustrative=illustrative,
+                              description=description, author=author, revision=revision,
+                              date=date)
         self.uncertainty = uncertainty
         n = economics.horizon
         names = [o.name for o in options]
@@ -221,6 +228,7 @@ class UpgradeStudy(StudyFileMixin):
         ex = self.existing
         s = self.scenario
         q_design = max(self.duty.flows)
+        h = None
         v = q_design / (np.pi * self.bore**2 / 4.0)
         if ex.roughness is not None:
             eps = float(ex.roughness)
@@ -244,7 +252,8 @@ class UpgradeStudy(StudyFileMixin):
                                      s.viscosity, transition="ignore")
         c = fr.hazen_williams_c_from_head_loss(q_design, self.bore, s.length, h_design)
         return {"roughness_m": float(eps), "hazen_williams_c": float(c), "source": source,
-                "bore_m": self.bore, "bore_as_laid_m": self.bore_as_laid}
+                "bore_m": self.bore, "bore_as_laid_m": self.bore_as_laid,
+                "field_test_friction_loss_m": h}
 
     def _resolve(self, o: UpgradeOption) -> _Option:
         life = o.life if o.life is not None else self.economics.pipe_life
@@ -357,7 +366,8 @@ class UpgradeStudy(StudyFileMixin):
         study = cls(fluid, sec["existing"], sec["duty"], sec["pumping"], sec["energy"],
                     sec["economics"], sec["options"], pump_station=sec["pump_station"],
                     catalog=sec["catalog"], name=info.name, currency=info.currency,
-                    illustrative=info.illustrative, description=info.description)
+                    illustrative=info.illustrative, description=info.description,
+                    author=info.author, revision=info.revision, date=info.date)
         if sec["uncertainty"] is not None:
             from .uncertainty import read_uncertainty_section
 
@@ -460,7 +470,7 @@ class UpgradeStudy(StudyFileMixin):
 
 def _long_frame(name: str, fl: Any) -> pd.DataFrame:
     frame = fl.frame(0, 0, option=name)
-    return frame[["option", "year", *ROWS, "total", "discounted"]]
+    return frame[["option", "year", *ROWS, "total", "discount_factor", "discounted"]]
 
 
 def _payback(savings: np.ndarray) -> float | None:
@@ -484,7 +494,7 @@ def _summary_row(name: str, kind: str, description: str, year: int | None, fl: A
                            "description": description, "pv_cost": pv,
                            "npv_vs_keep": keep_pv - pv,
                            "energy_kwh_year1": float(hyd["energy_kwh"][0, 0, 0]),
-                           "velocity_max_m_s": float(hyd["velocity_max"][0, 0]),
+                           "velocity_peak_m_s": float(hyd["velocity_max"][0, 0]),
                            "pump_head_max_m": float(hyd["head_max"][0, 0])}
     if kind == "keep":
         row.update(irr=None, irr_note="baseline", simple_payback_year=None,
@@ -561,7 +571,8 @@ class UpgradeResult(StudyResult):
         The study.
     cash_flows : pandas.DataFrame
         Long table: option, year (0 … N), capital, cleaning, station, energy_cost, breaks,
-        leakage, maintenance, residual (a credit, negative), total, discounted.
+        leakage, maintenance, residual (a credit, negative), total, discount_factor,
+        discounted (total × discount factor; it adds up to the option's ``pv_cost``).
     summary : pandas.DataFrame
         Per option: PV of costs, NPV against keeping the line (positive = the option saves),
         IRR of the incremental cash flows (None with a note when there is no unique rate),
@@ -612,7 +623,7 @@ class UpgradeResult(StudyResult):
         lines += [
             "",
             f"{'option':<16}{'year':>5}{'PV of costs':>16}{'NPV vs keep':>15}{'IRR':>9}"
-            f"{'payback':>9}{'B/C':>7}",
+            f"{'simple payback':>16}{'B/C':>7}",
         ]
         for _, r in self.summary.iterrows():
             irr = "" if r["irr"] is None or pd.isna(r["irr"]) else f"{r['irr'] * 100:.1f} %"
@@ -624,7 +635,7 @@ class UpgradeResult(StudyResult):
             bc = "" if bc is None or pd.isna(bc) else f"{bc:.2f}"
             yr = "" if r["year"] is None or pd.isna(r["year"]) else f"{int(r['year'])}"
             lines.append(f"{r['option']:<16}{yr:>5}{r['pv_cost']:>16,.0f}"
-                         f"{r['npv_vs_keep']:>15,.0f}{irr:>9}{pb:>9}{bc:>7}")
+                         f"{r['npv_vs_keep']:>15,.0f}{irr:>9}{pb:>16}{bc:>7}")
         notes = [f"  {r['option']}: IRR {r['irr_note']}" for _, r in self.summary.iterrows()
                  if r["kind"] != "keep" and r["irr_note"] != "unique"]
         if notes:

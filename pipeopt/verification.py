@@ -273,7 +273,7 @@ def _closed_form(which: str) -> Callable[[], float]:
 
         # a textbook cost model on the bore, a D^m, priced for every size of the class: the
         # continuous optimum interpolates it log-log, which reproduces the power law exactly
-        sizes = list_sizes("pe100", pressure_class="SDR 17")
+        sizes = list_sizes("pe100", classes="SDR 17")
         table = {d: 1500.0 * b**1.4 for d, b in zip(sizes["designation"],
                                                       sizes["inner_diameter_m"], strict=True)}
         study = {**_CLOSED_FORM_STUDY, "material": [{"name": "pe100", "classes": ["SDR 17"],
@@ -381,7 +381,7 @@ def _sch40_bore(nps: float) -> float:
     """The bore of ASME B36.10M Schedule 40 pipe of a nominal size [m] (bundled catalog)."""
     from .catalog import list_sizes
 
-    sizes = list_sizes("steel", pressure_class="Sch 40")
+    sizes = list_sizes("steel", classes="Sch 40")
     whole, frac = int(nps), nps - int(nps)
     label = {0.0: "", 0.25: "1/4", 0.5: "1/2", 0.75: "3/4"}[frac]
     name = (f"NPS {label}" if whole == 0 else f"NPS {whole}-{label}" if label

@@ -60,6 +60,8 @@ class _Explorer(abc.ABC):
     #: Figure size [in] and resolution [dpi] of the picture.
     figsize = (7.5, 4.3)
     dpi = 100
+    #: Width of the controls' labels: the longest ("wire-to-water efficiency [-]") whole.
+    label_width = "17em"
 
     def __init__(self, debounce: float) -> None:
         self.debounce = float(debounce)
@@ -83,8 +85,8 @@ class _Explorer(abc.ABC):
         cls = w.IntSlider if integer else w.FloatSlider
         kwargs = {} if integer else {"readout_format": fmt}
         s = cls(value=value, min=low, max=high, step=step, description=description,
-                continuous_update=True, style={"description_width": "11em"},
-                layout=w.Layout(width="30em"), **kwargs)
+                continuous_update=True, style={"description_width": self.label_width},
+                layout=w.Layout(width="36em"), **kwargs)
         s.observe(self._changed, names="value")
         return s
 
@@ -129,12 +131,32 @@ class _Explorer(abc.ABC):
     def _layout(self) -> w.Widget:
         """Controls on the left (fixed width), figure and table on the right."""
         left = w.VBox(list(self.controls.values()) + [self.status],
-                      layout=w.Layout(flex="0 0 auto", min_width="31em"))
+                      layout=w.Layout(flex="0 0 auto", min_width="37em"))
         right = w.VBox([self.output, self.table], layout=w.Layout(flex="1 1 auto"))
         return w.HBox([left, right], layout=w.Layout(align_items="flex-start"))
 
     def _ipython_display_(self) -> None:
         display(self.widget)
+
+
+def _money(value: float) -> str:
+    return f"{value:,.0f}"
+
+
+def _shown(frame, columns) -> str:
+    """A table for people: headers with units, numbers formatted, "-" where there is none."""
+    import pandas as pd
+
+    def cell(fmt, value) -> str:
+        if value is None or (isinstance(value, float) and value != value) or value is pd.NA:
+            return "-"
+        return html.escape(fmt(value))
+
+    head = "".join(f"<th>{html.escape(h)}</th>" for _, h, _ in columns)
+    rows = "".join("<tr>" + "".join(f"<td style='white-space:nowrap'>{cell(f, rec[c])}</td>"
+                                    for c, _, f in columns)
+                   + "</tr>" for rec in frame.to_dict("records"))
+    return f"<table><thead><tr>{head}</tr></thead><tbody>{rows}</tbody></table>"
 
 
 class SizingExplorer(_Explorer):
@@ -167,7 +189,8 @@ class SizingExplorer(_Explorer):
         }
         names = [m.name for m in study.materials]
         mats = w.SelectMultiple(options=names, value=tuple(names), description="materials",
-                                rows=min(6, len(names)), style={"description_width": "11em"})
+                                rows=min(6, len(names)),
+                                style={"description_width": self.label_width})
         mats.observe(self._changed, names="value")
         self.controls["materials"] = mats
         self.result = None
@@ -187,12 +210,18 @@ class SizingExplorer(_Explorer):
         self.best = sel.iloc[0] if not sel.empty else None
         self.ax.clear()
         plots.cost_curves(result, materials=chosen, ax=self.ax)
-        cols = ["material", "size", "inner_diameter_m", "velocity_m_s", "head_loss_m",
-                "pump_power_kw", "capex_pipe", "pv_energy", "eac"]
-        self.table.value = (f"<b>Best feasible candidates</b> (money in "
-                            f"{html.escape(self.study.currency or 'currency')})"
-                            + sel[cols].to_html(index=False, border=0,
-                                                float_format=lambda x: f"{x:,.4g}"))
+        money = self.study.currency or "currency"
+        shown = _shown(sel, [("material", "material", str), ("size", "size", str),
+                             ("inner_diameter_m", "inner diameter [mm]",
+                              lambda v: f"{v * 1e3:.1f}"),
+                             ("velocity_m_s", "velocity [m/s]", lambda v: f"{v:.2f}"),
+                             ("head_loss_m", "head loss [m]", lambda v: f"{v:.2f}"),
+                             ("electrical_power_kw", "electrical power [kW]",
+                              lambda v: f"{v:.1f}"),
+                             ("capex_pipe", f"pipe [{money}]", _money),
+                             ("pv_energy", f"energy, PV [{money}]", _money),
+                             ("eac", f"EAC [{money}/yr]", _money)])
+        self.table.value = "<b>Best feasible candidates</b>" + shown
         if self.best is None:
             self.status.value = "<b>No feasible candidate</b> with these values."
         else:
@@ -233,10 +262,14 @@ class UpgradeExplorer(_Explorer):
         self.result = result
         self.ax.clear()
         plots.cumulative_cash_flow(result, ax=self.ax)
-        cols = ["option", "pv_cost", "npv_vs_keep", "irr", "simple_payback_year",
-                "benefit_cost_ratio"]
-        self.table.value = ("<b>Options against keeping the line</b>"
-                            + result.summary[cols].to_html(index=False, border=0,
-                                                           float_format=lambda x: f"{x:,.4g}"))
+        money = self.study.currency or "currency"
+        shown = _shown(result.summary, [
+            ("option", "option", str), ("pv_cost", f"PV of costs [{money}]", _money),
+            ("npv_vs_keep", f"NPV vs keep [{money}]", _money),
+            ("irr", "IRR", lambda v: f"{v * 100:.1f} %"),
+            ("simple_payback_year", "simple payback [yr]", lambda v: f"{v:.0f}"),
+            ("discounted_payback_year", "discounted payback [yr]", lambda v: f"{v:.0f}"),
+            ("benefit_cost_ratio", "B/C", lambda v: f"{v:.2f}")])
+        self.table.value = "<b>Options against keeping the line</b>" + shown
         self.status.value = (f"Least PV: <b>{html.escape(result.best['option'])}</b>, "
                              f"{result.best['pv_cost']:,.0f}")

@@ -204,7 +204,7 @@ def fmt(x: float | Fraction) -> str:
     return f"{float(x):.2f}".rstrip("0").rstrip(".")
 
 
-HEADER = ["designation", "nominal", "pressure_class", "outside_diameter_mm", "wall_mm",
+HEADER = ["designation", "nominal", "class", "outside_diameter_mm", "wall_mm",
           "lining_mm", "inner_diameter_mm", "pressure_rating_bar", "provenance"]
 
 
@@ -237,7 +237,7 @@ def steel_rows(table: dict, source: str, lining=None, lining_source: str = "",
             lin = lining(size) if lining else 0.0
             rows.append({
                 "designation": f"NPS {nps} {label}", "nominal": f"NPS {nps}",
-                "pressure_class": label, "outside_diameter_mm": fmt(od), "wall_mm": fmt(wall),
+                "class": label, "outside_diameter_mm": fmt(od), "wall_mm": fmt(wall),
                 "lining_mm": fmt(lin), "inner_diameter_mm": fmt(od - 2 * wall - 2 * lin),
                 "pressure_rating_bar": "",
                 "provenance": f"table: {source}" + (f"; lining {lining_source}" if lining else ""),
@@ -292,7 +292,7 @@ def ductile_rows(tables: dict, k_classes: bool = False) -> list[dict]:
                 wall_src += "; no rating bundled: pressure not checked"
             rows.append({
                 "designation": f"DN {dn} {label}", "nominal": f"DN {dn}",
-                "pressure_class": label, "outside_diameter_mm": fmt(od), "wall_mm": fmt(wall),
+                "class": label, "outside_diameter_mm": fmt(od), "wall_mm": fmt(wall),
                 "lining_mm": fmt(lining), "inner_diameter_mm": fmt(od - 2 * wall - 2 * lining),
                 "pressure_rating_bar": fmt(pfa) if pfa is not None else "",
                 "provenance": f"{od_src}; {wall_src}; {lin_src}",
@@ -318,7 +318,7 @@ def plastic_rows(tables: dict, ods: list, series: dict, designation, rating) -> 
             pn, pn_src = rating(sdr)
             label = designation(sdr, pn)
             rows.append({
-                "designation": f"{od} {label}", "nominal": f"{od}", "pressure_class": label,
+                "designation": f"{od} {label}", "nominal": f"{od}", "class": label,
                 "outside_diameter_mm": fmt(od), "wall_mm": fmt(wall), "lining_mm": "0",
                 "inner_diameter_mm": fmt(od - 2 * wall), "pressure_rating_bar": fmt(pn),
                 "provenance": f"SDR {fmt(sdr)}; {src}; {pn_src}",
@@ -401,7 +401,7 @@ Inner diameter computed from the MINIMUM wall. Pressure rating = PN at 25 degC. 
 """)
 
     rows = [{"designation": f"{fmt(od)} x {e:.1f}", "nominal": fmt(od),
-             "pressure_class": f"wall {e:.1f}", "outside_diameter_mm": fmt(od),
+             "class": f"wall {e:.1f}", "outside_diameter_mm": fmt(od),
              "wall_mm": fmt(e), "lining_mm": "0", "inner_diameter_mm": fmt(od - 2 * e),
              "pressure_rating_bar": "",
              "provenance": "table: EN 1057 copper tube size range (from memory); EN 1057 gives "

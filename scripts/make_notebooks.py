@@ -74,8 +74,7 @@ print(f"bore {d * 1000:.1f} mm, Re {re:,.0f}, f {f:.6f}, head loss {h:.2f} m")
     md("## The candidates: three materials from the catalog"),
     code("""
 catalog.list_sizes("pe100", min_diameter="0.25 m", max_diameter="0.6 m",
-                   pressure_class="SDR 17")[["designation", "inner_diameter_m",
-                                             "pressure_rating_pa"]]
+                   classes="SDR 17")[["designation", "inner_diameter_m", "pressure_rating_pa"]]
 """),
     md("""
 ## The study
@@ -189,7 +188,7 @@ study = SizingStudy.from_dict({
     "pumping": {"efficiency": 0.74},
     "energy": {"price": 0.19, "escalation": 0.015},
     "economics": {"discount_rate": 0.035, "horizon": 30, "pipe_life": 50},
-    "carbon": {"grid_factor": 0.2, "price": 90.0},
+    "carbon": {"grid_factor": "0.2 kg/kWh", "price": 90.0},
     "material": [
         {"name": "steel", "min_diameter": "0.2 m", "max_diameter": "0.5 m",
          "classes": ["STD", "Sch 40"],
@@ -315,7 +314,7 @@ NETWORK = nb([
 # 4. Designing a ring main by least life-cycle cost
 
 **Scenario (invented, illustrative):** the fictional town of Quillmere is fed from its works by
-a pumped rising main into a ring of streets with one cross-connection, a spur to Gallnut End and
+a pumped rising main into a ring of streets with one cross-connection, a spur to Sorvantle Quay and
 one old cast-iron main that stays. Which size should each new pipe be, and how high must the
 pumps lift, so that every street keeps its pressure at the least cost over forty years? Every
 figure is invented to show the method (the bundled demo network).
@@ -375,7 +374,7 @@ plt.show()
     md("""
 ## What the loop costs: the same town as a tree
 
-Without the cross-connection and the ring pipe from Blotter Row to Vellum Heights the network
+Without the cross-connection and the ring pipe from Tarkwane Row to Glimmerhythe the network
 is branched: the flows follow from the demands and the least-cost design is found exactly by
 mixed-integer programming, with its optimality gap.
 """),

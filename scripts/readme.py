@@ -122,8 +122,8 @@ def error_example() -> str:
 def demo_network_study() -> str:
     """An excerpt of the demo network: one table of each kind, in the file's order."""
     wanted = [("[network]", None), ("[[duty]]", "peak hour"), ("[[source]]", None),
-              ("[[node]]", "Vellum Heights"), ("[[pipe]]", "cross link"),
-              ("[[pipe]]", "old Nibsworth main"), ("[[diameter_option]]", "DN 200")]
+              ("[[node]]", "Glimmerhythe"), ("[[pipe]]", "cross link"),
+              ("[[pipe]]", "old Ombrellin main"), ("[[diameter_option]]", "DN 200")]
     keep = []
     for block in _demo_file("demo_network.toml").split("\n\n"):
         lines = [x for x in block.splitlines() if not x.startswith("#")]

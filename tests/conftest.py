@@ -43,7 +43,7 @@ def colebrook_grid():
 HOSTILE_NAME = ("Quarry <img src=x onerror=alert(1)> ``` \u001b[2J\u001b]0;title\u0007 "
                 "(test, illustrative)")
 HOSTILE_SIZES = (
-    "material,designation,pressure_class,outside_diameter_mm,wall_mm,pressure_rating_bar,"
+    "material,designation,class,outside_diameter_mm,wall_mm,pressure_rating_bar,"
     "provenance\n"
     'pe100,"=HYPERLINK(""http://example.invalid"",""x"")",SDR 17,301,17.8,10,'
     "\"@SUM(1+1)*cmd|' /C calc'!A0\"\n"

@@ -177,6 +177,12 @@ def test_explorer_responds_in_a_real_browser(voila_url, budget):
             before = image.get_attribute("src", timeout=ms())
             status_before = page.locator(".widget-html", has_text="Best:").first.inner_text(
                 timeout=ms())
+            # every control's label whole: none cut off with an ellipsis
+            cut = page.evaluate("() => Array.from(document.querySelectorAll('.widget-label'))"
+                                ".filter(e => e.scrollWidth > e.clientWidth + 1)"
+                                ".map(e => e.textContent)")
+            labels = page.evaluate("() => Array.from(document.querySelectorAll("
+                                   "'.widget-label')).map(e => e.textContent)")
             readout = page.locator(".widget-readout").first      # the energy-price control
             value_before = readout.inner_text(timeout=ms())
             handle = page.locator(".noUi-handle").first
@@ -197,5 +203,6 @@ def test_explorer_responds_in_a_real_browser(voila_url, budget):
             browser.close()
     # the page showed the explorer's status line, and moving the control changed the figure
     assert "EAC" in status_before and "/yr" in status_before
+    assert "wire-to-water efficiency [-]" in labels and cut == [], cut
     assert value_after != value_before, "the energy-price slider did not move"
     assert after != before, "the figure did not change after the energy price was moved"

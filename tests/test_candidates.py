@@ -130,7 +130,7 @@ def test_derated_pe_at_35_degc():
     pe = c[c["material"] == "pe100"]
     # linear between 30 degC (0.87) and 40 degC (0.74): 0.805 (the table, by hand)
     np.testing.assert_allclose(pe["temperature_factor"], 0.805, rtol=1e-12)
-    np.testing.assert_allclose(pe["pfa_bar"], 0.805 * pe["rated_pressure_bar"], rtol=1e-12)
+    np.testing.assert_allclose(pe["pfa_bar"], 0.805 * pe["pressure_rating_bar"], rtol=1e-12)
 
 
 def test_closed_loop_suction_pressure_by_hand():
@@ -145,7 +145,7 @@ def test_closed_loop_suction_pressure_by_hand():
     np.testing.assert_allclose(c["operating_pressure_bar"] * 1e5,
                                10e5 + c["pump_head_max_m"] * rho_g, rtol=1e-13)
     # a 10 bar loop rules out every PN 10 / SDR 17 class, by its PFA
-    weak = c[c["rated_pressure_bar"] <= 10.0]
+    weak = c[c["pressure_rating_bar"] <= 10.0]
     assert not weak["feasible"].any()
     assert weak["reasons"].str.contains("exceeds PFA|exceeds PMA").all()
     assert "MDP" in res.text() and "PMA" in res.text() and "service temperature" in res.text()
@@ -160,15 +160,15 @@ def test_constrained_optimum_sits_on_the_velocity_limit():
         d_limit = np.sqrt(4 * q / (np.pi * vmax))
         if o["limited_by"] == "velocity_max":
             # at the limit, to 1e-6
-            assert o["velocity_max_m_s"] == pytest.approx(vmax, rel=1e-6)
+            assert o["velocity_peak_m_s"] == pytest.approx(vmax, rel=1e-6)
             assert o["inner_diameter_m"] == pytest.approx(d_limit, rel=1e-6)
             assert o["unconstrained_inner_diameter_m"] < o["inner_diameter_m"]
             assert o["unconstrained_eac"] <= o["eac"]
-        assert o["velocity_max_m_s"] <= vmax * (1 + 1e-6)
+        assert o["velocity_peak_m_s"] <= vmax * (1 + 1e-6)
         # the optimum is the least EAC of its class's curve within the limit: a dense scan of
         # the same curve, independent of the minimizer, finds nothing lower
         cls = res.study.candidates
-        cls = cls[(cls["material"] == mat) & (cls["pressure_class"] == o["pressure_class"])]
+        cls = cls[(cls["material"] == mat) & (cls["class"] == o["class"])]
         lo = max(d_limit, cls["inner_diameter_m"].min())
         hi = cls["inner_diameter_m"].max()
         d = np.geomspace(lo, hi, 400)

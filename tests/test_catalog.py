@@ -98,7 +98,7 @@ def test_steel_covers_nps_half_to_48_in_the_schedules():
     sizes = catalog.list_sizes("steel")
     nominal = set(sizes["nominal"])
     assert {"NPS 1/2", "NPS 48"} <= nominal
-    classes = set(sizes["pressure_class"])
+    classes = set(sizes["class"])
     assert {"Sch 10", "STD", "Sch 40", "XS", "Sch 80"} <= classes
 
 
@@ -108,7 +108,7 @@ def test_stainless_b36_19m():
     row = catalog.lookup("stainless-steel", "NPS 4 Sch 10S")
     assert row["outside_diameter_m"] == pytest.approx(0.1143)
     assert row["wall_m"] == pytest.approx(3.05e-3)
-    assert set(catalog.list_sizes("stainless-steel")["pressure_class"]) == {
+    assert set(catalog.list_sizes("stainless-steel")["class"]) == {
         "Sch 5S", "Sch 10S", "Sch 40S", "Sch 80S"}
 
 
@@ -124,7 +124,7 @@ def test_stainless_b36_19m():
     ],
 )
 def test_pe_pn_from_sdr(material, sdr, pn_bar):
-    rows = catalog.list_sizes(material, pressure_class=f"SDR {sdr}")
+    rows = catalog.list_sizes(material, classes=f"SDR {sdr}")
     assert not rows.empty
     np.testing.assert_allclose(rows["pressure_rating_pa"], pn_bar * 1e5)
 
@@ -135,7 +135,7 @@ def test_pe_covers_20_to_1200_mm_and_all_sdr():
         od = sizes["outside_diameter_m"]
         assert od.min() == pytest.approx(0.020) and od.max() == pytest.approx(1.2)
         assert {f"SDR {s}" for s in ("26", "21", "17", "13.6", "11", "9", "7.4")} <= set(
-            sizes["pressure_class"])
+            sizes["class"])
 
 
 @pytest.mark.reference
@@ -171,7 +171,7 @@ def test_ductile_iron_k_classes(dn, k, wall):
 def test_ductile_iron_range_lining_and_rating():
     sizes = catalog.list_sizes("ductile-iron")
     assert {"DN 80", "DN 1200"} <= set(sizes["nominal"])
-    assert set(sizes["pressure_class"]) == {"C25", "C30", "C40", "C50", "C64", "C100"}
+    assert set(sizes["class"]) == {"C25", "C30", "C40", "C50", "C64", "C100"}
     assert (sizes["lining_m"] > 0).all()  # cement-mortar lined
     row = catalog.lookup("ductile-iron", "DN 300 C40")
     # EN 545:2010: class C40 means PFA 40 bar; DN 300 C40 nominal wall 6.2 mm (from memory)
@@ -184,7 +184,7 @@ def test_pvc_range_and_classes():
     sizes = catalog.list_sizes("pvc-u")
     od = sizes["outside_diameter_m"]
     assert od.min() == pytest.approx(0.063) and od.max() == pytest.approx(0.630)
-    assert {"PN 6", "PN 10", "PN 16"} <= set(sizes["pressure_class"])
+    assert {"PN 6", "PN 10", "PN 16"} <= set(sizes["class"])
     # ISO 1452-2 (from memory): 110 PN 16 is SDR 17, minimum wall 6.6 mm
     assert catalog.lookup("pvc-u", "110 PN 16")["wall_m"] == pytest.approx(6.6e-3)
 
@@ -203,7 +203,7 @@ def test_every_bundled_row_is_consistent(material):
     else:
         assert rating.gt(0).all()
     # inner diameter grows with size within a class
-    for _, group in sizes.groupby("pressure_class"):
+    for _, group in sizes.groupby("class"):
         g = group.sort_values("outside_diameter_m")
         assert g["inner_diameter_m"].is_monotonic_increasing
 
@@ -289,15 +289,15 @@ def test_lookup_unknown_names_nearest():
 
 def test_filters_and_units():
     df = catalog.list_sizes("pe100", min_diameter="200 mm", max_diameter="0.3 m",
-                            pressure_class=["SDR 11", "sdr 17"])
+                            classes=["SDR 11", "sdr 17"])
     assert df["inner_diameter_m"].between(0.2, 0.3).all()
-    assert set(df["pressure_class"]) == {"SDR 11", "SDR 17"}
+    assert set(df["class"]) == {"SDR 11", "SDR 17"}
     assert df["inner_diameter_m"].is_monotonic_increasing
     assert list(df.columns) == SIZE_COLUMNS
     with pytest.raises(InputError, match="min_diameter: expected a diameter"):
         catalog.list_sizes("pe100", min_diameter=0.2)
     with pytest.raises(InputError, match="pe100 has no class 'SDR99'"):
-        catalog.list_sizes("pe100", pressure_class="SDR 99")
+        catalog.list_sizes("pe100", classes="SDR 99")
 
 
 @pytest.mark.reference
@@ -344,6 +344,34 @@ def test_user_sizes_with_units_in_cells():
     text = "designation,outside_diameter,wall\nCU 54,54 mm,1.2 mm\nCU 76,3 in,0.065 in\n"
     df = read_sizes(text, material="copper")
     assert df["outside_diameter_m"].iloc[1] == pytest.approx(0.0762)
+
+
+def test_class_column_and_its_old_header():
+    # the class column is "class" (pressure class, SDR, PN or schedule); files written with
+    # the header of earlier versions, "pressure_class", read the same
+    new = read_sizes("designation,class,outside_diameter_mm,wall_mm\nA,SDR 17,110,6.6\n",
+                     material="pe100")
+    old = read_sizes("designation,pressure_class,outside_diameter_mm,wall_mm\nA,SDR 17,110,6.6\n",
+                     material="pe100")
+    assert list(new["class"]) == list(old["class"]) == ["SDR 17"]
+    assert "pressure_class" not in new.columns
+
+
+@pytest.mark.reference
+def test_catalog_listing_has_the_columns_of_a_size_file(capsys):
+    from pipeopt.cli import main
+
+    assert main(["catalog", "steel", "--class", "STD", "--class", "Sch 40",
+                 "--max-diameter", "0.06 m"]) == 0
+    listing = capsys.readouterr().out.split("\n\nsource:")[0].splitlines()
+    # the header is that of a size file (pipeopt.catalog.read_sizes)
+    assert listing[0].split() == ["designation", "class", "outside_diameter_mm", "wall_mm",
+                                  "lining_mm", "inner_diameter_mm", "pressure_rating_bar"]
+    # ASME B36.10M Table 1: NPS 2 STD is 60.3 mm outside, 3.91 mm wall (from memory); the
+    # standard's two decimals are kept, nothing more
+    nps2 = [line.split() for line in listing if line.split()[:3] == ["NPS", "2", "STD"]]
+    assert nps2 and nps2[0][3:8] == ["STD", "60.3", "3.91", "0", "52.48"]
+    assert {line.split()[2] for line in listing[1:]} == {"STD", "Sch"}
 
 
 @pytest.mark.parametrize(

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import contextlib
 import copy
+import datetime
 import io
 import os
 import re
@@ -67,6 +68,8 @@ def _string(value: str) -> str:
 
 
 def _toml(value) -> str:
+    if isinstance(value, datetime.date):   # a TOML local date (TOML v1.0.0, "Local Date")
+        return value.isoformat()
     if isinstance(value, bool):
         return "true" if value else "false"
     if isinstance(value, (int, float)):
@@ -244,7 +247,7 @@ def test_unit_tower_in_a_study_file(tmp_path):
 
 def test_unit_tower_in_a_csv_cell(tmp_path):
     (tmp_path / "sizes.csv").write_text(
-        f"material,designation,pressure_class,outside_diameter,wall_mm\n"
+        f"material,designation,class,outside_diameter,wall_mm\n"
         f"pe100,X 1,SDR 17,{TOWER},10\n", encoding="utf-8")
     study = _study(tmp_path, lambda d: d.update(catalog={"sizes": "sizes.csv"}))
     proc = _cli("run", str(study))

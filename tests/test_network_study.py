@@ -41,7 +41,7 @@ def test_demo_result_tables_and_success(demo_result):
     assert r.total_cost == pytest.approx(r.costs["pv_total"])
     assert r.total_cost > r.costs["capex_pipe"]
     # the spur may only take the four sizes the file allows
-    spur = r.pipes.set_index("pipe").loc["Gallnut spur", "size"]
+    spur = r.pipes.set_index("pipe").loc["Sorvantle spur", "size"]
     assert spur in ("DN 100", "DN 125", "DN 150", "DN 200")
 
 
@@ -158,7 +158,7 @@ def test_hazen_williams_settings_are_read_and_used():
     pr = r.study.problem
     assert pr.hazen_williams == (10.667, 4.871, 1.852)
     # the old main's head loss by the test's own Hazen-Williams at the reported flow
-    row = r.pipes.set_index("pipe").loc["old Nibsworth main"]
+    row = r.pipes.set_index("pipe").loc["old Ombrellin main"]
     h = hw_head_loss(row["flow_m3_s"], 850.0, 0.15, 90.0, 10.667, 1.852, 4.871)
     assert row["head_loss_m"] == pytest.approx(h, rel=1e-9)
 
@@ -193,9 +193,9 @@ _DELETE = object()
         (("network", "head_los"), "x", r"network\.head_los: unknown key; did you mean "
                                         r"'network\.head_loss'"),
         (("network", "head_loss"), "manning", r"network\.head_loss: must be one of"),
-        (("pipe", 1, "to"), "Inkwell Sqare", r"pipe\[1\]\.to: no node or source is named "
-                                            r"'Inkwell Sqare'; did you mean 'Inkwell Square'"),
-        (("node", 1, "name"), "Quill Cross", r"'Quill Cross' is used twice"),
+        (("pipe", 1, "to"), "Vexholt Sqare", r"pipe\[1\]\.to: no node or source is named "
+                                            r"'Vexholt Sqare'; did you mean 'Vexholt Square'"),
+        (("node", 1, "name"), "Quillmere Cross", r"'Quillmere Cross' is used twice"),
         (("economics",), _DELETE, r"economics: required section \[economics\] is missing"),
         (("diameter_option", 0, "cost_per_metre"), 90.0, r"diameter_option\[0\]: give "
                                                          r"cost_per_metre .* one of the two"),
@@ -229,8 +229,8 @@ def test_study_file_errors_name_the_key(path, value, match):
 
 def test_a_second_source_next_to_a_free_pump_is_refused():
     d = demo_dict()
-    d["source"].append({"name": "Blotting tank", "head": "95 m"})
-    d["pipe"].append({"name": "tank main", "from": "Blotting tank", "to": "Vellum Heights",
+    d["source"].append({"name": "Zelvadine tank", "head": "95 m"})
+    d["pipe"].append({"name": "tank main", "from": "Zelvadine tank", "to": "Glimmerhythe",
                       "length": "600 m"})
     with pytest.raises(StudyFileError, match="a pumped source without a head may only feed"):
         NetworkStudy.from_dict(d)
@@ -238,15 +238,15 @@ def test_a_second_source_next_to_a_free_pump_is_refused():
 
 def test_topology_errors_reach_the_user_with_names():
     d = gravity_dict()
-    d["node"].append({"name": "Quire End", "elevation": "40 m", "demand": "1 L/s"})
-    with pytest.raises(StudyFileError, match="Quire End: is disconnected"):
+    d["node"].append({"name": "Yarrowquin End", "elevation": "40 m", "demand": "1 L/s"})
+    with pytest.raises(StudyFileError, match="Yarrowquin End: is disconnected"):
         NetworkStudy.from_dict(d)
     d = gravity_dict()
-    d["node"] += [{"name": "Ferrule Row", "elevation": "40 m", "demand": "1 L/s"},
-                  {"name": "Ferrule Lane", "elevation": "40 m", "demand": "1 L/s"}]
-    d["pipe"].append({"name": "island", "from": "Ferrule Row", "to": "Ferrule Lane",
+    d["node"] += [{"name": "Quistlemoor Row", "elevation": "40 m", "demand": "1 L/s"},
+                  {"name": "Quistlemoor Lane", "elevation": "40 m", "demand": "1 L/s"}]
+    d["pipe"].append({"name": "island", "from": "Quistlemoor Row", "to": "Quistlemoor Lane",
                       "length": "90 m"})
-    with pytest.raises(StudyFileError, match="Ferrule Row: has no path to any source"):
+    with pytest.raises(StudyFileError, match="Quistlemoor Row: has no path to any source"):
         NetworkStudy.from_dict(d)
 
 

@@ -71,7 +71,7 @@ def test_cumulative_cash_flow():
     ax = plots.cumulative_cash_flow(res)
     assert len(ax.get_lines()) >= 3 and "EUR" in ax.get_ylabel()
     assert ax.get_xlabel() == "study year [yr]"
-    assert any("pays back" in t.get_text() for t in ax.texts)
+    assert any("discounted payback" in t.get_text() for t in ax.texts)
     plt.close(ax.figure)
 
 
@@ -163,3 +163,89 @@ def test_profile_of_a_long_line():
     plt.close(fig)
     with pytest.raises(ValueError, match="long line"):
         plots.profile(SizingStudy.demo().run())
+
+
+# ------------------------------------------------------------------------------------------
+# figures a reviewer can read: parts that add up, whole titles, legends off the data
+# ------------------------------------------------------------------------------------------
+def test_cost_curve_parts_add_up_to_the_total_at_every_diameter(demo):
+    import numpy as np
+
+    _, result, _ = demo
+    ax = plots.cost_curves(result)
+    lines = {line.get_gid(): line for line in ax.get_lines() if line.get_gid()}
+    b = result.best
+    total = lines[f"total:{b['material']}:{b['class']}"]
+    parts = [line for gid, line in lines.items() if gid.startswith("part:")]
+    drawn = {gid.split(":", 1)[1] for gid in lines if gid.startswith("part:")}
+    # the demo has capital, energy, maintenance, station renewals and a residual credit
+    assert {"eac_capital", "eac_energy", "eac_maintenance", "eac_renewal",
+            "eac_residual"} <= drawn
+    x = np.asarray(total.get_xdata(), dtype=float)
+    for line in parts:
+        np.testing.assert_array_equal(np.asarray(line.get_xdata(), dtype=float), x)
+    summed = np.sum([np.asarray(line.get_ydata(), dtype=float) for line in parts], axis=0)
+    np.testing.assert_allclose(summed, np.asarray(total.get_ydata(), dtype=float), rtol=1e-12)
+    # the total drawn is the table's EAC of every size of that class (nothing left out)
+    rows = result.candidates[(result.candidates["material"] == b["material"])
+                             & (result.candidates["class"] == b["class"])]
+    assert len(x) == len(rows)
+    np.testing.assert_allclose(np.sort(np.asarray(total.get_ydata(), dtype=float)),
+                               np.sort(rows["eac"].to_numpy()), rtol=1e-15)
+    assert min(np.asarray(lines["part:eac_residual"].get_ydata())) < 0  # a credit, drawn below
+    assert ax.get_ylim()[0] < 0
+    plt.close(ax.figure)
+
+
+def _every_figure(demo):
+    study, result, mc = demo
+    up = UpgradeStudy.demo()
+    return [plots.cost_curves(result), plots.cost_breakdown(result),
+            plots.velocity_head(result), plots.friction_chart(result),
+            plots.tornado_chart(study.tornado()), plots.tornado_chart(up.tornado()),
+            plots.probability_cheapest(mc), plots.eac_distributions(mc),
+            plots.cumulative_cash_flow(up.run())]
+
+
+def test_titles_are_whole_and_legends_off_the_data(demo):
+    from matplotlib.text import Text
+
+    for ax in _every_figure(demo):
+        fig = ax.figure
+        plots.figure_png(fig, dpi=110, everything=True)        # as the report draws it
+        renderer = fig.canvas.get_renderer()
+        width, height = fig.canvas.get_width_height(physical=True)
+        titles = [t for t in ax.get_children() if isinstance(t, Text)
+                  and t.get_gid() == plots.TITLE_GID]
+        assert len(titles) == 1, ax.get_title(loc="left")
+        box = titles[0].get_window_extent(renderer)
+        assert 0 <= box.x0 and box.x1 <= width and 0 <= box.y0 and box.y1 <= height, \
+            (titles[0].get_text(), box, width)
+        legend = ax.get_legend()
+        if legend is not None:
+            lbox = legend.get_window_extent(renderer)
+            inside = ax.get_window_extent(renderer)
+            # the legend lies outside the axes, whole within the figure
+            assert not lbox.overlaps(inside), titles[0].get_text()
+            assert 0 <= lbox.x0 and lbox.x1 <= width and 0 <= lbox.y0 and lbox.y1 <= height
+            assert not lbox.overlaps(ax.xaxis.label.get_window_extent(renderer))
+        plt.close(fig)
+
+
+def test_a_title_too_long_for_its_figure_moves_left_then_wraps():
+    from matplotlib.text import Text
+
+    fig, ax = plt.subplots(figsize=(3.0, 2.5))
+    ax.plot([0, 1], [0, 1])
+    ax.set_yticks([0, 1], ["a very long tick label", "another long one"])
+    plots._style(ax, "A title far longer than the narrow figure it belongs to can hold")
+    plots.figure_png(fig, dpi=100, everything=True)
+    renderer = fig.canvas.get_renderer()
+    width = fig.canvas.get_width_height(physical=True)[0]
+    title = [t for t in ax.get_children() if isinstance(t, Text)
+             and t.get_gid() == plots.TITLE_GID][0]
+    box = title.get_window_extent(renderer)
+    assert box.x0 >= 0 and box.x1 <= width and "\n" in title.get_text()
+    assert " ".join(title.get_text().split()) == ("A title far longer than the narrow figure "
+                                                 "it belongs to can hold")
+    plt.close(fig)

@@ -88,7 +88,7 @@ def test_grade_line_of_three_sections_equals_hand_calculation():
     b = res.best
     assert b["pump_head_m"] == pytest.approx(head[0] - 100.0, rel=1e-12)
     assert b["head_loss_m"] == pytest.approx(sum(loss), rel=1e-12)
-    assert b["pump_power_kw"] == pytest.approx(1000 * G * q * (head[0] - 100.0) / 0.8 / 1000,
+    assert b["electrical_power_kw"] == pytest.approx(1000 * G * q * (head[0] - 100.0) / 0.8 / 1000,
                                                rel=1e-12)
     st = res.stations
     assert list(st["station"]) == ["head station"]

@@ -40,8 +40,12 @@ def test_sizing_report_contents(sizing_report):
     assert (out / "figures" / "cost_curves.png").is_file()
     book = openpyxl.load_workbook(out / "workbook.xlsx")
     assert {"candidates", "optimum", "inputs", "verification"} <= set(book.sheetnames)
-    units = [c.value for c in book["inputs"]["D"]]
-    assert "m" in units and "m³/h" in units
+    header = [c.value for c in book["inputs"][1]]
+    assert header == ["key", "value", "unit"]
+    rows = {r[0]: r[1:] for r in book["inputs"].iter_rows(min_row=2, values_only=True)}
+    # inputs are numbers in the units people read, beside their unit (demo_sizing.toml)
+    assert rows["line.length"] == (4.6, "km") and rows["duty[1].flow"] == (520, "m³/h")
+    assert rows["fluid.temperature"] == (12, "°C")
     assert not list(out.rglob("*.tmp"))
 
 
@@ -59,8 +63,46 @@ def test_reports_are_deterministic(tmp_path):
 def test_upgrade_report(tmp_path):
     write_report(UpgradeStudy.demo().run(), tmp_path, verification=False)
     book = openpyxl.load_workbook(tmp_path / "workbook.xlsx")
-    assert {"summary", "cash_flows", "inputs"} <= set(book.sheetnames)
-    assert "cumulative_cash_flow" in (tmp_path / "report.html").read_text(encoding="utf-8")
+    assert {"summary", "cash_flows", "inputs", "derived", "tornado"} <= set(book.sheetnames)
+    page = (tmp_path / "report.html").read_text(encoding="utf-8")
+    assert "cumulative_cash_flow" in page and "figure-tornado" in page
+    rows = {r[0]: r[1:] for r in book["inputs"].iter_rows(min_row=2, values_only=True)}
+    # the upgrade study's own inputs, as demo_upgrade.toml gives them
+    assert rows["existing.static_head"] == (22, "m")
+    assert rows["existing.field_test.upstream_pressure"] == (4.6, "bar")
+    assert rows["existing.field_test.length"] == (1.2, "km")
+    assert rows["pumping.efficiency"][0] > 0 and rows["energy.escalation"][1] == "1/yr"
+    assert rows["energy.demand_charge"][1] == "EUR/(kW yr)"
+    assert rows["growth.flow_per_year"][1] == "1/yr"
+    assert rows["existing.leakage_cost"] == (12000, "EUR/yr")
+    assert rows["option[1].cost_per_metre"] == (520, "EUR/m")
+    assert rows["option[0].liner_thickness"] == (6, "mm")
+    derived = {r[0]: r[1:3] for r in book["derived"].iter_rows(min_row=2, values_only=True)}
+    # back-calculated, so a derived value, not an input
+    assert derived["existing roughness now"][1] == "mm"
+    assert "existing.roughness" not in rows or rows["existing.roughness"][0] is None
+
+
+def test_workbook_numbers_formats_units_and_frozen_headers(sizing_report):
+    book = openpyxl.load_workbook(sizing_report / "workbook.xlsx")
+    sheet = book["candidates"]
+    names = [c.value for c in sheet[1]]
+    units = dict(zip(names, [c.value for c in sheet[2]], strict=True))
+    assert sheet.freeze_panes == "A3"                       # names and units stay in view
+    assert units["eac"] == "EUR/yr" and units["capex_pipe"] == "EUR"
+    assert units["inner_diameter_m"] == "m" and units["mdp_bar"] == "bar"
+    assert units["material"] is None                        # text has no unit
+    row = dict(zip(names, sheet[3], strict=True))
+    assert isinstance(row["eac"].value, float) and row["eac"].number_format == "#,##0"
+    assert isinstance(row["velocity_m_s"].value, float)
+    widths = [sheet.column_dimensions[c].width for c in ("A", "B", "D")]
+    assert all(w >= 8 for w in widths)
+    yearly = book["yearly_best"]
+    assert [c.value for c in yearly[1]][:2] == ["year", "flow_multiplier"]
+    assert "energy_cost" in [c.value for c in yearly[1]]
+    inputs = book["inputs"]
+    assert inputs.freeze_panes == "A2" and [c.value for c in inputs[1]] == ["key", "value",
+                                                                           "unit"]
 
 
 def test_out_folder_is_not_overwritten_without_force(tmp_path, capsys):
@@ -220,3 +262,218 @@ def test_set_patterns_name_every_file_a_report_may_write(sizing_report, tmp_path
     names = [p.relative_to(folder).as_posix() for folder in (sizing_report, tmp_path)
              for p in folder.rglob("*") if p.is_file() and p.name != "manifest.json"]
     assert names and all(any(fnmatch.fnmatchcase(n, p) for p in SET_PATTERNS) for n in names)
+
+
+# ------------------------------------------------------------------------------------------
+# the printed report: PDF export (WeasyPrint) and the HTML printed by headless Chromium
+# ------------------------------------------------------------------------------------------
+#: Seconds for any one printing test (a hard deadline: faulthandler ends a hung process).
+PRINT_DEADLINE = 600
+#: Page sizes [pt]: ISO 216 A4 210 x 297 mm, US Letter 8.5 x 11 in (by definition).
+PAPER_POINTS = {"A4": (595.28, 841.89), "Letter": (612.0, 792.0)}
+
+
+@pytest.fixture()
+def deadline():
+    import faulthandler
+
+    faulthandler.dump_traceback_later(PRINT_DEADLINE, exit=True)
+    try:
+        yield
+    finally:
+        faulthandler.cancel_dump_traceback_later()
+
+
+def _needs_pdf():
+    pytest.importorskip("pypdfium2", reason="pypdfium2 is not installed (the test extra)")
+    from pipeopt.errors import InputError
+    from pipeopt.report import check_pdf
+
+    try:
+        check_pdf()
+    except InputError as exc:  # the Pango library is missing: .ci/run installs it
+        pytest.skip(str(exc))
+
+
+def _squash(text: str) -> str:
+    return re.sub(r"\s+", "", text)
+
+
+def _tables(page: str) -> list[tuple[str, list[str], list[str]]]:
+    """(title, column headers, first cells of the last row) of every table of the report."""
+    import html as _html
+
+    out = []
+    for body in re.findall(r"<section class='block[^']*'[^>]*>(.*?)</section>", page, re.S):
+        title = _html.unescape(re.search(r"<h3>(.*?)</h3>", body, re.S).group(1))
+        head = re.search(r"<thead><tr>(.*?)</tr></thead>", body, re.S).group(1)
+        headers = [_html.unescape(h) for h in re.findall(r"<th[^>]*>(.*?)</th>", head, re.S)]
+        last = re.findall(r"<tr[^>]*>(.*?)</tr>", body.split("<tbody>")[1], re.S)[-1]
+        cells = [_html.unescape(c) for c in re.findall(r"<td[^>]*>(.*?)</td>", last, re.S)]
+        out.append((title, headers, cells[:1]))
+    return out
+
+
+def _check_printed(pdf: bytes, page: str, paper: str) -> list[str]:
+    """The checks of a printed report; returns the text of its pages."""
+    import numpy as np
+    import pypdfium2 as pdfium
+
+    doc = pdfium.PdfDocument(pdf)
+    n = len(doc)
+    texts, squashed = [], []
+    for i in range(n):
+        p = doc[i]
+        w, h = p.get_size()
+        # within 0.5 mm (Chromium sizes A4 as 8.27 x 11.7 in)
+        assert (w, h) == pytest.approx(PAPER_POINTS[paper], abs=1.5), (paper, w, h)
+        text = p.get_textpage().get_text_range()
+        texts.append(text)
+        squashed.append(_squash(text))
+        # rendered at 72 dpi (1 px per pt): the side margins (14 mm, 39.7 pt) hold nothing,
+        # so no table or figure runs past the printable width and nothing is clipped
+        image = np.asarray(p.render(scale=1).to_pil().convert("L"))
+        assert image[:, :30].min() >= 245 and image[:, -30:].min() >= 245, (paper, i + 1)
+        # page numbers from the print stylesheet
+        assert f"Page{i + 1}of{n}" in squashed[i], (paper, i + 1)
+    # a sensible length: title, results, figures, inputs (10 to 12 pages for the demos)
+    assert 6 <= n <= 20, n
+    everything = "".join(squashed)
+    for title, headers, last in _tables(page):
+        where = [i for i, t in enumerate(squashed) if _squash(title) in t]
+        assert where, title
+        near = "".join(squashed[where[0]:where[0] + 2])
+        missing = [h for h in headers if _squash(h) not in near]
+        assert not missing, (paper, title, missing)          # every column on the page
+        assert _squash(last[0]) in everything, (paper, title)  # the table ends in the file
+    words = " ".join(texts)
+    assert not re.search(r"\bnan\b", words, re.IGNORECASE)     # "-" where nothing is known
+    assert not re.search(r"\d\.\d{7,}", words)                   # no raw floats
+    return texts
+
+
+@pytest.fixture(scope="module")
+def printed(tmp_path_factory):
+    """The sizing demo with a title block, and the upgrade demo, written with --pdf."""
+    _needs_pdf()
+    folder = tmp_path_factory.mktemp("printed")
+    study = SizingStudy.demo().replace(author="A. Engineer", revision="C",
+                                       date="2026-03-01")
+    write_report(study.run(), folder / "sizing", pdf=True)
+    write_report(UpgradeStudy.demo().run(), folder / "upgrade", verification=False,
+                 pdf=True, paper="Letter")
+    return folder
+
+
+@pytest.mark.slow
+def test_pdf_export_prints_every_table_whole(printed, deadline):
+    from pipeopt.report import CAUTIONS
+
+    texts = {}
+    for kind, paper in (("sizing", "A4"), ("upgrade", "Letter")):
+        page = (printed / kind / "report.html").read_text(encoding="utf-8")
+        texts[kind] = _check_printed((printed / kind / "report.pdf").read_bytes(), page, paper)
+        first = _squash(texts[kind][0])
+        assert _squash(CAUTIONS[0][:60]) in first and "ILLUSTRATIVE" in texts[kind][0]
+        assert "studyaid" not in _squash("".join(texts[kind])).lower()
+    sizing = texts["sizing"]
+    first = _squash(sizing[0])
+    # the title block: study, author, revision, date from the [study] keys
+    assert "AuthorA.Engineer" in first and "RevisionC" in first and "Date2026-03-01" in first
+    assert "Rev.C-2026-03-01" in first                     # the running head
+    # money with thousands separators and the currency
+    assert "215,028" in "".join(sizing) and "[EUR/yr]" in "".join(sizing)
+
+
+@pytest.mark.slow
+def test_pdf_export_is_reproducible(printed):
+    from pipeopt.report import pdf_from_html
+
+    page = (printed / "upgrade" / "report.html").read_text(encoding="utf-8")
+    assert pdf_from_html(page, "Letter") == (printed / "upgrade" / "report.pdf").read_bytes()
+
+
+@pytest.mark.slow
+def test_html_report_printed_by_chromium(printed, deadline):
+    # the HTML itself, printed as a reader would print it from a browser, on A4 and Letter
+    import shutil
+
+    chromium = shutil.which("chromium")
+    if chromium is None:
+        pytest.skip("no Chromium browser on this machine (Debian package 'chromium')")
+    sync_api = pytest.importorskip("playwright.sync_api", reason="Playwright is not installed")
+    scrolling = ("() => Array.from(document.querySelectorAll('*')).filter(e => {"
+                 "const s = getComputedStyle(e); return ['auto', 'scroll'].includes(s.overflowX)"
+                 " || ['auto', 'scroll'].includes(s.overflowY)}).map(e => e.tagName)")
+    timeout = PRINT_DEADLINE * 1000 / 4
+    with sync_api.sync_playwright() as pw:
+        browser = pw.chromium.launch(executable_path=chromium, headless=True, timeout=timeout,
+                                     args=["--no-sandbox", "--disable-gpu",
+                                           "--disable-background-networking"])
+        try:
+            for kind in ("sizing", "upgrade"):
+                html_file = printed / kind / "report.html"
+                page = browser.new_page(viewport={"width": 1000, "height": 800})
+                page.set_default_timeout(timeout)
+                page.goto(html_file.as_uri(), wait_until="load", timeout=timeout)
+                on_screen = page.evaluate(scrolling)
+                wide = page.evaluate("() => document.documentElement.scrollWidth")
+                page.emulate_media(media="print")
+                in_print = page.evaluate(scrolling)
+                pdfs = {paper: page.pdf(format=paper, prefer_css_page_size=False)
+                        for paper in ("A4", "Letter")}
+                page.close()
+                # no scroll boxes, on screen or in print, and nothing wider than the window
+                assert on_screen == [] and in_print == [] and wide <= 1000, kind
+                for paper, pdf in pdfs.items():
+                    _check_printed(pdf, html_file.read_text(encoding="utf-8"), paper)
+        finally:
+            browser.close()
+
+
+# ------------------------------------------------------------------------------------------
+# the yearly cash flows of the report reconcile to the present value
+# ------------------------------------------------------------------------------------------
+@pytest.mark.reference
+def test_yearly_cash_flows_reconcile_to_the_present_value():
+    import numpy as np
+
+    from pipeopt.report import yearly_check
+
+    res = SizingStudy.demo().run()
+    rate = res.study.economics.discount_rate
+    for index, row in res.candidates.iterrows():           # every candidate, not only the best
+        y = res.yearly(index)
+        money = ["capital_pipe", "capital_station", "station_renewal", "energy_cost",
+                 "maintenance", "carbon", "residual"]
+        np.testing.assert_allclose(y[money].sum(axis=1), y["total"], rtol=1e-12, atol=1e-6)
+        # discounting written out here: (1 + i)^-t at the study's real rate (by definition)
+        pv = float((y["total"] / (1.0 + rate) ** y["year"]).sum())
+        assert pv == pytest.approx(row["pv_total"], rel=1e-9)
+        check = yearly_check(y, row["pv_total"])
+        assert abs(check["difference"]) <= 1e-9 * abs(row["pv_total"])
+        assert y["capital_pipe"].iloc[0] == pytest.approx(row["capex_pipe"], rel=1e-12)
+        assert y["residual"].iloc[-1] <= 0 and (y["capital_pipe"].iloc[1:] == 0).all()
+    up = UpgradeStudy.demo().run()
+    rate = up.study.economics.discount_rate
+    for option, g in up.cash_flows.groupby("option"):
+        pv = float((g["total"] / (1.0 + rate) ** g["year"]).sum())
+        expected = float(up.summary.set_index("option").loc[option, "pv_cost"])
+        assert pv == pytest.approx(expected, rel=1e-9)
+        assert abs(yearly_check(g, expected)["difference"]) <= 1e-9 * expected
+
+
+def test_report_shows_the_check_rows():
+    from pipeopt.report import report_html
+
+    res = SizingStudy.demo().run()
+    page = report_html(res)
+    pv = f"{res.best['pv_total']:,.0f}"
+    block = page.split("id='yearly'")[1].split("</section>")[0]
+    sums = re.findall(r"<tr class='check'>(.*?)</tr>", block)
+    assert len(sums) == 3
+    cells = re.findall(r"<td[^>]*>(.*?)</td>", sums[0])
+    assert cells[0] == "sum" and cells[-1] == pv                  # the discounted column
+    assert re.findall(r"<td[^>]*>(.*?)</td>", sums[1])[-1] == pv   # the present value
+    difference = float(re.findall(r"<td[^>]*>(.*?)</td>", sums[2])[-1])
+    assert abs(difference) <= 1e-9 * res.best["pv_total"]

@@ -62,7 +62,7 @@ def bore_power_law_table(material: str, pressure_class: str, a: float, m: float)
     closed form), for every size of one class."""
     from pipeopt import catalog
 
-    sizes = catalog.list_sizes(material, pressure_class=pressure_class)
+    sizes = catalog.list_sizes(material, classes=pressure_class)
     return {"table": {d: a * b**m for d, b in zip(sizes["designation"],
                                                    sizes["inner_diameter_m"], strict=True)}}
 
@@ -122,7 +122,8 @@ def test_higher_energy_price_never_gives_smaller_optimum(p1, p2):
 # the result
 # ------------------------------------------------------------------------------------------
 REQUIRED = ["material", "size", "inner_diameter_m", "roughness_m", "velocity_m_s", "reynolds",
-            "friction_factor", "head_loss_m", "pump_power_kw", "energy_kwh_year1", "capex_pipe",
+            "friction_factor", "head_loss_m", "electrical_power_kw", "energy_kwh_year1",
+            "capex_pipe",
             "capex_pump_station", "pv_energy", "pv_maintenance", "pv_total", "eac", "feasible",
             "reasons"]
 
@@ -152,7 +153,7 @@ def test_infeasible_candidates_stay_with_reasons():
     bad = res.candidates[~res.candidates["feasible"]]
     assert not bad.empty and (bad["reasons"] != "").all()
     fast = bad[bad["reasons"].str.contains("exceeds velocity_max")]
-    assert (fast["velocity_max_m_s"] > 2.5).all()
+    assert (fast["velocity_peak_m_s"] > 2.5).all()
     slow = bad[bad["reasons"].str.contains("below velocity_min")]
     assert (slow["velocity_m_s"] < 0.5).all()
 
@@ -173,7 +174,7 @@ def test_pressure_check_uses_joukowsky_or_allowance():
     res2 = study_from().run()
     c2 = res2.candidates
     wave = res2.study.candidates["wave_speed_m_s"]
-    np.testing.assert_allclose(c2["surge_head_m"], wave * c2["velocity_max_m_s"] / 9.80665)
+    np.testing.assert_allclose(c2["surge_head_m"], wave * c2["velocity_peak_m_s"] / 9.80665)
 
 
 def test_no_feasible_candidate_is_reported_not_raised():
@@ -257,11 +258,30 @@ def test_aging_and_growth_raise_energy_over_the_years():
          r"equipment\[0\]\.at: a chainage needs a long line"),
         ({"line": {"length": "2 km", "static_head": "0 m", "cover": "1 m"}},
          r"line\.cover: needs a ground profile"),
+        ({"fluid": {"kind": "water", "temperature": "15 C"}},
+         r"fluid\.temperature: '15 C': write degC for degrees Celsius"),
+        ({"carbon": {"grid_factor": 0.25, "price": 80.0}},
+         r"carbon\.grid_factor: expected an emission factor .* such as '0\.25 kg/kWh', got "
+         r"0\.25 with no unit"),
+        ({"carbon": {"grid_factor": "0.25 kg", "price": 80.0}},
+         r"carbon\.grid_factor: expected an emission factor"),
+        ({"study": {"name": "x", "author": 3}}, r"study\.author: expected text"),
     ],
 )
 def test_study_errors(changes, match):
     with pytest.raises(StudyFileError, match=match):
         study_from(**changes)
+
+
+def test_study_labels_and_grid_factor_units():
+    import datetime
+
+    st = study_from(study={"name": "check", "currency": "EUR", "author": "A. Engineer",
+                           "revision": "B", "date": datetime.date(2026, 3, 1)},
+                    carbon={"grid_factor": "250 g/kWh", "price": 80.0})
+    assert (st.info.author, st.info.revision, st.info.date) == ("A. Engineer", "B", "2026-03-01")
+    assert st.scenario.grid_factor == pytest.approx(0.25, rel=1e-15)   # kg CO2e per kWh
+    assert study_from().info.date == ""          # never the clock
 
 
 def test_study_error_is_input_error_and_value_error():

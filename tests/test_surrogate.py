@@ -140,7 +140,7 @@ def test_series_path_equals_direct_path(seed, g_hi, ff, static, demand, carbon):
     m = copy.deepcopy(DEMO_MAP)
     m["line"]["static_head"] = f"{static} m"
     m["energy"]["demand_charge"] = demand
-    m.setdefault("carbon", {}).update({"grid_factor": 0.3, "price": carbon})
+    m.setdefault("carbon", {}).update({"grid_factor": "0.3 kg/kWh", "price": carbon})
     st = SizingStudy.from_dict(m)
     rng = np.random.default_rng(seed)
     n = 7

@@ -136,3 +136,18 @@ def test_magnitudes_are_bounded():
     with pytest.raises(InputError, match="beyond the accepted magnitude"):
         to_si("-2e12 Pa", "pressure", "f")
     assert to_si("1e13 m", "length", "f", limit=None) == 1e13
+
+
+@pytest.mark.parametrize(("text", "right"), [("15 C", "degC"), ("15 deg C", "degC"),
+                                             ("59 F", "degF"), ("15 c", "degC")])
+def test_a_letter_for_a_temperature_unit_says_how_to_write_it(text, right):
+    # pint reads C as the coulomb and F as the farad; the message says what to write instead
+    with pytest.raises(InputError, match=rf"fluid\.temperature: '{text}': write {right}"):
+        to_si(text, "temperature", "fluid.temperature")
+    assert to_si("15 degC", "temperature", "fluid.temperature") == pytest.approx(288.15)
+
+
+def test_emission_factor_kind():
+    assert to_si("250 g/kWh", "emission_factor", "carbon.grid_factor") == pytest.approx(0.25)
+    with pytest.raises(InputError, match="expected an emission factor"):
+        to_si("0.25 kg", "emission_factor", "carbon.grid_factor")

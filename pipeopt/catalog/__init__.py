@@ -33,7 +33,7 @@ Examples
 >>> row["designation"], round(float(row["inner_diameter_m"]), 4)
 ('315 SDR 17', 0.2776)
 >>> catalog.list_sizes("ductile-iron", min_diameter="0.3 m", max_diameter="0.41 m",
-...                    pressure_class="C40")["designation"].tolist()
+...                    classes="C40")["designation"].tolist()
 ['DN 300 C40', 'DN 350 C40', 'DN 400 C40']
 """
 
@@ -75,7 +75,7 @@ __all__ = [
 ]
 
 #: Columns of a size table, all SI.
-SIZE_COLUMNS = ["material", "designation", "nominal", "pressure_class", "outside_diameter_m",
+SIZE_COLUMNS = ["material", "designation", "nominal", "class", "outside_diameter_m",
                 "wall_m", "lining_m", "inner_diameter_m", "pressure_rating_pa", "rating_basis",
                 "provenance"]
 
@@ -308,7 +308,8 @@ def read_sizes(source: Any, material: str | None = None, name: str = "sizes file
     ----------
     source : path, CSV text or DataFrame
         Columns ``designation``, ``outside_diameter``, ``wall`` and optionally ``material``,
-        ``nominal``, ``pressure_class``, ``lining``, ``pressure_rating``, ``provenance``. A
+        ``nominal``, ``class`` (the pressure class, SDR, PN or schedule; the old header
+        ``pressure_class`` is read too), ``lining``, ``pressure_rating``, ``provenance``. A
         dimensional column either carries its unit in its name (``outside_diameter_mm``,
         ``pressure_rating_bar``) or every cell carries one (``"114.3 mm"``).
     material : str, optional
@@ -333,7 +334,7 @@ def read_sizes(source: Any, material: str | None = None, name: str = "sizes file
     if "designation" not in cols:
         raise InputError(f"{name}: missing column 'designation' (a size file has the columns "
                          f"designation, outside_diameter_mm, wall_mm and optionally material, "
-                         f"nominal, pressure_class, lining_mm, pressure_rating_bar, provenance)")
+                         f"nominal, class, lining_mm, pressure_rating_bar, provenance)")
     if "material" not in cols and material is None:
         raise InputError(f"{name}: missing column 'material' (or pass material=...)")
     found = {}
@@ -384,7 +385,7 @@ def read_sizes(source: Any, material: str | None = None, name: str = "sizes file
         rows.append({
             "material": mat, "designation": designation,
             "nominal": str(rec.get("nominal", "")).strip() or designation,
-            "pressure_class": str(rec.get("pressure_class", "")).strip(),
+            "class": str(rec.get("class", rec.get("pressure_class", ""))).strip(),
             "outside_diameter_m": od, "wall_m": wall, "lining_m": lining,
             "inner_diameter_m": inner,
             "pressure_rating_pa": np.nan if rating is None else rating,
@@ -599,7 +600,7 @@ class Catalog:
 
     # ----- sizes ----------------------------------------------------------------------------
     def sizes(self, material: str, min_diameter: Any = None, max_diameter: Any = None,
-              pressure_class: str | list[str] | None = None,
+              classes: str | list[str] | None = None,
               designations: list[str] | None = None) -> pd.DataFrame:
         """Sizes of one material, sorted by inner diameter, filtered.
 
@@ -609,8 +610,9 @@ class Catalog:
             Material key.
         min_diameter, max_diameter : str or pint.Quantity, optional
             Inner-diameter range, e.g. ``"0.15 m"`` (inclusive).
-        pressure_class : str or list of str, optional
-            Keep only these classes (``"C40"``, ``"SDR 17"``, ``"Sch 40"``, ``"PN 10"``).
+        classes : str or list of str, optional
+            Keep only these classes (the ``class`` column: pressure class, SDR, PN or
+            schedule), e.g. ``"C40"``, ``"SDR 17"``, ``"Sch 40"``, ``"PN 10"``.
         designations : list of str, optional
             Keep only these designations (parsed forgivingly; an unknown one is an error).
 
@@ -630,16 +632,16 @@ class Catalog:
         if max_diameter is not None:
             df = df[df["inner_diameter_m"] <= to_si(max_diameter, "diameter", "max_diameter")
                     + 1e-12]
-        if pressure_class is not None:
-            wanted = [pressure_class] if isinstance(pressure_class, str) else list(pressure_class)
+        if classes is not None:
+            wanted = [classes] if isinstance(classes, str) else list(classes)
             norm = {_normalize(c) for c in wanted}
             known = {_normalize(c) for c in self._sizes.loc[
-                self._sizes["material"] == material, "pressure_class"]}
+                self._sizes["material"] == material, "class"]}
             unknown = norm - known
             if unknown:
-                raise InputError(f"pressure_class: {material} has no class "
+                raise InputError(f"classes: {material} has no class "
                                  f"{sorted(unknown)[0]!r}; classes: {sorted(known)}")
-            df = df[df["pressure_class"].map(_normalize).isin(norm)]
+            df = df[df["class"].map(_normalize).isin(norm)]
         if designations is not None:
             idx = [self._locate(material, d) for d in designations]
             df = self._sizes.loc[idx]
@@ -789,9 +791,9 @@ def list_materials() -> pd.DataFrame:
 
 
 def list_sizes(material: str, min_diameter: Any = None, max_diameter: Any = None,
-               pressure_class: str | list[str] | None = None) -> pd.DataFrame:
+               classes: str | list[str] | None = None) -> pd.DataFrame:
     """Sizes of a bundled material (see :meth:`Catalog.sizes`)."""
-    return default_catalog().sizes(material, min_diameter, max_diameter, pressure_class)
+    return default_catalog().sizes(material, min_diameter, max_diameter, classes)
 
 
 def lookup(material: str, designation: str) -> pd.Series:

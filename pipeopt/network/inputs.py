@@ -18,9 +18,9 @@ unit and rule in one spec: :class:`NetworkSettings` (``[network]``), :class:`Opt
 
 Examples
 --------
->>> round(Node("Quill Cross", "44 m", "4 L/s", "25 m").demand * 1000, 9)  # L/s
+>>> round(Node("Quillmere Cross", "44 m", "4 L/s", "25 m").demand * 1000, 9)  # L/s
 4.0
->>> Node("Quill Cross", 44, "4 L/s")  # doctest: +ELLIPSIS
+>>> Node("Quillmere Cross", 44, "4 L/s")  # doctest: +ELLIPSIS
 Traceback (most recent call last):
 ...
 pipeopt.errors.InputError: node.elevation: expected a head ... such as '24 m', got 44 with no unit

@@ -22,6 +22,7 @@ matplotlib.use("Agg", force=False)
 import matplotlib.pyplot as plt  # noqa: E402
 import pandas as pd  # noqa: E402
 
+from ..report import STYLE  # noqa: E402
 from ..results import CAUTION  # noqa: E402
 from .plots import network  # noqa: E402
 from .study import NETWORK_CAUTION  # noqa: E402
@@ -120,11 +121,10 @@ def network_report_files(result) -> dict[str, str | bytes]:
         ""])
     esc = html.escape
     fmt = {"float_format": lambda x: f"{x:,.4g}", "index": False, "border": 0}
-    style = ("body{font-family:sans-serif;max-width:70em;margin:2em auto;color:#222}"
-             "table{border-collapse:collapse;font-size:0.85em}td,th{padding:2px 8px;"
-             "border-bottom:1px solid #ddd;text-align:right}pre{background:#f6f6f6;padding:1em;"
-             "overflow-x:auto}.caution{border-left:4px solid #D55E00;padding:0.5em 1em;"
-             "background:#fff4ec}img{max-width:100%}")
+    # the print stylesheet of the sizing and upgrade reports: no scroll boxes, pages numbered
+    style = STYLE + ('@page { @bottom-right { content: "Page " counter(page) " of " '
+                     'counter(pages); font-size: 7.5pt; color: #555; } }'
+                     "td, th { text-align: right; } img { max-width: 100%; }")
     page = (f"<!DOCTYPE html><html><head><meta charset='utf-8'><title>{esc(title)}</title>"
             f"<style>{style}</style></head><body><h1>{esc(title)}</h1>"
             "<div class='caution'><b>Cautions</b><ul>"
