@@ -57,12 +57,14 @@ import time
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 from pathlib import Path, PurePosixPath
+from typing import Any
 
 from . import __version__
 from .errors import IncompleteResultSet, OutputError
 
 __all__ = ["MANIFEST", "EXPECTED_SET_BYTES", "LOCK_TIMEOUT", "Manifest", "read_manifest",
-           "write_result_set", "check_out", "check_inputs", "write_atomic", "printable"]
+           "write_result_set", "check_out", "check_inputs", "write_atomic", "printable",
+           "csv_cell", "csv_text", "text_columns", "markdown_text", "markdown_code"]
 
 #: Name of the manifest in every result set.
 MANIFEST = "manifest.json"
@@ -134,6 +136,72 @@ def printable(text: str, one_line: bool = False) -> str:
     """
     text = _CONTROL.sub("", _ESCAPE_SEQUENCE.sub("", str(text)))
     return text.replace("\n", " ").replace("\t", " ") if one_line else text
+
+
+# --------------------------------------------------------------------------------------------
+# text made inert in the files of a result set (CSV for spreadsheets, Markdown)
+# --------------------------------------------------------------------------------------------
+_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+_PLAIN_NUMBER = re.compile(r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?(?:inf|nan)",
+                           re.IGNORECASE)
+
+
+def csv_cell(value: Any) -> Any:
+    """A text cell without terminal controls; one a spreadsheet would take for a formula gets
+    a leading apostrophe (a lone sign, the unit column's "-", and a plain number are no
+    formula). Anything but text is returned as it is.
+
+    >>> csv_cell("=HYPERLINK(1)"), csv_cell("-"), csv_cell("-2.5"), csv_cell(3)
+    ("'=HYPERLINK(1)", '-', '-2.5', 3)
+    """
+    if not isinstance(value, str):
+        return value
+    value = printable(value)
+    if (len(value) > 1 and value.startswith(_FORMULA_START)
+            and not _PLAIN_NUMBER.fullmatch(value)):
+        return "'" + value
+    return value
+
+
+def text_columns(frame: Any) -> list:
+    """The columns of a pandas DataFrame that hold text (object or string dtype)."""
+    import pandas as pd
+
+    return [c for c in frame.columns if frame[c].dtype == object
+            or isinstance(frame[c].dtype, pd.StringDtype)]
+
+
+def csv_text(frame: Any) -> str:
+    """A pandas DataFrame as CSV text whose text cells and headers are inert
+    (:func:`csv_cell`); numbers to ten significant digits, no index, newline line ends."""
+    safe = frame.copy()
+    for c in text_columns(safe):
+        safe[c] = safe[c].map(csv_cell)
+    safe.columns = [csv_cell(str(c)) for c in safe.columns]
+    return safe.to_csv(index=False, float_format="%.10g", lineterminator="\n")
+
+
+_MD_SPECIAL = re.compile(r"([\\`\[\]|])")
+
+
+def markdown_text(text: Any) -> str:
+    """Study text for Markdown: one line, HTML, links, code spans and table bars escaped.
+
+    >>> markdown_text("a | b <i>[x](y)")
+    'a \\\\| b &lt;i&gt;\\\\[x\\\\](y)'
+    """
+    import html
+
+    text = _MD_SPECIAL.sub(r"\\\1", printable(str(text), one_line=True))
+    return html.escape(text, quote=False)
+
+
+def markdown_code(text: str) -> list[str]:
+    """A fenced code block (its lines) that no backticks in ``text`` can close early."""
+    text = printable(text)
+    longest = max((len(run) for run in re.findall(r"`+", text)), default=0)
+    fence = "`" * max(3, longest + 1)
+    return [fence, text, fence]
 
 
 # --------------------------------------------------------------------------------------------

@@ -49,7 +49,15 @@ import pandas as pd  # noqa: E402
 from . import __version__ as _version  # noqa: E402
 from . import plots  # noqa: E402
 from .errors import InputError  # noqa: E402
-from .outputs import printable, write_atomic, write_result_set  # noqa: E402
+from .outputs import (  # noqa: E402
+    csv_text,
+    markdown_code,
+    markdown_text,
+    printable,
+    text_columns,
+    write_atomic,
+    write_result_set,
+)
 from .results import CAUTION  # noqa: E402
 from .units import display  # noqa: E402
 
@@ -122,53 +130,6 @@ ASSUMPTIONS_UPGRADE = [
 # --------------------------------------------------------------------------------------------
 # text made inert
 # --------------------------------------------------------------------------------------------
-_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
-_PLAIN_NUMBER = re.compile(r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?(?:inf|nan)",
-                           re.IGNORECASE)
-
-
-def _csv_cell(value: Any) -> Any:
-    """A text cell without terminal controls; one a spreadsheet would take for a formula gets
-    a leading apostrophe (a lone sign, the unit column's "-", is no formula)."""
-    if not isinstance(value, str):
-        return value
-    value = printable(value)
-    if (len(value) > 1 and value.startswith(_FORMULA_START)
-            and not _PLAIN_NUMBER.fullmatch(value)):
-        return "'" + value
-    return value
-
-
-def _text_columns(frame: pd.DataFrame) -> list:
-    return [c for c in frame.columns if frame[c].dtype == object
-            or isinstance(frame[c].dtype, pd.StringDtype)]
-
-
-def _csv(frame: pd.DataFrame) -> str:
-    safe = frame.copy()
-    for c in _text_columns(safe):
-        safe[c] = safe[c].map(_csv_cell)
-    safe.columns = [_csv_cell(str(c)) for c in safe.columns]
-    return safe.to_csv(index=False, float_format="%.10g", lineterminator="\n")
-
-
-_MD_SPECIAL = re.compile(r"([\\`\[\]|])")
-
-
-def _md(text: Any) -> str:
-    """Study text for Markdown: one line, HTML, links, code spans and table bars escaped."""
-    text = _MD_SPECIAL.sub(r"\\\1", printable(str(text), one_line=True))
-    return html.escape(text, quote=False)
-
-
-def _md_code(text: str) -> list[str]:
-    """A fenced code block that no backticks in ``text`` can close early."""
-    text = printable(text)
-    longest = max((len(run) for run in re.findall(r"`+", text)), default=0)
-    fence = "`" * max(3, longest + 1)
-    return [fence, text, fence]
-
-
 def _css_string(text: str) -> str:
     """Text as a CSS string: every character but letters, digits and a few marks escaped in
     hexadecimal (CSS Syntax Level 3, 4.3.7), so that no text ends the string or the style."""
@@ -818,7 +779,7 @@ def report_files(result: Any, extra: dict[str, Any] | None = None,
     if pdf:
         check_pdf(paper)
     content = _content(result, dict(extra or {}), verification)
-    files: dict[str, bytes | str] = {f"{name}.csv": _csv(t)
+    files: dict[str, bytes | str] = {f"{name}.csv": csv_text(t)
                                      for name, t in content["data"].items()}
     files.update({f"figures/{name}.png": png for name, png, _ in content["figures"]})
     files["report.md"] = printable(_markdown(content))
@@ -938,35 +899,35 @@ def _title_rows(study: Any) -> list[tuple[str, str]]:
 
 # ----- Markdown ---------------------------------------------------------------------------------
 def _md_table(table: _Table) -> list[str]:
-    lines = ["| " + " | ".join(_md(h) for h in table.headers) + " |",
+    lines = ["| " + " | ".join(markdown_text(h) for h in table.headers) + " |",
              "|" + "".join("---:|" if c[3] == "r" else "---|" for c in table.columns)]
     n = len(table.columns)
     for row in table.rows() + list(table.checks):
         row = list(row) if len(row) == n else [row[0], *[""] * (n - 2), row[1]]
-        lines.append("| " + " | ".join(_md(x) for x in row) + " |")
+        lines.append("| " + " | ".join(markdown_text(x) for x in row) + " |")
     return lines
 
 
 def _markdown(c: dict) -> str:
     study = c["study"]
-    parts = [f"# {_md(c['title'])}", ""]
+    parts = [f"# {markdown_text(c['title'])}", ""]
     if study.info.description:
-        parts += [_md(study.info.description), ""]
-    parts += [f"- {k}: {_md(v)}" for k, v in _title_rows(study)] + [""]
-    parts += ["## Cautions", "", *[f"- {_md(x)}" for x in CAUTIONS], "",
-              "## Summary", "", *_md_code(c["summary"]), ""]
+        parts += [markdown_text(study.info.description), ""]
+    parts += [f"- {k}: {markdown_text(v)}" for k, v in _title_rows(study)] + [""]
+    parts += ["## Cautions", "", *[f"- {markdown_text(x)}" for x in CAUTIONS], "",
+              "## Summary", "", *markdown_code(c["summary"]), ""]
     for heading, tables in (("Results", c["tables"]), ("Inputs", [c["inputs"], c["derived"]])):
         parts += [f"## {heading}", ""]
         for t in tables:
-            parts += [f"### {_md(t.title)}", ""]
+            parts += [f"### {markdown_text(t.title)}", ""]
             if t.note:
-                parts += [_md(t.note), ""]
+                parts += [markdown_text(t.note), ""]
             parts += [*_md_table(t), ""]
     parts += ["## Model assumptions", "", *[f"- {a}" for a in c["assumptions"]], "",
-              "## Data sources", "", *[f"- {_md(p)}" for p in c["provenance"]], "",
-              "## Verification", "", _md(c["status"]), "",
+              "## Data sources", "", *[f"- {markdown_text(p)}" for p in c["provenance"]], "",
+              "## Verification", "", markdown_text(c["status"]), "",
               "## Figures", "",
-              *[f"![{n}](figures/{n}.png)\n\n{_md(cap)}\n" for n, _, cap in c["figures"]]]
+              *[f"![{n}](figures/{n}.png)\n\n{markdown_text(cap)}\n" for n, _, cap in c["figures"]]]
     return "\n".join(parts)
 
 
@@ -1232,7 +1193,7 @@ def _workbook(tables: dict[str, pd.DataFrame], currency: str = "") -> bytes:
     for name, frame in tables.items():
         sheet = book.create_sheet(name[:31])
         columns = [str(c) for c in frame.columns]
-        text = set(_text_columns(frame))
+        text = set(text_columns(frame))
         formats = [("", "General") if c in text else _column_format(c, currency, name, columns)
                    for c in columns]
         units = any(u for u, _ in formats)    # a units row where the columns have units

@@ -63,3 +63,33 @@ def test_same_result_same_tables(report, tmp_path):
     write_network_report(result, tmp_path)
     for name in ("pipes.csv", "nodes.csv", "cases.csv", "cash_flows.csv", "report.md"):
         assert (tmp_path / name).read_bytes() == (out / name).read_bytes()
+
+
+def test_hostile_names_are_inert_in_every_file(tmp_path):
+    # names from a network file reach the CSV files and the Markdown: a spreadsheet must not
+    # take one for a formula, nor Markdown for HTML, a link or the end of a code block
+    # (common practice: OWASP's advice on CSV injection, a leading apostrophe)
+    from pipeopt.network.report import network_report_files
+
+    text = resources.files("pipeopt").joinpath("data", "demo_network.toml").read_text("utf-8")
+    d = tomllib.loads(text)
+    d["optimizer"]["evaluations"] = 500
+    hostile = '=HYPERLINK("http://example.invalid") <b>x</b> ``` [l](javascript:1)'
+    old = "Sorvantle Quay"
+    for table in ("node", "pipe"):
+        for t in d[table]:
+            for key in ("name", "from", "to"):
+                if t.get(key) == old:
+                    t[key] = hostile
+    d["study"]["name"] = "Vexholt ``` test <i>net</i>"   # in the summary too
+    files = network_report_files(NetworkStudy.from_dict(d).run(progress=False))
+    nodes = files["nodes.csv"]
+    assert "'=HYPERLINK" in nodes and "\n=HYPERLINK" not in nodes
+    assert ",=HYPERLINK" not in nodes
+    md = files["report.md"]
+    fence = [line for line in md.splitlines() if line and set(line) == {"`"}]
+    assert len(fence) == 2 and len(fence[0]) > 3  # longer than any run of backticks inside
+    start, stop = md.index(fence[0]), md.rindex(fence[1])
+    outside = md[:start] + md[stop:]            # a code block shows its text as it is
+    assert "<b>" not in outside and "<i>" not in outside and "&lt;b&gt;" in outside
+    assert "\\[l\\](javascript:1)" in outside

@@ -22,6 +22,7 @@ matplotlib.use("Agg", force=False)
 import matplotlib.pyplot as plt  # noqa: E402
 import pandas as pd  # noqa: E402
 
+from ..outputs import csv_text, markdown_code, markdown_text, printable  # noqa: E402
 from ..report import STYLE  # noqa: E402
 from ..results import CAUTION  # noqa: E402
 from .plots import network  # noqa: E402
@@ -48,10 +49,6 @@ ASSUMPTIONS_NETWORK = [
     "stated); looped networks by a seeded local search whose result is the best design found, "
     "not a proven optimum.",
 ]
-
-
-def _csv(frame: pd.DataFrame) -> str:
-    return frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
 
 
 def _figure_png(result) -> bytes:
@@ -110,15 +107,15 @@ def network_report_files(result) -> dict[str, str | bytes]:
     provenance = _provenance(result)
     cautions = [CAUTION, NETWORK_CAUTION]
     md = "\n".join([
-        f"# {title}", "", "## Cautions", "", *[f"- {c}" for c in cautions], "", "## Summary",
-        "", "```", summary, "```", "", "## Pipes", "", _md_table(result.pipes), "",
+        f"# {markdown_text(title)}", "", "## Cautions", "", *[f"- {c}" for c in cautions], "",
+        "## Summary", "", *markdown_code(summary), "", "## Pipes", "", _md_table(result.pipes), "",
         "## Nodes", "", _md_table(result.nodes.drop(columns=["x_m", "y_m"])), "",
         "## Demand cases", "", _md_table(result.cases), "",
         f"## Cash flows (money in {result.currency or 'currency'})", "",
         _md_table(result.cash_flows), "", "## Model assumptions", "",
         *[f"- {a}" for a in ASSUMPTIONS_NETWORK], "", "## Data sources", "",
-        *[f"- {p}" for p in provenance], "", "## Figures", "", "![network](figures/network.png)",
-        ""])
+        *[f"- {markdown_text(p)}" for p in provenance], "", "## Figures", "",
+        "![network](figures/network.png)", ""])
     esc = html.escape
     fmt = {"float_format": lambda x: f"{x:,.4g}", "index": False, "border": 0}
     # the print stylesheet of the sizing and upgrade reports: no scroll boxes, pages numbered
@@ -129,7 +126,7 @@ def network_report_files(result) -> dict[str, str | bytes]:
             f"<style>{style}</style></head><body><h1>{esc(title)}</h1>"
             "<div class='caution'><b>Cautions</b><ul>"
             + "".join(f"<li>{esc(c)}</li>" for c in cautions) + "</ul></div>"
-            f"<h2>Summary</h2><pre>{esc(summary)}</pre>"
+            f"<h2>Summary</h2><pre>{esc(printable(summary))}</pre>"
             f"<h2>Map</h2><img alt='network map' src='data:image/png;base64,"
             f"{base64.b64encode(png).decode()}'/>"
             f"<h2>Pipes</h2><p>Money in {esc(result.currency or 'currency')}.</p>"
@@ -143,7 +140,7 @@ def network_report_files(result) -> dict[str, str | bytes]:
             + "".join(f"<li>{esc(a)}</li>" for a in ASSUMPTIONS_NETWORK)
             + "</ul><h2>Data sources</h2><ul>"
             + "".join(f"<li>{esc(p)}</li>" for p in provenance) + "</ul></body></html>")
-    files: dict[str, str | bytes] = {f"{k}.csv": _csv(v) for k, v in tables.items()}
+    files: dict[str, str | bytes] = {f"{k}.csv": csv_text(v) for k, v in tables.items()}
     files["figures/network.png"] = png
     files["report.md"] = md
     files["report.html"] = page
@@ -151,9 +148,9 @@ def network_report_files(result) -> dict[str, str | bytes]:
 
 
 def _md_table(frame: pd.DataFrame) -> str:
-    cols = list(frame.columns)
+    cols = [markdown_text(c) for c in frame.columns]
     lines = ["| " + " | ".join(cols) + " |", "|" + "---|" * len(cols)]
     for row in frame.itertuples(index=False):
-        cells = [f"{v:,.4g}" if isinstance(v, float) else str(v) for v in row]
-        lines.append("| " + " | ".join(c.replace("|", "/") for c in cells) + " |")
+        cells = [f"{v:,.4g}" if isinstance(v, float) else markdown_text(v) for v in row]
+        lines.append("| " + " | ".join(cells) + " |")
     return "\n".join(lines)
