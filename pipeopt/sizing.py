@@ -24,7 +24,6 @@ True
 from __future__ import annotations
 
 import html
-import inspect
 from dataclasses import dataclass, field
 from functools import cached_property
 from pathlib import Path
@@ -55,7 +54,7 @@ from .lifecycle import LifeCycle, Scenario, evaluate
 from .optimum import continuous_optimum
 from .pumps import npsh_available, standard_atmosphere_pressure
 from .results import CAUTION, StudyResult, html_table
-from .studyfile import StudyFileMixin
+from .studyfile import FrozenStudy, StudyFileMixin
 from .variations import Variations, check_input_name
 
 __all__ = ["Line", "Economics", "Constraints", "Carbon", "MaterialChoice", "SizingStudy",
@@ -88,7 +87,7 @@ def _refuse_non_finite(lc: LifeCycle, candidates: pd.DataFrame,
                      "lengths, costs and economics for a misplaced exponent or unit)")
 
 
-class SizingStudy(StudyFileMixin):
+class SizingStudy(FrozenStudy, StudyFileMixin):
     """A life-cycle-cost sizing study of one pumped line.
 
     Parameters
@@ -145,6 +144,8 @@ class SizingStudy(StudyFileMixin):
     the study is a long-line study: its candidates are *designs* (a size per section, classes
     along the line, booster stations), see :class:`pipeopt.longline.LongLine`.
     """
+
+    _OTHERWISE = " or run(inputs={...})"
 
     _DEMO_FILE = "demo_sizing.toml"
 
@@ -251,24 +252,8 @@ class SizingStudy(StudyFileMixin):
             self.candidates = self.layout.table
         self._frozen = True
 
-    def __setattr__(self, name: str, value: Any) -> None:
-        if getattr(self, "_frozen", False):
-            raise AttributeError(f"a SizingStudy cannot be changed after it is built ({name}); "
-                                 f"use study.replace({name}=...) or run(inputs={{...}})")
-        object.__setattr__(self, name, value)
 
     # ----- labels ---------------------------------------------------------------------------
-    @property
-    def name(self) -> str:
-        return self.info.name
-
-    @property
-    def currency(self) -> str:
-        return self.info.currency
-
-    @property
-    def illustrative(self) -> bool:
-        return self.info.illustrative
 
     @property
     def efficiency(self) -> float:
@@ -282,15 +267,6 @@ class SizingStudy(StudyFileMixin):
             float(self.fluid.temperature)
 
     # ----- what-ifs -------------------------------------------------------------------------
-    def replace(self, **changes: Any) -> SizingStudy:
-        """A new study with some constructor arguments changed, e.g.
-        ``study.replace(economics=Economics(0.03, 40, 80))``."""
-        known = set(inspect.signature(SizingStudy.__init__).parameters) - {"self"}
-        unknown = set(changes) - known
-        if unknown:
-            raise InputError(f"replace: unknown argument {sorted(unknown)[0]!r}; arguments: "
-                             f"{', '.join(sorted(known))}")
-        return SizingStudy(**{**self._args, **changes})
 
     def variations(self, values: dict[str, Any]) -> Variations:
         """Named inputs (:data:`pipeopt.variations.SIZING_INPUTS`, and

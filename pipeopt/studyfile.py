@@ -197,6 +197,55 @@ def read_study(path: str | Path) -> tuple[dict[str, Any], Path, list[Path]]:
     return mapping, base, inputs
 
 
+class FrozenStudy:
+    """A study that does not change once built, and the labels every study has.
+
+    The class's ``__init__`` keeps its arguments in ``self._args`` and sets ``self._frozen``
+    last; from then on an attribute cannot be set, and :meth:`replace` builds a new study from
+    the same arguments with some changed. ``name``, ``currency`` and ``illustrative`` come from
+    the study's ``info`` (a :class:`pipeopt.inputs.StudyInfo`).
+    """
+
+    #: What else a user can do instead of changing the study, in the refusal's words.
+    _OTHERWISE = ""
+
+    def __setattr__(self, name: str, value: Any) -> None:
+        if getattr(self, "_frozen", False):
+            cls = type(self).__name__
+            article = "an" if cls[0] in "AEIOU" else "a"
+            raise AttributeError(f"{article} {cls} cannot be changed after it is built "
+                                 f"({name}); use study.replace({name}=...){self._OTHERWISE}")
+        object.__setattr__(self, name, value)
+
+    def replace(self, **changes: Any):
+        """A new study with some constructor arguments changed, e.g.
+        ``study.replace(economics=Economics(0.03, 40, 80))``."""
+        import inspect
+
+        cls = type(self)
+        known = set(inspect.signature(cls.__init__).parameters) - {"self"}
+        unknown = set(changes) - known
+        if unknown:
+            raise InputError(f"replace: unknown argument {sorted(unknown)[0]!r}; arguments: "
+                             f"{', '.join(sorted(known))}")
+        return cls(**{**self._args, **changes})
+
+    @property
+    def name(self) -> str:
+        """The study's name ([study] name)."""
+        return self.info.name
+
+    @property
+    def currency(self) -> str:
+        """The currency of its money ([study] currency; may be empty)."""
+        return self.info.currency
+
+    @property
+    def illustrative(self) -> bool:
+        """True when its numbers are invented to illustrate ([study] illustrative)."""
+        return self.info.illustrative
+
+
 class StudyFileMixin:
     """``from_toml``, ``from_dict`` and ``demo`` for a study class with a ``_from_dict``.
 

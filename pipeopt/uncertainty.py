@@ -40,7 +40,7 @@ from .variations import INPUTS, check_input_name
 __all__ = ["Uniform", "Triangular", "Normal", "LogNormal", "DISTRIBUTIONS", "MAX_SAMPLES",
            "tornado", "switching_values", "monte_carlo", "upgrade_monte_carlo",
            "default_ranges", "TornadoResult", "SwitchingResult", "MonteCarloResult",
-           "UpgradeMonteCarloResult", "read_uncertainty_section"]
+           "UpgradeMonteCarloResult", "read_uncertainty_section", "draw_samples", "MAX_CELLS"]
 
 #: The most samples a Monte Carlo may take. Its results hold about 9 bytes per sample and
 #: candidate (EAC and feasibility): 1,000,000 samples of 400 candidates need about 3.6 GB.
@@ -635,22 +635,47 @@ def _progress(total: int, progress: bool | None, desc: str):
     return tqdm(total=total, desc=desc, unit="sample", file=sys.stderr)
 
 
-def _samples(d: _Decision, distributions: dict[str, Any], n: Any,
-             seed: Any) -> dict[str, np.ndarray]:
+def draw_samples(distributions: dict[str, Any], n: Any, seed: Any, n_choices: int,
+                 check_name: Any, choices: str = "choices") -> dict[str, np.ndarray]:
+    """Checked samples of named inputs, for a Monte Carlo of any study.
+
+    Parameters
+    ----------
+    distributions : dict of str to distribution
+        Input name to a distribution (:class:`Uniform`, :class:`Triangular`, :class:`Normal`,
+        :class:`LogNormal`, or anything with ``ppf`` or ``rvs``), drawn in the order given.
+    n : int
+        Number of samples, 2 to :data:`MAX_SAMPLES`.
+    seed : int
+        Seed of :func:`numpy.random.default_rng`, 0 to 2**63 - 1.
+    n_choices : int
+        Choices evaluated in every sample (candidates, options, designs): ``n × n_choices``
+        may not exceed :data:`MAX_CELLS`.
+    check_name : callable
+        Refuses a name that is no input of the study (raises :class:`InputError`).
+    choices : str
+        What the choices are called, for the message.
+
+    Returns
+    -------
+    dict of str to ndarray, shape (n,)
+        The values; a sampled horizon rounded to whole years; every value checked against its
+        input's rule (:data:`pipeopt.variations.INPUTS`).
+    """
     if isinstance(n, bool) or not isinstance(n, int | np.integer) or not 2 <= n <= MAX_SAMPLES:
         raise InputError(f"monte_carlo: n must be a whole number from 2 to {MAX_SAMPLES:,}; "
                          f"got {n!r}")
-    cells = int(n) * len(d.labels)
+    cells = int(n) * int(n_choices)
     if cells > MAX_CELLS:
-        raise InputError(f"monte_carlo: {int(n):,} samples of {len(d.labels)} choices would "
+        raise InputError(f"monte_carlo: {int(n):,} samples of {n_choices} {choices} would "
                          f"hold {cells * 9 / 1e9:.1f} GB of results; at most {MAX_CELLS:,} "
-                         f"samples x choices (fewer samples or candidates)")
+                         f"samples x {choices} (fewer samples or {choices})")
     if isinstance(seed, bool) or not isinstance(seed, int | np.integer) \
             or not 0 <= seed < 2**63:
         raise InputError(f"monte_carlo: seed must be a whole number from 0 to 2**63 - 1; got "
                          f"{seed!r}")
     for name in _check_distributions(distributions):
-        d.check_name(name)
+        check_name(name)
     rng = np.random.default_rng(int(seed))
     values = {name: _draw(dist, name, rng, int(n)) for name, dist in distributions.items()}
     if "horizon" in values:  # whole years: a sampled horizon is rounded to the nearest year
@@ -658,6 +683,11 @@ def _samples(d: _Decision, distributions: dict[str, Any], n: Any,
     for name, arr in values.items():
         INPUTS[name.split(":")[0]].check(arr, f"uncertainty.{name}: sampled ")
     return values
+
+
+def _samples(d: _Decision, distributions: dict[str, Any], n: Any,
+             seed: Any) -> dict[str, np.ndarray]:
+    return draw_samples(distributions, n, seed, len(d.labels), d.check_name)
 
 
 #: Inputs that change the hydraulics of a sample (the rest only scale money).

@@ -26,7 +26,6 @@ Examples
 from __future__ import annotations
 
 import html
-import inspect
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -54,7 +53,7 @@ from .inputs import (
 )
 from .lifecycle import Scenario
 from .results import CAUTION, StudyResult, html_table
-from .studyfile import StudyFileMixin
+from .studyfile import FrozenStudy, StudyFileMixin
 from .upgrade_model import ROWS, ExistingCondition, LineState, upgrade_cash_flows
 from .variations import Variations, check_input_name
 
@@ -87,7 +86,7 @@ class _Option:
         return self.state.capital + self.state.cleaning
 
 
-class UpgradeStudy(StudyFileMixin):
+class UpgradeStudy(FrozenStudy, StudyFileMixin):
     """Economics of upgrading an existing line: keep, reline, replace, duplicate.
 
     Parameters
@@ -123,6 +122,8 @@ class UpgradeStudy(StudyFileMixin):
 
     Every argument after ``options`` is keyword-only.
     """
+
+    _OTHERWISE = " or run(inputs={...})"
 
     _DEMO_FILE = "demo_upgrade.toml"
 
@@ -177,33 +178,8 @@ class UpgradeStudy(StudyFileMixin):
             existing.break_cost, existing.leakage_cost, existing.leakage_growth)
         self._frozen = True
 
-    def __setattr__(self, name: str, value: Any) -> None:
-        if getattr(self, "_frozen", False):
-            raise AttributeError(f"an UpgradeStudy cannot be changed after it is built "
-                                 f"({name}); use study.replace({name}=...) or "
-                                 f"run(inputs={{...}})")
-        object.__setattr__(self, name, value)
 
-    @property
-    def name(self) -> str:
-        return self.info.name
 
-    @property
-    def currency(self) -> str:
-        return self.info.currency
-
-    @property
-    def illustrative(self) -> bool:
-        return self.info.illustrative
-
-    def replace(self, **changes: Any) -> UpgradeStudy:
-        """A new study with some constructor arguments changed."""
-        known = set(inspect.signature(UpgradeStudy.__init__).parameters) - {"self"}
-        unknown = set(changes) - known
-        if unknown:
-            raise InputError(f"replace: unknown argument {sorted(unknown)[0]!r}; arguments: "
-                             f"{', '.join(sorted(known))}")
-        return UpgradeStudy(**{**self._args, **changes})
 
     # ----- the existing line ----------------------------------------------------------------
     def _bore(self) -> tuple[float, float | None]:

@@ -43,7 +43,6 @@ Examples
 from __future__ import annotations
 
 import difflib
-import inspect
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -60,7 +59,7 @@ from ..fields import SI
 from ..fluid import Fluid
 from ..inputs import Economics, Pumping, StudyInfo
 from ..results import StudyResult
-from ..studyfile import StudyFileMixin
+from ..studyfile import FrozenStudy, StudyFileMixin
 from . import design as ds
 from .hydraulics import NetworkGraph
 from .inputs import (
@@ -157,7 +156,7 @@ def _duplicate(names: list[str]) -> str | None:
 # --------------------------------------------------------------------------------------------
 # the study
 # --------------------------------------------------------------------------------------------
-class NetworkStudy(StudyFileMixin):
+class NetworkStudy(FrozenStudy, StudyFileMixin):
     """Least-cost (or least life-cycle-cost) sizing of the pipes of a network.
 
     Parameters
@@ -246,34 +245,9 @@ class NetworkStudy(StudyFileMixin):
         self.problem = self._build_problem()
         self._frozen = True
 
-    def __setattr__(self, name: str, value: Any) -> None:
-        if getattr(self, "_frozen", False):
-            raise AttributeError(f"a NetworkStudy cannot be changed after it is built ({name}); "
-                                 f"use study.replace({name}=...)")
-        object.__setattr__(self, name, value)
 
-    def replace(self, **changes: Any) -> NetworkStudy:
-        """A new study with some constructor arguments changed, e.g.
-        ``study.replace(tariff=EnergyTariff(0.2))``."""
-        known = set(inspect.signature(NetworkStudy.__init__).parameters) - {"self"}
-        unknown = set(changes) - known
-        if unknown:
-            raise InputError(f"replace: unknown argument {sorted(unknown)[0]!r}; arguments: "
-                             f"{', '.join(sorted(known))}")
-        return NetworkStudy(**{**self._args, **changes})
 
     # ----- labels ---------------------------------------------------------------------------
-    @property
-    def name(self) -> str:
-        return self.info.name
-
-    @property
-    def currency(self) -> str:
-        return self.info.currency
-
-    @property
-    def illustrative(self) -> bool:
-        return self.info.illustrative
 
     @property
     def pumped(self) -> bool:

@@ -37,8 +37,8 @@ import pandas as pd
 
 from ..errors import InputError
 from ..results import StudyResult
-from ..uncertainty import MAX_CELLS, MAX_SAMPLES, read_uncertainty_section
-from ..variations import INPUTS, Variations
+from ..uncertainty import draw_samples, read_uncertainty_section
+from ..variations import Variations
 from . import design as ds
 from .lifecycle import NETWORK_INPUTS, life_cycle
 
@@ -101,43 +101,6 @@ def read_network_uncertainty(data: Any, study: Any = None) -> dict[str, Any]:
 # --------------------------------------------------------------------------------------------
 # samples
 # --------------------------------------------------------------------------------------------
-def _samples(distributions: Any, n: Any, seed: Any, designs: int) -> dict[str, np.ndarray]:
-    """The sampled values of every input, checked as :mod:`pipeopt.uncertainty` checks them."""
-    if isinstance(n, bool) or not isinstance(n, int | np.integer) or not 2 <= n <= MAX_SAMPLES:
-        raise InputError(f"monte_carlo: n must be a whole number from 2 to {MAX_SAMPLES:,}; "
-                         f"got {n!r}")
-    if int(n) * designs > MAX_CELLS:
-        raise InputError(f"monte_carlo: {int(n):,} samples of {designs} designs exceed "
-                         f"{MAX_CELLS:,} samples x designs (fewer samples or designs)")
-    if isinstance(seed, bool) or not isinstance(seed, int | np.integer) \
-            or not 0 <= seed < 2**63:
-        raise InputError(f"monte_carlo: seed must be a whole number from 0 to 2**63 - 1; got "
-                         f"{seed!r}")
-    if not isinstance(distributions, dict) or not distributions:
-        raise InputError("uncertainty: give at least one input distribution as a mapping "
-                         "{name: distribution}")
-    for name, dist in distributions.items():
-        check_network_input(name)
-        if not (hasattr(dist, "ppf") or hasattr(dist, "rvs")):
-            raise InputError(f"uncertainty.{name}: expected a distribution (Uniform, "
-                             f"Triangular, Normal, LogNormal, or a scipy.stats frozen "
-                             f"distribution); got {dist!r} ({type(dist).__name__})")
-    rng = np.random.default_rng(int(seed))
-    values = {}
-    for name, dist in distributions.items():  # in the order given, as a sizing study draws
-        raw = (dist.ppf(rng.random(int(n))) if hasattr(dist, "ppf")
-               else dist.rvs(size=int(n), random_state=rng))
-        arr = np.asarray(raw, dtype=float).reshape(-1)
-        if arr.size != n or not np.all(np.isfinite(arr)):
-            raise InputError(f"uncertainty.{name}: the distribution gave values that are not "
-                             f"finite numbers")
-        if name == "horizon":  # whole years: a sampled horizon is rounded to the nearest year
-            arr = np.round(arr)
-        INPUTS[name].check(arr, f"uncertainty.{name}: sampled ")
-        values[name] = arr
-    return values
-
-
 # --------------------------------------------------------------------------------------------
 # the designs compared
 # --------------------------------------------------------------------------------------------
@@ -302,7 +265,7 @@ def monte_carlo(study: Any, distributions: dict[str, Any] | None = None, n: int 
     if not study.pumped:
         raise InputError("monte_carlo: a gravity-fed network costs its pipe capital only; the "
                          "Monte Carlo of a network's life-cycle cost needs a pumped source")
-    values = _samples(distributions, n, seed, int(designs))
+    values = draw_samples(distributions, n, seed, int(designs), check_network_input, "designs")
     n = int(n)
     if result is None:
         result = study.run(progress=False, uncertainty=False)
