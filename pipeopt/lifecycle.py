@@ -46,14 +46,14 @@ from .duty import DutyProfile
 from .economics import straight_line_residual
 from .errors import InputError
 from .hydraulics import candidate_years, parallel_split, pipe_hydraulics, pumping, running_max
-from .variations import Variations
+from .variations import NamedInputs, Variations
 
 __all__ = ["Scenario", "LifeCycle", "Variations", "evaluate", "pipe_hydraulics", "pumping",
            "parallel_split"]
 
 
 @dataclass(frozen=True)
-class Scenario:
+class Scenario(NamedInputs):
     """Everything a life-cycle evaluation needs besides the candidates, in SI.
 
     Attributes
@@ -147,18 +147,6 @@ class Scenario:
                              f"{', '.join(fr.METHODS)} or 'constant'; got "
                              f"{self.friction_method!r}")
 
-    def base_values(self) -> dict[str, float]:
-        """The scenario's own values of the named inputs it holds (see
-        :data:`pipeopt.variations.INPUTS`)."""
-        return {"energy_price": self.tariff.price, "escalation": self.tariff.escalation,
-                "demand_charge": self.tariff.demand_charge,
-                "discount_rate": self.discount_rate, "horizon": self.horizon,
-                "efficiency": self.efficiency, "growth": self.duty.growth}
-
-    def resolve(self, variations: Variations | None) -> dict[str, np.ndarray]:
-        """Every named input as an (S,) array: the variations' values, else the scenario's."""
-        return (variations or Variations()).resolved(self.base_values(),
-                                                     hours_total=sum(self.duty.hours))
 
 
 @dataclass

@@ -23,7 +23,7 @@ from .duty import HOURS_PER_YEAR
 from .errors import InputError
 
 __all__ = ["InputSpec", "INPUTS", "SIZING_INPUTS", "UPGRADE_INPUTS", "Variations",
-           "check_input_name"]
+           "check_input_name", "NamedInputs"]
 
 
 @dataclass(frozen=True)
@@ -208,3 +208,24 @@ class Variations:
                                  f"8760 (at most {HOURS_PER_YEAR / hours_total:.4g} here); "
                                  f"got {out['hours_factor'][i]!r}")
         return out
+
+
+class NamedInputs:
+    """The base values and resolution of the named inputs a priced study holds.
+
+    For a class (a :class:`pipeopt.lifecycle.Scenario`, a network's economics) with
+    ``tariff`` (:class:`pipeopt.costs.EnergyTariff`), ``discount_rate`` [1/yr], ``horizon``
+    [yr], ``efficiency`` [-] and ``duty`` (:class:`pipeopt.duty.DutyProfile`).
+    """
+
+    def base_values(self) -> dict[str, float]:
+        """The study's own values of the named inputs it holds (see :data:`INPUTS`)."""
+        return {"energy_price": self.tariff.price, "escalation": self.tariff.escalation,
+                "demand_charge": self.tariff.demand_charge,
+                "discount_rate": self.discount_rate, "horizon": self.horizon,
+                "efficiency": self.efficiency, "growth": self.duty.growth}
+
+    def resolve(self, variations: Variations | None) -> dict[str, np.ndarray]:
+        """Every named input as an (S,) array: the variations' values, else the study's."""
+        return (variations or Variations()).resolved(self.base_values(),
+                                                     hours_total=sum(self.duty.hours))

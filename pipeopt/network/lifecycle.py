@@ -30,7 +30,7 @@ from ..costs import EnergyTariff, PumpStationCost
 from ..duty import DutyProfile
 from ..economics import straight_line_residual
 from ..errors import InputError
-from ..variations import INPUTS, Variations
+from ..variations import INPUTS, NamedInputs, Variations
 
 __all__ = ["NetworkEconomics", "NetworkLifeCycle", "life_cycle", "year_weights",
            "NETWORK_INPUTS"]
@@ -43,7 +43,7 @@ NETWORK_INPUTS = ("energy_price", "escalation", "demand_charge", "discount_rate"
 
 
 @dataclass(frozen=True)
-class NetworkEconomics:
+class NetworkEconomics(NamedInputs):
     """The economic inputs of a pumped network, SI and money.
 
     Attributes
@@ -87,17 +87,6 @@ class NetworkEconomics:
         """Years whose hydraulics differ: N when demands grow, else 1 (every year alike)."""
         return int(self.horizon) if self.duty.grows else 1
 
-    def base_values(self) -> dict[str, float]:
-        """The study's own values of the named inputs it holds."""
-        return {"energy_price": self.tariff.price, "escalation": self.tariff.escalation,
-                "demand_charge": self.tariff.demand_charge,
-                "discount_rate": self.discount_rate, "horizon": self.horizon,
-                "efficiency": self.efficiency, "growth": self.duty.growth}
-
-    def resolve(self, variations: Variations | None) -> dict[str, np.ndarray]:
-        """Every named input as an (S,) array: the variations' values, else the study's."""
-        return (variations or Variations()).resolved(self.base_values(),
-                                                     hours_total=sum(self.duty.hours))
 
     def timeline(self, variations: Variations | None = None) -> Timeline:
         """The study years of the base case, or of every sample of ``variations``."""
