@@ -10,6 +10,7 @@ reference data. Every catalog row for which a table value is recorded is checked
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
 import textwrap
@@ -432,8 +433,10 @@ def test_catalog_loads_from_the_installed_package(tmp_path):
                           "n": len(cat.all_sizes),
                           "editable": json.loads(direct).get("dir_info", {}).get("editable")}))
     """)
+    # the installed package, not a copy put first on PYTHONPATH (the mutation check does that)
+    env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"}
     out = subprocess.run([sys.executable, "-c", code], cwd=tmp_path, capture_output=True,
-                         text=True, check=True)
+                         text=True, check=True, env=env)
     info = json.loads(out.stdout)
     assert info["n"] > 700 and Path(info["data"]).is_file()
     if not info["editable"]:  # a regular install (as CI makes): not the source tree's package
