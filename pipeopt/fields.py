@@ -49,8 +49,8 @@ import numpy as np
 
 from .errors import InputError
 
-__all__ = ["SI", "InputSection", "to_quantity", "quantity", "number", "whole", "text", "flag",
-           "quantities", "numbers", "texts", "section", "key_path", "MISSING"]
+__all__ = ["SI", "InputSection", "to_quantity", "to_number", "quantity", "number", "whole", "text",
+           "flag", "quantities", "numbers", "texts", "section", "key_path", "MISSING"]
 
 MISSING = dataclasses.MISSING
 
@@ -232,6 +232,22 @@ def to_quantity(value: Any, kind: str, key: str, low: float | None = None,
     For a field that takes either a quantity or a word (e.g. ``aging = "typical"``).
     """
     return _Spec("quantity", kind, low, None, low_open).convert(value, key)
+
+
+def to_number(value: Any, key: str, low: float | None = None, high: float | None = None,
+              low_open: bool = False) -> float:
+    """Convert one plain number with the rules of a :func:`number` field.
+
+    For a field that takes either a number or a list of numbers (e.g. a budget by year).
+
+    >>> to_number(2.5e6, "programme.budget", low=0.0)
+    2500000.0
+    >>> to_number("lots", "programme.budget[1]", low=0.0)  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    pipeopt.errors.InputError: programme.budget[1]: expected a number (...), got text 'lots'
+    """
+    return _Spec("number", None, low, high, low_open).convert(value, key)
 
 
 def _field(spec: _Spec, default: Any, factory: Any = MISSING) -> Any:

@@ -19,6 +19,22 @@ single main's few breaks give a very noisy rate, which 40 years of exponential g
 amplify); the roughness now, the class roughness of new pipe plus its aging over the main's
 age; the capital, cost per metre times length.
 
+The study file (read by :func:`pipeopt.programme_inputs.read_programme`; ``[study]``,
+``[fluid]``, ``[pumping]``, ``[energy]``, ``[economics]`` and ``[growth]`` as in a sizing study,
+by the same sections; ``economics.pipe_life`` and ``economics.pipe_maintenance`` are the new
+main's)::
+
+    [growth]          flow_per_year, design_year (of every pumped main's flow; optional)
+    [pumped_mains]    minor_loss_k (optional)
+    [breaks]          repair_cost, growth_from ("material" | "history"), min_fit_breaks,
+                      max_fitted_growth
+    [replacement]     roughness, aging, break_factor (the new main, like for like)
+    [[material]]      name (as in the register's material column), roughness, aging,
+                      break_growth
+    [programme]       first_year, budget (one for every year, or a list by year), years
+    [solver]          method ("auto" | "milp" | "heuristic"), time_limit, mip_gap, max_pairs,
+                      node_limit (optional)
+
 The evaluation runs in process, in chunks of mains, or on Dask (``dask=True`` for a
 ``distributed.LocalCluster``, a scheduler address, or a ``distributed.Client``): the register
 is split into partitions evaluated by the same function, and since every main's numbers
@@ -38,12 +54,12 @@ Examples
 from __future__ import annotations
 
 import html
-import math
 import sys
 import time
 import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
+from types import MappingProxyType
 from typing import Any
 
 import numpy as np
@@ -52,6 +68,18 @@ import pandas as pd
 from .costs import EnergyTariff
 from .errors import InputError
 from .fluid import Fluid
+from .inputs import Economics, Pumping, StudyInfo
+from .programme_inputs import (
+    GROWTH_FROM,
+    BreakSettings,
+    MaterialClass,
+    NewMain,
+    ProgrammeSettings,
+    PumpedMains,
+    SolverOptions,
+    flow_growth,
+    read_programme,
+)
 from .register import (
     BREAK_WINDOW,
     check_columns,
@@ -63,16 +91,14 @@ from .register import (
 )
 from .renewal import break_growth_from_counts, break_rate_from_count
 from .replacement import Mains, RenewalScenario, evaluate_mains
-from .schedule import METHODS, Schedule, schedule_renewals
-from .sizing import CAUTION
-from .studyfile import Section, StudyFileError, StudyFileMixin
-from .units import Quantity, to_si
+from .results import CAUTION, StudyResult
+from .schedule import Schedule, schedule_renewals
+from .studyfile import FrozenStudy, StudyFileMixin
 
-__all__ = ["MaterialClass", "NewMain", "SolverOptions", "ProgrammeStudy", "ProgrammeResult",
-           "RegisterEvaluation", "evaluate_rows", "pooled_breaks", "GROWTH_FROM", "STATUS"]
+__all__ = ["MaterialClass", "NewMain", "SolverOptions", "BreakSettings", "ProgrammeSettings",
+           "PumpedMains", "ProgrammeStudy", "ProgrammeResult", "RegisterEvaluation",
+           "evaluate_rows", "pooled_breaks", "GROWTH_FROM", "STATUS"]
 
-#: Where the break growth rate of each main comes from.
-GROWTH_FROM = ("material", "history")
 #: Status of a main in a programme, with its meaning.
 STATUS = {
     "renew": "renewed in the programme",
@@ -84,125 +110,6 @@ STATUS = {
 }
 #: Mains evaluated together in process: about 16,000 mains keep every per-main array small.
 CHUNK_ROWS = 16_384
-
-
-def _si(value: Any, kind: str, field_name: str) -> float:
-    out = to_si(value, kind, field_name)
-    if not isinstance(out, float):
-        raise InputError(f"{field_name}: expected a single value")
-    return out
-
-
-def _plain(value: Any, field_name: str, low: float, high: float) -> float:
-    if isinstance(value, bool) or not isinstance(value, (int, float)):
-        raise InputError(f"{field_name} must be a plain number; got {value!r}")
-    v = float(value)
-    if not (math.isfinite(v) and low <= v <= high):
-        raise InputError(f"{field_name} must be between {low:g} and {high:g}; got {value!r}")
-    return v
-
-
-@dataclass
-class MaterialClass:
-    """A material class of the register: new roughness, its aging, the growth of breaks.
-
-    Parameters
-    ----------
-    name : str
-        The name used in the register's ``material`` column.
-    roughness : str or Quantity
-        Roughness of new pipe of this class, e.g. ``"0.26 mm"``.
-    aging : str or Quantity
-        Roughness growth, e.g. ``"0.03 mm/yr"``; the roughness now is
-        ``roughness + aging × age``.
-    break_growth : float
-        Exponential growth rate of breaks A [1/yr] (Shamir & Howard 1979), e.g. 0.05.
-    """
-
-    name: str
-    roughness: Any
-    aging: Any
-    break_growth: float
-
-    def __post_init__(self) -> None:
-        if not isinstance(self.name, str) or not self.name.strip():
-            raise InputError(f"material.name must be text; got {self.name!r}")
-        where = f"material {self.name!r}"
-        self.roughness = _si(self.roughness, "roughness", f"{where}: roughness")
-        self.aging = _si(self.aging, "aging_rate", f"{where}: aging")
-        if self.roughness < 0 or self.aging < 0:
-            raise InputError(f"{where}: roughness and aging must not be negative")
-        self.break_growth = _plain(self.break_growth, f"{where}: break_growth", -0.5, 0.5)
-
-
-@dataclass
-class NewMain:
-    """The main that replaces an old one (every main is replaced like for like).
-
-    Parameters
-    ----------
-    roughness : str or Quantity
-        Roughness of the new main, e.g. ``"0.03 mm"``.
-    aging : str or Quantity
-        Its roughness growth, e.g. ``"0 mm/yr"``.
-    life : float
-        Its life [yr], for the straight-line residual value at the horizon.
-    maintenance : float
-        Its yearly maintenance as a fraction of its capital [1/yr].
-    break_factor : float
-        Share of the old main's breaks that goes on after replacement [-] (0: none).
-    """
-
-    roughness: Any = "0.03 mm"
-    aging: Any = "0 mm/yr"
-    life: float = 80.0
-    maintenance: float = 0.0
-    break_factor: float = 0.0
-
-    def __post_init__(self) -> None:
-        self.roughness = _si(self.roughness, "roughness", "replacement.roughness")
-        self.aging = _si(self.aging, "aging_rate", "replacement.aging")
-        if self.roughness < 0 or self.aging < 0:
-            raise InputError("replacement.roughness and replacement.aging must not be negative")
-        self.life = _plain(self.life, "replacement.life", 1.0, 500.0)
-        self.maintenance = _plain(self.maintenance, "replacement.maintenance", 0.0, 1.0)
-        self.break_factor = _plain(self.break_factor, "replacement.break_factor", 0.0, 1.0)
-
-
-@dataclass
-class SolverOptions:
-    """How the schedule is chosen (see :func:`pipeopt.schedule.schedule_renewals`).
-
-    Parameters
-    ----------
-    method : {"auto", "milp", "heuristic"}
-        ``"auto"``: the MILP up to ``max_pairs`` candidate (main, year) pairs, else the
-        Lagrangian heuristic with its bound.
-    time_limit : float
-        Seconds the MILP may take (a safety net; a run stopped by the clock may differ from
-        the next) [s].
-    mip_gap : float
-        Relative gap at which the MILP stops [-].
-    max_pairs : int
-        Largest MILP under ``"auto"`` (candidate main-years).
-    node_limit : int
-        Branch-and-bound nodes the MILP may explore (stops it the same way every run).
-    """
-
-    method: str = "auto"
-    time_limit: float = 120.0
-    mip_gap: float = 1e-4
-    max_pairs: int = 5_000
-    node_limit: int = 5_000
-
-    def __post_init__(self) -> None:
-        if self.method not in METHODS:
-            raise InputError(f"solver.method must be one of {', '.join(METHODS)}; got "
-                             f"{self.method!r}")
-        self.time_limit = _plain(self.time_limit, "solver.time_limit", 0.1, 86400.0)
-        self.mip_gap = _plain(self.mip_gap, "solver.mip_gap", 0.0, 1.0)
-        self.max_pairs = int(_plain(self.max_pairs, "solver.max_pairs", 1.0, 1e9))
-        self.node_limit = int(_plain(self.node_limit, "solver.node_limit", 1.0, 1e9))
 
 
 # --------------------------------------------------------------------------------------------
@@ -380,10 +287,12 @@ def _progress_bar(total: int, progress: bool | None, what: str):
 # --------------------------------------------------------------------------------------------
 # the study
 # --------------------------------------------------------------------------------------------
-class ProgrammeStudy(StudyFileMixin):
+class ProgrammeStudy(FrozenStudy, StudyFileMixin):
     """A renewal programme over a register of mains under yearly capital budgets.
 
-    Every argument is a keyword.
+    Every argument is a keyword. The sections are frozen, and so is the study: assigning to it
+    raises; :meth:`replace` builds another (``study.replace(programme=ProgrammeSettings(2027,
+    3e6))``).
 
     Parameters
     ----------
@@ -393,38 +302,26 @@ class ProgrammeStudy(StudyFileMixin):
         The material classes of the register.
     tariff : EnergyTariff
         Energy price, real escalation, demand charge.
-    efficiency : float
+    pumping : Pumping or float
         Wire-to-water efficiency of pumping [-].
-    discount_rate : float
-        Real discount rate [1/yr], 0 to 1.
-    horizon : int
-        Study years N [yr].
-    break_cost : float
-        Cost of repairing one break [currency].
-    budget : float or sequence of float
-        Capital budget of each year of action from ``first_year`` [currency]: one value for
-        every year, or a list by year.
-    first_year : int
-        Calendar year of year of action 0 (now); ages are counted to it.
-    years : int, optional
-        Years of action the programme plans (default: the length of a list budget, else the
-        horizon); at most the horizon.
-    replacement : NewMain, optional
-        The new main (default :class:`NewMain`).
-    minor_loss_k : float
-        ΣK of every pumped main [-].
-    flow_growth : float
-        Compound growth of every pumped flow [1/yr].
-    growth_from : {"material", "history"}
-        Break growth rate from the material class, or fitted from the break history where it
-        allows.
-    min_fit_breaks : int
-        ``"history"``: breaks needed in each 5-year window to fit a rate.
-    max_fitted_growth : float
-        ``"history"``: limit on the size of a fitted rate [1/yr].
+    economics : Economics
+        Real discount rate, horizon N [yr], and the new main's life (for its straight-line
+        residual value at the horizon) and yearly maintenance (``pipe_life``,
+        ``pipe_maintenance``).
+    breaks : BreakSettings
+        Cost of a repair, and where the growth rate of breaks comes from.
+    replacement : NewMain
+        The new main: roughness, aging, share of breaks that goes on.
+    programme : ProgrammeSettings
+        First calendar year, the yearly budgets, the years planned (at most the horizon).
     solver : SolverOptions, optional
         How the schedule is chosen.
-    name, currency : str
+    pumped_mains : PumpedMains, optional
+        ΣK of every pumped main (default 0).
+    growth : float or mapping, optional
+        Compound growth of every pumped main's flow [1/yr], or the
+        :class:`~pipeopt.duty.DutyProfile` arguments ``growth`` and ``design_year``.
+    name, currency, description : str
         Labels.
     illustrative : bool
         Marks every output as using invented numbers.
@@ -432,73 +329,84 @@ class ProgrammeStudy(StudyFileMixin):
 
     _DEMO_FILE = "demo_programme.toml"
 
-    def __init__(self, *, fluid: Fluid, materials: list[MaterialClass], tariff: EnergyTariff,
-                 efficiency: float, discount_rate: float, horizon: int, break_cost: float,
-                 budget: Any, first_year: int, years: int | None = None,
-                 replacement: NewMain | None = None, minor_loss_k: float = 0.0,
-                 flow_growth: float = 0.0, growth_from: str = "material",
-                 min_fit_breaks: int = 100, max_fitted_growth: float = 0.2,
-                 solver: SolverOptions | None = None, name: str = "renewal programme",
-                 currency: str = "", illustrative: bool = False) -> None:
-        self.fluid = fluid
-        mats = list(materials)
+    def __init__(self, *, fluid: Fluid, materials: Any, tariff: EnergyTariff, pumping: Any,
+                 economics: Economics, breaks: BreakSettings, replacement: NewMain,
+                 programme: ProgrammeSettings, solver: SolverOptions | None = None,
+                 pumped_mains: PumpedMains | None = None, growth: Any = None,
+                 name: str = "renewal programme", currency: str = "",
+                 illustrative: bool = False, description: str = "") -> None:
+        self._args = {k: v for k, v in locals().items() if k not in ("self", "__class__")}
+        if not isinstance(fluid, Fluid):
+            raise InputError("fluid must be a pipeopt.Fluid")
+        for value, cls, what in ((tariff, EnergyTariff, "tariff"),
+                                 (economics, Economics, "economics"),
+                                 (breaks, BreakSettings, "breaks"),
+                                 (replacement, NewMain, "replacement"),
+                                 (programme, ProgrammeSettings, "programme"),
+                                 (solver or SolverOptions(), SolverOptions, "solver"),
+                                 (pumped_mains or PumpedMains(), PumpedMains, "pumped_mains")):
+            if not isinstance(value, cls):
+                raise InputError(f"{what} must be a {cls.__name__}; got {type(value).__name__}")
+        mats = tuple(m if isinstance(m, MaterialClass) else MaterialClass(**m)
+                     for m in (materials or ()))
         if not mats:
             raise InputError("material: at least one material class is needed")
-        self.materials = {m.name: m for m in mats}
-        if len(self.materials) != len(mats):
+        if len({m.name for m in mats}) != len(mats):
             raise InputError("material: every material class needs its own name")
-        self.material_names = sorted(self.materials)
+        self.fluid = fluid
+        self.material_classes = mats
+        self.material_names = sorted(m.name for m in mats)
         self.tariff = tariff
-        self.replacement = replacement or NewMain()
+        self.pumping = pumping if isinstance(pumping, Pumping) else Pumping(pumping)
+        self.economics = economics
+        self.breaks = breaks
+        self.replacement = replacement
+        self.programme = programme
         self.solver = solver or SolverOptions()
-        if growth_from not in GROWTH_FROM:
-            raise InputError(f"breaks.growth_from must be one of {', '.join(GROWTH_FROM)}; got "
-                             f"{growth_from!r}")
-        self.growth_from = growth_from
-        self.min_fit_breaks = int(_plain(min_fit_breaks, "breaks.min_fit_breaks", 1, 1e6))
-        self.max_fitted_growth = _plain(max_fitted_growth, "breaks.max_fitted_growth", 0.0, 0.5)
-        if isinstance(first_year, bool) or int(first_year) != first_year \
-                or not 1900 <= first_year <= 2200:
-            raise InputError(f"programme.first_year must be a calendar year; got {first_year!r}")
-        self.first_year = int(first_year)
-        n = horizon
-        if isinstance(n, bool) or int(n) != n or not 1 <= n <= 200:
-            raise InputError(f"economics.horizon must be a whole number of years from 1 to 200; "
-                             f"got {horizon!r}")
-        n = int(n)
-        if isinstance(budget, (list, tuple, np.ndarray)):
-            b = np.asarray(budget, dtype=float).reshape(-1)
-            default_years = b.size
-        else:
-            b = np.asarray([_plain(budget, "programme.budget", 0.0, 1e15)])
-            default_years = n
-        if years is None:
-            years = default_years
-        if isinstance(years, bool) or int(years) != years or not 1 <= years <= n:
-            raise InputError(f"programme.years must be a whole number from 1 to the horizon "
-                             f"({n}); got {years!r}")
-        self.years = int(years)
-        if b.size == 1:
-            b = np.full(self.years, b[0])
-        if b.size != self.years:
-            raise InputError(f"programme.budget: a list must give one budget for each of the "
-                             f"{self.years} years of the programme; got {b.size}")
-        if not (np.all(np.isfinite(b)) and np.all(b >= 0)):
-            raise InputError("programme.budget must be >= 0 in every year")
-        self.budget = b
+        self.pumped_mains = pumped_mains or PumpedMains()
+        self.flow_growth = flow_growth(growth)
+        self.info = StudyInfo(name, currency, illustrative, description)
+        self.budget = programme.budgets(economics.horizon)
+        self.years = int(self.budget.size)
         self.scenario = RenewalScenario(
             density=fluid.density, viscosity=fluid.viscosity,
-            efficiency=_plain(efficiency, "pumping.efficiency", 1e-6, 1.0), tariff=tariff,
-            discount_rate=_plain(discount_rate, "economics.discount_rate", 0.0, 0.99),
-            horizon=n, break_cost=_plain(break_cost, "breaks.repair_cost", 0.0, 1e12),
-            new_roughness=self.replacement.roughness, new_aging=self.replacement.aging,
-            life=self.replacement.life, maintenance=self.replacement.maintenance,
-            break_factor=self.replacement.break_factor,
-            minor_loss_k=_plain(minor_loss_k, "pumping.minor_loss_k", 0.0, 1e4),
-            flow_growth=_plain(flow_growth, "pumping.flow_growth", -0.5, 0.5))
-        self.name = name
-        self.currency = currency
-        self.illustrative = bool(illustrative)
+            efficiency=self.pumping.efficiency, tariff=tariff,
+            discount_rate=economics.discount_rate, horizon=economics.horizon,
+            break_cost=breaks.repair_cost, new_roughness=replacement.roughness,
+            new_aging=replacement.aging, life=economics.pipe_life,
+            maintenance=economics.pipe_maintenance, break_factor=replacement.break_factor,
+            minor_loss_k=self.pumped_mains.minor_loss_k,
+            flow_growth=self.flow_growth.growth, design_year=self.flow_growth.design_year)
+        self._frozen = True
+
+    def replace(self, **changes: Any) -> ProgrammeStudy:
+        """A new study with some constructor arguments changed, e.g.
+        ``study.replace(breaks=BreakSettings(9000.0))``."""
+        return super().replace(**changes)
+
+    # ----- settings -------------------------------------------------------------------------
+    @property
+    def materials(self) -> MappingProxyType:
+        """The material classes by name (read-only)."""
+        return MappingProxyType({m.name: m for m in self.material_classes})
+
+    @property
+    def first_year(self) -> int:
+        """Calendar year of year of action 0 (now)."""
+        return int(self.programme.first_year)
+
+    @property
+    def growth_from(self) -> str:
+        """Where the break growth rates come from (:data:`GROWTH_FROM`)."""
+        return self.breaks.growth_from
+
+    @property
+    def min_fit_breaks(self) -> int:
+        return int(self.breaks.min_fit_breaks)
+
+    @property
+    def max_fitted_growth(self) -> float:
+        return float(self.breaks.max_fitted_growth)
 
     @property
     def horizon(self) -> int:
@@ -563,99 +471,15 @@ class ProgrammeStudy(StudyFileMixin):
     # ----- study files ----------------------------------------------------------------------
     @classmethod
     def _from_dict(cls, mapping: dict, base: Path) -> ProgrammeStudy:
-        top = Section(mapping, "", ("study", "fluid", "pumping", "energy", "economics",
-                                    "breaks", "replacement", "material", "programme",
-                                    "solver"))
-        name, currency, illustrative = "renewal programme", "", False
-        st = top.table("study", ("name", "currency", "illustrative", "description"))
-        if st:
-            name = st.text("name", name)
-            currency = st.text("currency", "")
-            ill = st.raw("illustrative", False)
-            if not isinstance(ill, bool):
-                raise StudyFileError("study.illustrative: expected true or false")
-            illustrative = ill
-            st.text("description", "")
-        fl = top.table("fluid", ("kind", "temperature", "density", "viscosity", "name"),
-                       required=True)
-        kind = fl.text("kind", "water", ("water", "custom"))
-        if kind == "water":
-            fluid = Fluid.water(Quantity(fl.quantity("temperature", "temperature"), "K"))
-        else:
-            fluid = Fluid(Quantity(fl.quantity("density", "density"), "kg/m^3"),
-                          Quantity(fl.quantity("viscosity", "viscosity"), "Pa*s"),
-                          name=fl.text("name", "custom fluid"))
-        pu = top.table("pumping", ("efficiency", "minor_loss_k", "flow_growth"), required=True)
-        en = top.table("energy", ("price", "escalation", "demand_charge"), required=True)
-        tariff = EnergyTariff(en.number("price", None, low=0.0, low_open=True, high=100.0,
-                                        example="0.15"),
-                              en.number("escalation", 0.0, low=-0.5, high=0.5),
-                              en.number("demand_charge", 0.0, low=0.0))
-        ec = top.table("economics", ("discount_rate", "horizon"), required=True)
-        br = top.table("breaks", ("repair_cost", "growth_from", "min_fit_breaks",
-                                  "max_fitted_growth"), required=True)
-        rp = top.table("replacement", ("roughness", "aging", "life", "maintenance",
-                                       "break_factor"), required=True)
-        replacement = NewMain(
-            Quantity(rp.quantity("roughness", "roughness", nonnegative=True), "m"),
-            Quantity(rp.quantity("aging", "aging_rate", default="0 mm/yr", nonnegative=True),
-                     "m/year"),
-            rp.number("life", None, low=1.0, high=500.0, example="80"),
-            rp.number("maintenance", 0.0, low=0.0, high=1.0),
-            rp.number("break_factor", 0.0, low=0.0, high=1.0))
-        materials = []
-        for sec in top.tables("material", ("name", "roughness", "aging", "break_growth")):
-            mname = sec.text("name", None)
-            if not mname:
-                raise StudyFileError(f"{sec.key('name')}: required key is missing (the name "
-                                     f"used in the register's material column)")
-            materials.append(MaterialClass(
-                mname, Quantity(sec.quantity("roughness", "roughness", nonnegative=True), "m"),
-                Quantity(sec.quantity("aging", "aging_rate", nonnegative=True), "m/year"),
-                sec.number("break_growth", None, low=-0.5, high=0.5, example="0.04")))
-        pr = top.table("programme", ("first_year", "budget", "years"), required=True)
-        budget = pr.required("budget")
-        if isinstance(budget, list):
-            if not budget:
-                raise StudyFileError("programme.budget: the list is empty")
-            for k, v in enumerate(budget):
-                if isinstance(v, bool) or not isinstance(v, (int, float)) or not v >= 0 \
-                        or not math.isfinite(v):
-                    raise StudyFileError(f"programme.budget[{k}]: expected a capital >= 0 "
-                                         f"(a plain number in the study currency), got {v!r}")
-        else:
-            budget = pr.number("budget", None, low=0.0, example="2.5e6 (or a list by year)")
-        years = pr.number("years", -1.0, low=1, high=200, integer=True) \
-            if pr.has("years") else None
-        if isinstance(budget, list) and years is not None and int(years) != len(budget):
-            raise StudyFileError(f"programme.years: {int(years)} years but the budget list "
-                                 f"gives {len(budget)}")
-        so = top.table("solver", ("method", "time_limit", "mip_gap", "max_pairs", "node_limit"))
-        solver = SolverOptions()
-        if so:
-            solver = SolverOptions(so.text("method", "auto", METHODS),
-                                   so.number("time_limit", 120.0, low=0.1, high=86400.0),
-                                   so.number("mip_gap", 1e-4, low=0.0, high=1.0),
-                                   int(so.number("max_pairs", 5_000, low=1, integer=True)),
-                                   int(so.number("node_limit", 5_000, low=1, integer=True)))
-        return cls(
-            fluid=fluid, materials=materials, tariff=tariff,
-            efficiency=pu.number("efficiency", None, low=0.0, high=1.0, low_open=True,
-                                 example="0.70"),
-            discount_rate=ec.number("discount_rate", None, low=0.0, high=0.99, example="0.04"),
-            horizon=int(ec.number("horizon", None, low=1, high=200, integer=True,
-                                  example="40")),
-            break_cost=br.number("repair_cost", None, low=0.0, example="6500"),
-            budget=budget,
-            first_year=int(pr.number("first_year", None, low=1900, high=2200, integer=True,
-                                     example="2027")),
-            years=None if years is None else int(years), replacement=replacement,
-            minor_loss_k=pu.number("minor_loss_k", 0.0, low=0.0),
-            flow_growth=pu.number("flow_growth", 0.0, low=-0.5, high=0.5),
-            growth_from=br.text("growth_from", "material", GROWTH_FROM),
-            min_fit_breaks=int(br.number("min_fit_breaks", 100, low=1, integer=True)),
-            max_fitted_growth=br.number("max_fitted_growth", 0.2, low=0.0, high=0.5),
-            solver=solver, name=name, currency=currency, illustrative=illustrative)
+        sec = read_programme(mapping, base)
+        info = sec["info"]
+        return cls(fluid=sec["fluid"].build(), materials=sec["materials"],
+                   tariff=sec["energy"], pumping=sec["pumping"], economics=sec["economics"],
+                   breaks=sec["breaks"], replacement=sec["replacement"],
+                   programme=sec["programme"], solver=sec["solver"],
+                   pumped_mains=sec["pumped_mains"], growth=sec["growth"], name=info.name,
+                   currency=info.currency, illustrative=info.illustrative,
+                   description=info.description)
 
     # ----- running --------------------------------------------------------------------------
     def evaluate(self, register: Any, dask: Any = None, partition_rows: int = 50_000,
@@ -928,9 +752,13 @@ def _result(study: ProgrammeStudy, ev: RegisterEvaluation, plan: Schedule,
                            scheduling_seconds=seconds)
 
 
-@dataclass
-class ProgrammeResult:
+@dataclass(repr=False)
+class ProgrammeResult(StudyResult):
     """A budgeted renewal programme over a register of mains.
+
+    It follows the result protocol (:class:`~pipeopt.results.StudyResult`): ``success``,
+    ``message``, the tables as attributes, :meth:`text` (also ``str(result)``), a one-line
+    ``repr`` and an HTML form for notebooks.
 
     Attributes
     ----------
@@ -1080,11 +908,16 @@ class ProgrammeResult:
         lines += ["", "Caution: " + CAUTION]
         return "\n".join(lines)
 
-    def __repr__(self) -> str:
-        return (f"ProgrammeResult({self.study.name!r}: {self.message.split(';')[0]}, NPV "
-                f"{self.plan.objective:,.0f}{' ' + self.currency if self.currency else ''})")
+    def headline(self) -> str:
+        """The outcome in one line."""
+        cur = f" {self.currency}" if self.currency else ""
+        if not len(self.mains):
+            return f"{self.study.name}: {self.message}"
+        renewed = int(self.schedule["mains"].sum())
+        return (f"{self.study.name}: {renewed:,} of {len(self.mains):,} mains renewed in "
+                f"{self.study.years} years, NPV {self.plan.objective:,.0f}{cur}")
 
-    def _repr_html_(self) -> str:
-        text = html.escape(self.text()).replace("\n", "<br>")
-        sched = self.schedule.to_html(index=False, border=0, float_format=lambda x: f"{x:,.4g}")
-        return f"<div><p style='font-family:monospace'>{text}</p>{sched}</div>"
+    def tables(self) -> dict[str, pd.DataFrame]:
+        return {"Programme by year": self.schedule, "Ranked mains": self.ranked(),
+                "Break growth by material class": self.growth.reset_index(),
+                "Rejected register rows": self.rejected}

@@ -3,7 +3,7 @@
 :func:`write_programme_report` writes into a folder: every table of a
 :class:`~pipeopt.programme.ProgrammeResult` as CSV and as Parquet (``mains``, ``schedule``,
 ``rejected``, ``growth``, ``npv_by_year``, ``inputs``), the yearly capital chart
-(``figures/yearly_capital.png``) and ``report.md`` / ``report.html`` (the cautions, the summary,
+(``figures/yearly_capital.png``) and ``report.md`` / ``report.html`` (the caution, the summary,
 the inputs with units, the model's assumptions, the schedule, the chart, the ranked list, the
 rejected rows, the data sources). Every file is built first, then written through
 :func:`pipeopt.outputs.write_result_set` (one result set, written whole).
@@ -25,7 +25,9 @@ import matplotlib.pyplot as plt  # noqa: E402
 import pandas as pd  # noqa: E402
 
 from . import plots  # noqa: E402
-from .report import CAUTIONS  # noqa: E402
+from .outputs import csv_text, markdown_code, markdown_text, printable  # noqa: E402
+from .report import STYLE  # noqa: E402
+from .results import CAUTION  # noqa: E402
 
 __all__ = ["write_programme_report", "ASSUMPTIONS_PROGRAMME"]
 
@@ -51,10 +53,6 @@ ASSUMPTIONS_PROGRAMME = [
 ]
 
 
-def _csv(frame: pd.DataFrame) -> str:
-    return frame.to_csv(index=False, float_format="%.10g", lineterminator="\n")
-
-
 def _parquet(frame: pd.DataFrame) -> bytes:
     buf = io.BytesIO()
     frame.to_parquet(buf, index=False)
@@ -69,36 +67,42 @@ def _png(ax) -> bytes:
 
 
 def _md(frame: pd.DataFrame) -> str:
-    cols = [str(c) for c in frame.columns]
+    cols = [markdown_text(c) for c in frame.columns]
     lines = ["| " + " | ".join(cols) + " |", "|" + "---|" * len(cols)]
     for row in frame.itertuples(index=False):
-        cells = ["" if pd.isna(v) else f"{v:,.4g}" if isinstance(v, float) else str(v)
+        cells = ["" if pd.isna(v) else f"{v:,.4g}" if isinstance(v, float) else markdown_text(v)
                  for v in row]
-        lines.append("| " + " | ".join(c.replace("|", "/") for c in cells) + " |")
+        lines.append("| " + " | ".join(cells) + " |")
     return "\n".join(lines)
 
 
 def _inputs(result: Any) -> pd.DataFrame:
+    """Every input of the study with its unit, by study-file section and key."""
     s = result.study
     sc = s.scenario
     cur = s.currency or "currency"
     r = s.replacement
+    ec = s.economics
+    design = s.flow_growth.design_year
     rows = [("fluid", "name", s.fluid.name, ""), ("fluid", "density", sc.density, "kg/m³"),
             ("fluid", "viscosity", sc.viscosity, "Pa·s"),
-            ("pumping", "efficiency", sc.efficiency, "-"),
-            ("pumping", "minor_loss_k", sc.minor_loss_k, "-"),
-            ("pumping", "flow_growth", sc.flow_growth, "1/yr"),
+            ("pumping", "efficiency", s.pumping.efficiency, "-"),
+            ("pumped_mains", "minor_loss_k", s.pumped_mains.minor_loss_k, "-"),
+            ("growth", "flow_per_year", s.flow_growth.growth, "1/yr"),
+            ("growth", "design_year", "" if design is None else design, "yr"),
             ("energy", "price", s.tariff.price, f"{cur}/kWh"),
             ("energy", "escalation", s.tariff.escalation, "1/yr"),
             ("energy", "demand_charge", s.tariff.demand_charge, f"{cur}/(kW·yr)"),
-            ("economics", "discount_rate", sc.discount_rate, "1/yr"),
-            ("economics", "horizon", sc.horizon, "yr"),
-            ("breaks", "repair_cost", sc.break_cost, cur),
+            ("economics", "discount_rate", ec.discount_rate, "1/yr"),
+            ("economics", "horizon", ec.horizon, "yr"),
+            ("economics", "pipe_life", ec.pipe_life, "yr"),
+            ("economics", "pipe_maintenance", ec.pipe_maintenance, "1/yr"),
+            ("breaks", "repair_cost", s.breaks.repair_cost, cur),
             ("breaks", "growth_from", s.growth_from, ""),
+            ("breaks", "min_fit_breaks", s.min_fit_breaks, "breaks"),
+            ("breaks", "max_fitted_growth", s.max_fitted_growth, "1/yr"),
             ("replacement", "roughness", r.roughness * 1e3, "mm"),
             ("replacement", "aging", r.aging * 1e3, "mm/yr"),
-            ("replacement", "life", r.life, "yr"),
-            ("replacement", "maintenance", r.maintenance, "1/yr"),
             ("replacement", "break_factor", r.break_factor, "-"),
             ("programme", "first_year", s.first_year, ""),
             ("programme", "years", s.years, "yr")]
@@ -113,8 +117,10 @@ def _inputs(result: Any) -> pd.DataFrame:
     rows += [("solver", "method", so.method, ""), ("solver", "max_pairs", so.max_pairs, "-"),
              ("solver", "node_limit", so.node_limit, "-"),
              ("solver", "time_limit", so.time_limit, "s"), ("solver", "mip_gap", so.mip_gap, "-")]
-    return pd.DataFrame(rows, columns=["section", "input", "value", "unit"]).astype(
-        {"value": str})
+    # numbers to 10 significant figures: a unit conversion's last-digit noise is not an input
+    rows = [(sec, key, f"{v:.10g}" if isinstance(v, float) else str(v), unit)
+            for sec, key, v, unit in rows]
+    return pd.DataFrame(rows, columns=["section", "input", "value", "unit"])
 
 
 def _provenance(result: Any) -> list[str]:
@@ -173,7 +179,7 @@ def programme_report_files(result: Any, ranked: int = 50,
     figure = _png(plots.yearly_capital(result))
     files: dict[str, bytes | str] = {}
     for name, frame in tables.items():
-        files[f"{name}.csv"] = _csv(frame)
+        files[f"{name}.csv"] = csv_text(frame)
         files[f"{name}.parquet"] = _parquet(frame)
     files["figures/yearly_capital.png"] = figure
     top = result.ranked(ranked)
@@ -182,8 +188,8 @@ def programme_report_files(result: Any, ranked: int = 50,
     summary = result.text()
     title = f"pipeopt renewal programme: {result.study.name}"
     sched = result.schedule
-    md = [f"# {title}", "", "## Cautions", "", *[f"- {c}" for c in CAUTIONS], "",
-          "## Summary", "", "```", summary, "```", "", "## Programme by year", "",
+    md = [f"# {markdown_text(title)}", "", "## Caution", "", CAUTION, "",
+          "## Summary", "", *markdown_code(summary), "", "## Programme by year", "",
           _md(sched), "", "![yearly capital](figures/yearly_capital.png)", "",
           f"## Ranked list (first {len(top)} of {int(result.mains['renewal_pays'].sum())} "
           f"mains whose renewal pays)", "", _md(top), "",
@@ -193,7 +199,7 @@ def programme_report_files(result: Any, ranked: int = 50,
           *(["", f"... and {more} more in rejected.csv."] if more > 0 else []), "",
           "## Inputs", "", _md(inputs), "", "## Model assumptions", "",
           *[f"- {a}" for a in ASSUMPTIONS_PROGRAMME], "", "## Data sources", "",
-          *[f"- {p}" for p in _provenance(result)], ""]
+          *[f"- {markdown_text(p)}" for p in _provenance(result)], ""]
     files["report.md"] = "\n".join(md)
     esc = html.escape
 
@@ -201,18 +207,16 @@ def programme_report_files(result: Any, ranked: int = 50,
         return frame.to_html(index=False, border=0, na_rep="",
                              float_format=lambda x: f"{x:,.4g}")
 
-    style = ("body{font-family:sans-serif;max-width:75em;margin:2em auto;color:#222}"
-             "table{border-collapse:collapse;font-size:0.85em}td,th{padding:2px 8px;"
-             "border-bottom:1px solid #ddd;text-align:right}pre{background:#f6f6f6;padding:1em;"
-             "overflow-x:auto}.caution{border-left:4px solid #D55E00;padding:0.5em 1em;"
-             "background:#fff4ec}img{max-width:100%}")
+    # the print stylesheet of the sizing and upgrade reports: no scroll boxes, pages numbered
+    style = STYLE + ('@page { @bottom-right { content: "Page " counter(page) " of " '
+                     'counter(pages); font-size: 7.5pt; color: #555; } }'
+                     "td, th { text-align: right; } img { max-width: 100%; }")
     png = base64.b64encode(figure).decode()
     files["report.html"] = (
         f"<!DOCTYPE html><html><head><meta charset='utf-8'><title>{esc(title)}</title>"
         f"<style>{style}</style></head><body><h1>{esc(title)}</h1>"
-        "<div class='caution'><b>Cautions</b><ul>"
-        + "".join(f"<li>{esc(c)}</li>" for c in CAUTIONS) + "</ul></div>"
-        f"<h2>Summary</h2><pre>{esc(summary)}</pre>"
+        f"<div class='caution'><b>Caution</b><p>{esc(CAUTION)}</p></div>"
+        f"<h2>Summary</h2><pre>{esc(printable(summary))}</pre>"
         f"<h2>Programme by year</h2>{table(sched)}"
         f"<figure><img alt='yearly capital' src='data:image/png;base64,{png}'/>"
         "<figcaption>capital by year against the budget</figcaption></figure>"

@@ -42,6 +42,7 @@ import numpy as np
 import pandas as pd
 
 from .errors import InputError
+from .feasibility import join_clauses
 
 __all__ = ["REQUIRED_COLUMNS", "OPTIONAL_COLUMNS", "BREAK_WINDOW", "Register", "read_frame",
            "check_columns", "normalise_ids", "duplicate_ids", "validate", "read_register",
@@ -155,22 +156,6 @@ def duplicate_ids(ids: pd.Series) -> np.ndarray:
 # --------------------------------------------------------------------------------------------
 # checking
 # --------------------------------------------------------------------------------------------
-def _join(n: int, clauses: list[tuple[np.ndarray, Any]]) -> np.ndarray:
-    """Reasons of each of n rows: the clauses whose mask holds there, joined by '; '.
-
-    Each clause is (mask, words) where ``words(ix)`` gives the text of the flagged rows only.
-    """
-    out = np.full(n, "", dtype=object)
-    for mask, words in clauses:
-        ix = np.flatnonzero(mask)
-        if ix.size == 0:
-            continue
-        text = np.asarray(words(ix), dtype=object)
-        prev = out[ix]
-        out[ix] = np.where(prev == "", text, prev + "; " + text)
-    return out
-
-
 def _cells(raw: pd.Series) -> np.ndarray:
     return raw.astype(object).to_numpy()
 
@@ -292,7 +277,7 @@ def validate(frame: pd.DataFrame, materials: Any = None, first_year: int | None 
         f"{LIMITS['velocity_m_s']:g} m/s: check the flow and the diameter"))
     bad |= fast
 
-    reasons = _join(n, clauses)
+    reasons = join_clauses(n, clauses)
     rejected = pd.DataFrame({"row": row[bad], "main_id": id_text[bad].astype(str),
                              "reason": reasons[bad].astype(str)})
     ok = ~bad

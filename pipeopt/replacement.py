@@ -5,19 +5,21 @@ and of replacing it in each year of action a = 0 … N − 1, with the conventio
 upgrade study (:mod:`pipeopt.upgrade`):
 
 - study years t = 1 … N from now; an action in year a spends its capital at time a and the new
-  main serves from year a + 1; every cash flow is real and discounted to now with
-  :func:`pipeopt.economics.discount_factor`;
+  main serves from year a + 1; every cash flow is real and discounted to now with the factors
+  of a :class:`pipeopt.cashflow.Timeline`;
 - breaks of the existing main: the rate N0 e^{A t} integrated over each year
   (:func:`pipeopt.renewal.break_counts`) times the cost of a repair; after replacement a share
   ``break_factor`` of them continues (0 by default: a new main);
-- energy of a pumped main (one duty: flow Q growing by g a year, held ``hours`` a year): the bore
-  D and a roughness ε_t = ε_now + α (t − 1) before the action, the new bore and
-  ε_new + α_new (t − a − 1) after it; Reynolds number, Colebrook–White friction factor and
-  Darcy–Weisbach head loss plus minor losses (:mod:`pipeopt.friction`); P = ρ g Q (z + h) / η;
-  yearly cost E_t p (1 + e)^(t−1) + d P̂_t (:class:`pipeopt.costs.EnergyTariff`);
+- energy of a pumped main (one duty: flow Q growing by g a year until the design year, held
+  ``hours`` a year, :func:`pipeopt.duty.flow_multipliers`): the bore D and a roughness
+  ε_t = ε_now + α (t − 1) before the action, the new bore and ε_new + α_new (t − a − 1) after
+  it; velocity, Reynolds number, Colebrook–White friction factor and Darcy–Weisbach head loss
+  plus minor losses (:func:`pipeopt.hydraulics.pipe_hydraulics`, as in an upgrade study);
+  P = ρ g Q (z + h) / η; yearly cost E_t p (1 + e)^(t−1) + d P̂_t
+  (:meth:`pipeopt.costs.EnergyTariff.yearly_cost`);
 - maintenance of the new main, a fraction of its capital every year after the action;
 - residual value of the new main at the horizon, straight line over its life:
-  C max(0, 1 − (N − a) / T).
+  C max(0, 1 − (N − a) / T) (:func:`pipeopt.economics.straight_line_residual`).
 
 NPV of replacing in year a = PV(keep) − PV(replace in a); the best year is the one of least PV
 (greatest NPV); benefit–cost ratio = PV of the running-cost savings over PV of the net capital
@@ -40,13 +42,17 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
 from . import friction as fr
+from .cashflow import Timeline
 from .costs import EnergyTariff
-from .economics import discount_factor
+from .duty import flow_multipliers
+from .economics import straight_line_residual
 from .errors import InputError
+from .hydraulics import pipe_hydraulics
 from .renewal import break_counts
 
 __all__ = ["RenewalScenario", "Mains", "MainsEconomics", "evaluate_mains"]
@@ -71,7 +77,7 @@ class RenewalScenario:
     tariff : EnergyTariff
         Energy price, its real escalation and the demand charge.
     discount_rate : float
-        Real discount rate i [1/yr], 0 <= i < 1.
+        Real discount rate i [1/yr], 0 <= i <= 1.
     horizon : int
         Study years N [yr].
     break_cost : float
@@ -90,7 +96,14 @@ class RenewalScenario:
         Sum of minor-loss coefficients of a pumped main ΣK [-].
     flow_growth : float
         Compound growth of every pumped flow g [1/yr].
+    design_year : int, optional
+        The pumped flows grow until this study year and then stay [yr].
     """
+
+    #: Every main's friction factor is Colebrook–White's (for
+    #: :func:`pipeopt.hydraulics.pipe_hydraulics`).
+    friction_method: ClassVar[str] = "colebrook"
+    constant_friction_factor: ClassVar[None] = None
 
     density: float
     viscosity: float
@@ -106,12 +119,13 @@ class RenewalScenario:
     break_factor: float = 0.0
     minor_loss_k: float = 0.0
     flow_growth: float = 0.0
+    design_year: int | None = None
 
     def __post_init__(self) -> None:
         checks = [
             ("density", self.density > 0), ("viscosity", self.viscosity > 0),
             ("efficiency", 0 < self.efficiency <= 1),
-            ("discount_rate", 0 <= self.discount_rate < 1),
+            ("discount_rate", 0 <= self.discount_rate <= 1),
             ("horizon", int(self.horizon) == self.horizon and 1 <= self.horizon <= 200),
             ("break_cost", self.break_cost >= 0), ("new_roughness", self.new_roughness >= 0),
             ("new_aging", self.new_aging >= 0), ("life", self.life > 0),
@@ -119,10 +133,12 @@ class RenewalScenario:
             ("break_factor", 0 <= self.break_factor <= 1),
             ("minor_loss_k", self.minor_loss_k >= 0),
             ("flow_growth", -0.5 <= self.flow_growth <= 0.5),
+            ("design_year", self.design_year is None or (int(self.design_year)
+                                                         == self.design_year >= 1)),
         ]
         for name, ok in checks:
             value = getattr(self, name)
-            if not (ok and math.isfinite(value)):
+            if not (ok and (value is None or math.isfinite(value))):
                 raise InputError(f"{name} is out of range; got {value!r}")
 
 
@@ -264,26 +280,16 @@ class MainsEconomics:
 def _hydraulics(s: RenewalScenario, flow: np.ndarray, diameter: np.ndarray,
                 roughness: np.ndarray, length: np.ndarray) -> dict[str, np.ndarray]:
     """Head loss and pumping of one main per row, broadcasting; flows are positive."""
-    flow, diameter, roughness, length = np.broadcast_arrays(flow, diameter, roughness, length)
-    velocity = flow / (np.pi * diameter * diameter / 4.0)
-    re = fr.reynolds_number_from_flow(flow, diameter, s.density, s.viscosity)
-    relative = roughness / diameter
-    capped = relative > fr.MAX_RELATIVE_ROUGHNESS
-    f = fr.friction_factor(re, np.minimum(relative, fr.MAX_RELATIVE_ROUGHNESS),
-                           transition="ignore")
-    h = (fr.darcy_weisbach_head_loss(f, length, diameter, velocity)
-         + fr.minor_head_loss(s.minor_loss_k, velocity))
-    return {"velocity": velocity, "head_loss": h, "capped": capped,
-            "transitional": (re >= fr.LAMINAR_LIMIT) & (re < fr.TURBULENT_LIMIT)}
+    return pipe_hydraulics(s, diameter, roughness, flow, length)
 
 
 def _energy_cost(s: RenewalScenario, flow: np.ndarray, head_loss: np.ndarray,
-                 static_head: np.ndarray, hours: np.ndarray,
-                 price: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Yearly energy [kWh] and its cost (energy at the escalated price + demand charge)."""
+                 static_head: np.ndarray, hours: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Yearly energy [kWh] and its cost (:meth:`~pipeopt.costs.EnergyTariff.yearly_cost`),
+    years on the last axis."""
     power_w = s.density * fr.GRAVITY * flow * (static_head + head_loss) / s.efficiency
     energy = power_w * hours / 1000.0
-    return energy, energy * price + s.tariff.demand_charge * (power_w / 1000.0)
+    return energy, s.tariff.yearly_cost(energy, power_w / 1000.0)
 
 
 def _suffix(prefix: np.ndarray, n: int) -> np.ndarray:
@@ -332,9 +338,9 @@ def evaluate_mains(s: RenewalScenario, mains: Mains) -> MainsEconomics:
     count = mains.size
     t = np.arange(1, n + 1)
     years = np.arange(n)                                     # years of action a
-    disc = np.asarray(discount_factor(s.discount_rate, np.arange(n + 1)))  # (N+1,), t = 0 … N
+    timeline = Timeline(s.discount_rate, n)
+    disc = timeline.factor[0]                                # (N+1,), t = 0 … N
     d = disc[1:]
-    price = s.tariff.price_by_year(n)                        # (N,)
 
     # breaks of the existing main, every year (M, N)
     breaks = (break_counts(1.0, mains.break_growth, n) * mains.breaks_now[:, None]
@@ -351,7 +357,7 @@ def evaluate_mains(s: RenewalScenario, mains: Mains) -> MainsEconomics:
     transitional = np.zeros(count, dtype=bool)
     new_energy_pv = np.zeros((count, n))                     # Σ_{t>a} new energy cost d_t
     pumped = np.flatnonzero(mains.flow > 0)
-    growth = (1.0 + s.flow_growth) ** (t - 1)                # (N,)
+    growth = flow_multipliers(n, s.flow_growth, design_year=s.design_year)   # (N,)
     if pumped.size:
         q = mains.flow[pumped, None] * growth[None, :]       # (P, N)
         eps = mains.roughness[pumped, None] + mains.aging[pumped, None] * (t - 1)[None, :]
@@ -359,7 +365,7 @@ def evaluate_mains(s: RenewalScenario, mains: Mains) -> MainsEconomics:
         z = mains.static_head[pumped, None]
         hours = mains.hours[pumped, None]
         old = _hydraulics(s, q, mains.diameter[pumped, None], eps, length)
-        energy, cost = _energy_cost(s, q, old["head_loss"], z, hours, price)
+        energy, cost = _energy_cost(s, q, old["head_loss"], z, hours)
         keep_energy[pumped] = cost
         energy_year1[pumped] = energy[:, 0]
         head_loss_year1[pumped] = old["head_loss"][:, 0]
@@ -371,20 +377,20 @@ def evaluate_mains(s: RenewalScenario, mains: Mains) -> MainsEconomics:
             # special case: the new main does not age, so its hydraulics depend on the year
             # only and its energy over t > a is a suffix sum
             new = _hydraulics(s, q, d_new, np.full((1, 1), s.new_roughness), length)
-            _, new_cost = _energy_cost(s, q, new["head_loss"], z, hours, price)
+            _, new_cost = _energy_cost(s, q, new["head_loss"], z, hours)
             transitional[pumped] |= new["transitional"].any(axis=1)
             pre = np.concatenate([np.zeros((pumped.size, 1)),
                                   np.cumsum(new_cost * d, axis=1)], axis=1)
             new_energy_pv[pumped] = _suffix(pre, n)
         else:
-            new_energy_pv[pumped] = _aging_new_energy(s, mains, pumped, q, price, d,
-                                                      transitional)
+            new_energy_pv[pumped] = _aging_new_energy(s, mains, pumped, q, d, transitional)
     pre_energy = np.concatenate([zero, np.cumsum(keep_energy * d, axis=1)], axis=1)
 
     capital = mains.capital[:, None]
-    residual = np.maximum(0.0, 1.0 - (n - years) / s.life)   # (N,) fraction credited at N
-    after = _suffix(np.concatenate([[0.0], np.cumsum(d)])[None, :], n)   # (1, N): Σ_{t>a} d_t
-    net_capital = capital * (disc[None, :n] - residual[None, :] * disc[n])          # (M, N)
+    residual = np.asarray(straight_line_residual(n - years, s.life))  # (N,) share left at N
+    # Σ_{t>a} d_t: present worth of 1 a year in the years after each year of action, (1, N)
+    after = (timeline.after(years[None, :]) * timeline.factor[:, None, :]).sum(axis=-1)
+    net_capital = capital * (disc[None, :n] - residual[None, :] * timeline.end_factor)  # (M, N)
     maintenance = s.maintenance * capital * after                                    # (M, N)
     breaks_after = _suffix(pre_breaks, n)                                            # (M, N)
     pv_replace = (pre_energy[:, :n] + pre_breaks[:, :n] + net_capital + new_energy_pv
@@ -409,8 +415,7 @@ def evaluate_mains(s: RenewalScenario, mains: Mains) -> MainsEconomics:
 
 
 def _aging_new_energy(s: RenewalScenario, mains: Mains, pumped: np.ndarray, q: np.ndarray,
-                      price: np.ndarray, d: np.ndarray,
-                      transitional: np.ndarray) -> np.ndarray:
+                      d: np.ndarray, transitional: np.ndarray) -> np.ndarray:
     """Σ_{t>a} of the new main's energy cost, discounted, when the new main ages: (P, N).
 
     The new main's roughness in year t after an action in year a is ε_new + α_new (t − a − 1);
@@ -445,7 +450,7 @@ def _aging_new_energy(s: RenewalScenario, mains: Mains, pumped: np.ndarray, q: n
                               length[:, :, None])
             loss = hyd["head_loss"]
             trans = (hyd["transitional"] & after[None]).any(axis=(1, 2))
-        _, cost = _energy_cost(s, qb[:, None, :], loss, z[:, :, None], hours[:, :, None], price)
+        _, cost = _energy_cost(s, qb[:, None, :], loss, z[:, :, None], hours[:, :, None])
         out[start:start + step] = (cost * weight[None, :, :]).sum(axis=2)
         transitional[rows] |= trans
     return out

@@ -25,7 +25,7 @@ from .errors import InputError
 from .units import KINDS, to_si
 
 __all__ = ["StudyFileError", "Section", "read_toml", "read_study", "StudyFileMixin",
-           "MAX_FILE_BYTES", "MAX_DEPTH", "MAX_NUMBER", "MAX_TEXT"]
+           "FrozenStudy", "MAX_FILE_BYTES", "MAX_DEPTH", "MAX_NUMBER", "MAX_TEXT"]
 
 #: Largest study file read [bytes] (a study file is a few kB).
 MAX_FILE_BYTES = 16 * 2**20

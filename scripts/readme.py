@@ -71,6 +71,21 @@ def demo_upgrade_study() -> str:
     return "\n".join(keep).rstrip()
 
 
+def demo_programme_study() -> str:
+    """The programme's own sections of its demo file, [economics] and the first material."""
+    keep: list[str] = []
+    take, materials = False, 0
+    for line in _demo_file("demo_programme.toml").splitlines():
+        if line.startswith("["):
+            material = line.startswith("[[material]]")
+            materials += material
+            take = (line.startswith(("[economics]", "[breaks]", "[replacement]", "[programme]"))
+                    or (material and materials == 1))
+        if take:
+            keep.append(line)
+    return "\n".join(keep).rstrip()
+
+
 def _table_lines(text: str) -> str:
     lines = text.splitlines()
     i = next(k for k, x in enumerate(lines) if x.startswith("option "))
@@ -196,6 +211,7 @@ def demo_longline_stations() -> str:
 
 
 GENERATORS = {
+    "programme-demo-study": demo_programme_study,
     "programme-demo": programme_demo,
     "network-demo-study": demo_network_study,
     "network-demo": network_demo,

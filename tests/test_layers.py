@@ -29,7 +29,7 @@ LAYERS = {
     # study
     "inputs": 3, "candidates": 3, "feasibility": 3, "optimum": 3, "results": 3, "sizing": 3,
     "upgrade": 3, "uncertainty": 3, "verification": 3, "programme": 3, "register": 3,
-    "route": 3, "longline": 3,
+    "route": 3, "longline": 3, "programme_inputs": 3,
     # presentation
     "plots": 4, "widgets": 4, "report": 4, "cli": 4, "outputs": 4,
     "programme_report": 4,

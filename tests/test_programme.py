@@ -14,6 +14,7 @@ Checks, each with its source:
 
 from __future__ import annotations
 
+import copy
 import math
 import subprocess
 import sys
@@ -28,7 +29,7 @@ from pipeopt import plots
 from pipeopt.cli import main
 from pipeopt.programme import STATUS, ProgrammeStudy, evaluate_rows
 from pipeopt.register import INVENTED_MATERIALS, invented_register
-from pipeopt.report import CAUTIONS
+from pipeopt.results import CAUTION
 from pipeopt.studyfile import StudyFileError, read_toml
 
 from .conftest import upgrade_study_for_main
@@ -44,9 +45,9 @@ def demo_dict(**changes) -> dict:
     for path, value in changes.items():
         section, key = path.split(".")
         if value is None:
-            data[section].pop(key, None)
+            data.get(section, {}).pop(key, None)
         else:
-            data[section][key] = value
+            data.setdefault(section, {})[key] = value
     return data
 
 
@@ -82,7 +83,7 @@ def test_demo_programme_is_consistent(demo_result):
 def test_fifty_register_mains_agree_with_the_upgrade_study():
     # the whole chain: register row -> break rate, growth, roughness -> economics; with flow
     # growth and an aging new main, so that the new main's energy is formed year by age
-    study = ProgrammeStudy.from_dict(demo_dict(**{"pumping.flow_growth": 0.006,
+    study = ProgrammeStudy.from_dict(demo_dict(**{"growth.flow_per_year": 0.006,
                                                   "replacement.aging": "0.01 mm/yr",
                                                   "breaks.growth_from": "material",
                                                   "programme.years": 40}))
@@ -165,19 +166,40 @@ def test_dask_equals_in_process_on_the_demo_register(tmp_path):
 @pytest.mark.parametrize(
     ("changes", "match"),
     [
-        ({"programme.budget": [1e6, "lots", 1e6]}, r"programme\.budget\[1\]: expected a capital"),
+        ({"programme.budget": [1e6, "lots", 1e6]}, r"programme\.budget\[1\]: expected a number"),
+        ({"programme.budget": [1e6, -1.0]}, r"programme\.budget\[1\]: must not be negative; "
+                                             r"got -1\.0"),
+        ({"programme.budget": None}, r"programme\.budget: required key is missing"),
+        ({"programme.budget": [1e6] * 41, "programme.years": None},
+         r"programme\.budget: a list of 41 budgets for a horizon of 40 years"),
         ({"programme.budget": [1e6, 1e6], "programme.years": 3},
          "programme.years: 3 years but the budget list gives 2"),
         ({"programme.budgets": 1e6}, "did you mean 'programme.budget'"),
         ({"programme.first_year": None}, "programme.first_year: required key is missing"),
         ({"economics.horizon": 20, "programme.years": 30},
-         "programme.years must be a whole number from 1 to the horizon"),
+         r"programme\.years: 30 years for a horizon of 20 years \(economics\.horizon\)"),
+        ({"programme.first_year": 1850}, r"programme\.first_year: must be >= 1900; got 1850"),
         ({"replacement.roughness": 0.03}, "replacement.roughness: expected a roughness"),
         ({"breaks.growth_from": "fitted"}, "breaks.growth_from: must be one of material, "
                                            "history"),
         ({"breaks.repair_cost": "7500 EUR"}, "breaks.repair_cost: expected a number"),
         ({"solver.method": "greedy"}, "solver.method: must be one of auto, milp, heuristic"),
         ({"pumping.efficiency": 1.5}, "pumping.efficiency: must be <= 1"),
+        ({"breaks.min_fit_breaks": 2.5}, r"breaks\.min_fit_breaks: expected a whole number"),
+        ({"replacement.break_factor": 1.5}, r"replacement\.break_factor: must be <= 1"),
+        ({"pumped_mains.minor_loss_k": "4"}, r"pumped_mains\.minor_loss_k: expected a number "
+                                             r"\(write it without a unit"),
+        ({"growth.flow_cap": "100 m^3/h"}, r"growth\.flow_cap: a cap on one line's flow does "
+                                           r"not apply to the mains of a register"),
+        ({"growth.flow_pr_year": 0.01}, r"growth\.flow_pr_year: unknown key; did you mean "
+                                        r"'growth\.flow_per_year'\? \(valid keys in growth: "
+                                        r"flow_per_year, design_year\)"),
+        # keys of earlier programme files say where they are now
+        ({"pumping.flow_growth": 0.01}, r"pumping\.flow_growth: this key has moved; write it "
+                                        r"as growth\.flow_per_year"),
+        ({"pumping.minor_loss_k": 4.0}, r"write it as pumped_mains\.minor_loss_k"),
+        ({"replacement.life": 80}, r"write it as economics\.pipe_life"),
+        ({"replacement.maintenance": 0.0}, r"write it as economics\.pipe_maintenance"),
     ],
 )
 def test_study_file_errors_name_the_key(changes, match):
@@ -235,8 +257,7 @@ def test_cli_demo_writes_tables_and_report(tmp_path, capsys):
         par = pd.read_parquet(out / f"{name}.parquet")
         assert list(csv.columns) == list(par.columns) and len(csv) == len(par)
     html = (out / "report.html").read_text()
-    for caution in CAUTIONS:
-        assert caution in html.replace("&#x27;", "'")
+    assert CAUTION in html.replace("&#x27;", "'")
     assert "data:image/png;base64," in html and "Ranked list" in html
     md = (out / "report.md").read_text()
     assert "![yearly capital](figures/yearly_capital.png)" in md
@@ -294,3 +315,164 @@ def test_reasons_when_the_best_year_is_after_the_programme():
     assert m["reason"].startswith("renewed before its best year, which is after the "
                                   "programme's years")
     assert m["reason"].endswith("saving mostly from fewer breaks")
+
+
+# ----- the sections a programme shares with a sizing study ------------------------------------
+SIZING = read_toml(ROOT / "pipeopt" / "data" / "demo_sizing.toml")
+
+
+@pytest.mark.parametrize(
+    ("section", "key", "value"),
+    [
+        ("energy", "price", -0.1),
+        ("energy", "escalation", 0.9),
+        ("energy", "demand_chrge", 10.0),
+        ("economics", "horizon", 300),
+        ("economics", "discount_rat", 0.05),
+        ("economics", "pipe_life", 0.5),
+        ("economics", "pipe_maintenance", "1 %"),
+        ("pumping", "efficiency", 1.2),
+        ("pumping", "efficiency", "70 %"),
+        ("growth", "flow_per_year", 0.9),
+        ("growth", "design_year", 0),
+        ("fluid", "temperature", 15),
+        ("fluid", "kind", "oil"),
+        ("study", "illustrative", "yes"),
+        ("study", "currency", 3),
+    ],
+)
+def test_shared_sections_answer_as_in_a_sizing_study(section, key, value):
+    # the same key, rule and message from a programme file as from a sizing file
+    from pipeopt import SizingStudy
+
+    messages = []
+    for data, study in ((copy.deepcopy(SIZING), SizingStudy), (demo_dict(), ProgrammeStudy)):
+        data.setdefault(section, {})[key] = value
+        with pytest.raises(StudyFileError) as err:
+            study.from_dict(data)
+        messages.append(str(err.value))
+    assert messages[0] == messages[1]
+    assert messages[1].startswith(f"{section}.")
+
+
+def test_missing_shared_sections_and_keys_answer_as_in_a_sizing_study():
+    from pipeopt import SizingStudy
+
+    for section, key in (("economics", "pipe_life"), ("energy", "price"),
+                         ("pumping", None), ("economics", None)):
+        messages = []
+        for data, study in ((copy.deepcopy(SIZING), SizingStudy),
+                            (demo_dict(), ProgrammeStudy)):
+            if key is None:
+                data.pop(section)
+            else:
+                data[section].pop(key)
+            with pytest.raises(StudyFileError) as err:
+                study.from_dict(data)
+            messages.append(str(err.value))
+        assert messages[0] == messages[1], (section, key)
+
+
+# ----- a frozen study, built from sections in Python ---------------------------------------------
+def test_study_from_python_sections_equals_the_study_file():
+    from pipeopt import Fluid
+    from pipeopt.costs import EnergyTariff
+    from pipeopt.inputs import Economics, Pumping
+    from pipeopt.programme import (
+        BreakSettings,
+        MaterialClass,
+        NewMain,
+        ProgrammeSettings,
+        PumpedMains,
+        SolverOptions,
+    )
+
+    demo = ProgrammeStudy.demo()
+    mats = [MaterialClass(m["name"], m["roughness"], m["aging"], m["break_growth"])
+            for m in DEMO["material"]]
+    study = ProgrammeStudy(
+        fluid=Fluid.water("10 degC"), materials=mats, tariff=EnergyTariff(0.16, 0.01),
+        pumping=Pumping(0.68), economics=Economics(0.035, 40, 80.0),
+        breaks=BreakSettings(7500.0, "history"), replacement=NewMain("0.03 mm"),
+        programme=ProgrammeSettings(2027, 2.0e6, 10), solver=SolverOptions(time_limit=60.0),
+        pumped_mains=PumpedMains(4.0), growth=0.0,
+        name="Oxtervale Water distribution mains (illustrative)", currency="EUR",
+        illustrative=True)
+    assert study.scenario == demo.scenario
+    np.testing.assert_array_equal(study.budget, demo.budget)
+    assert study.materials == demo.materials and study.solver == demo.solver
+    frame = invented_register(400, seed=12)
+    a, b = study.run(frame), demo.run(frame)
+    pd.testing.assert_frame_equal(a.mains, b.mains, check_exact=True)
+
+
+def test_a_study_is_frozen_and_replace_builds_another():
+    from pipeopt.programme import ProgrammeSettings
+
+    study = ProgrammeStudy.demo()
+    with pytest.raises(AttributeError, match=r"cannot be changed .*study\.replace"):
+        study.budget = np.full(10, 1e6)
+    with pytest.raises(ValueError, match="read-only"):
+        study.budget[0] = 0.0
+    with pytest.raises(AttributeError):
+        study.economics.horizon = 30
+    with pytest.raises(TypeError):
+        study.materials["pe"] = study.materials["pvc"]
+    other = study.replace(programme=ProgrammeSettings(2030, [1e6, 2e6, 3e6]))
+    assert other.years == 3 and other.first_year == 2030
+    assert other.budget.tolist() == [1e6, 2e6, 3e6]
+    assert study.years == 10 and study.first_year == 2027          # the original is unchanged
+    with pytest.raises(ValueError, match="replace: unknown argument 'budget'"):
+        study.replace(budget=1e6)
+    with pytest.raises(ValueError, match="economics must be a Economics; got float"):
+        study.replace(economics=0.035)
+
+
+def test_the_result_follows_the_result_protocol(demo_result):
+    from pipeopt.results import StudyResult
+
+    r = demo_result
+    assert isinstance(r, StudyResult)
+    assert str(r) == r.text()
+    renewed = int((r.mains["status"] == "renew").sum())
+    assert repr(r) == (f"<ProgrammeResult: {r.study.name}: {renewed:,} of {len(r.mains):,} "
+                       f"mains renewed in 10 years, NPV {r.plan.objective:,.0f} EUR>")
+    assert set(r.tables()) == {"Programme by year", "Ranked mains",
+                               "Break growth by material class", "Rejected register rows"}
+    page = r._repr_html_()
+    assert page.count("<table") == 4 and "Programme by year" in page
+    assert r.text().endswith("Caution: " + CAUTION)
+
+
+def test_growth_keys_reach_the_model():
+    study = ProgrammeStudy.from_dict(demo_dict(**{"growth.flow_per_year": 0.02,
+                                                  "growth.design_year": 5}))
+    assert (study.scenario.flow_growth, study.scenario.design_year) == (0.02, 5)
+    # without [growth] the flows stay
+    data = demo_dict()
+    del data["growth"]
+    assert ProgrammeStudy.from_dict(data).scenario.flow_growth == 0.0
+
+
+def test_hostile_register_text_is_inert_in_the_report_files():
+    # a register comes from a utility's export: an id a spreadsheet would run as a formula, or
+    # Markdown would take for HTML, must reach the files inert (common practice: OWASP's
+    # advice on CSV injection, a leading apostrophe)
+    from pipeopt.programme_report import programme_report_files
+
+    frame = invented_register(60, seed=3, defects=False)
+    frame["main_id"] = frame["main_id"].astype(object)
+    frame.loc[0, "main_id"] = "=HYPERLINK(\"http://example.invalid\")"
+    frame.loc[2, "length_m"] = -1.0                      # a rejected row: in the report
+    frame.loc[2, "main_id"] = "@SUM(1+1) <b>x</b> [l](javascript:1) ```"
+    files = programme_report_files(ProgrammeStudy.demo().run(frame))
+    for name in ("mains.csv", "rejected.csv"):
+        text = files[name]
+        assert "\n=HYPERLINK" not in text and ",=HYPERLINK" not in text
+        assert "\n@SUM" not in text and ",@SUM" not in text
+    assert "'=HYPERLINK" in files["mains.csv"] and "'@SUM" in files["rejected.csv"]
+    md = files["report.md"]
+    fence = [line for line in md.splitlines() if line and set(line) == {"`"}]
+    start, stop = md.index(fence[0]), md.rindex(fence[-1])
+    outside = md[:start] + md[stop:]
+    assert "<b>" not in outside and "&lt;b&gt;x&lt;/b&gt; \\[l\\](javascript:1)" in outside

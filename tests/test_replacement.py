@@ -42,12 +42,13 @@ def random_mains(rng: np.random.Generator, n: int, pumped: bool = True) -> dict[
     }
 
 
-def scenario(flow_growth: float, new_aging: float, horizon: int = 40) -> RenewalScenario:
+def scenario(flow_growth: float, new_aging: float, horizon: int = 40,
+             design_year: int | None = None) -> RenewalScenario:
     return RenewalScenario(density=WATER.density, viscosity=WATER.viscosity, efficiency=0.7,
                            tariff=EnergyTariff(0.15, 0.01, 40.0), discount_rate=0.04,
                            horizon=horizon, break_cost=7000.0, new_roughness=2e-5,
                            new_aging=new_aging, life=80.0, maintenance=0.002, break_factor=0.0,
-                           minor_loss_k=3.0, flow_growth=flow_growth)
+                           minor_loss_k=3.0, flow_growth=flow_growth, design_year=design_year)
 
 
 @pytest.mark.parametrize(("flow_growth", "new_aging"),
@@ -68,6 +69,26 @@ def test_agrees_with_the_single_main_upgrade_study(flow_growth, new_aging):
         assert econ.pv_keep[k] == pytest.approx(best.keep_pv_cost, rel=1e-9)
         np.testing.assert_allclose(econ.npv[k], best.table["npv_vs_keep"].to_numpy(), rtol=1e-9,
                                    atol=1e-9 * best.keep_pv_cost)
+
+
+@pytest.mark.parametrize("new_aging", [0.0, 1.5e-5])
+def test_flows_stop_growing_after_the_design_year_as_in_the_upgrade_study(new_aging):
+    # growth.flow_per_year with growth.design_year: the flows of a sizing or upgrade study's
+    # duty profile grow until the design year and then stay; the single-main upgrade study
+    # built through its public from_dict is the independent path
+    rng = np.random.default_rng(31)
+    inputs = random_mains(rng, 5)
+    inputs["capital"] = inputs["capital"] * inputs["length"]
+    s = scenario(0.03, new_aging, design_year=12)
+    econ = evaluate_mains(s, Mains(**inputs))
+    assert not np.allclose(econ.pv_keep, evaluate_mains(scenario(0.03, new_aging),
+                                                        Mains(**inputs)).pv_keep, rtol=1e-6)
+    for k in range(5):
+        main = {key: float(v[k]) for key, v in inputs.items()}
+        best = upgrade_study_for_main(main, s).best_year("replace")
+        assert econ.best_year[k] == best.year
+        np.testing.assert_allclose(econ.pv_replace[k], best.table["pv_cost"].to_numpy(),
+                                   rtol=1e-9, atol=0)
 
 
 def test_benefit_cost_ratio_agrees_with_the_upgrade_summary():

@@ -111,3 +111,26 @@ def test_texts_are_bounded_and_messages_short():
 def test_keys_with_control_characters_are_shown_escaped():
     with pytest.raises(StudyFileError, match=r"study\.'\\x1b\[2J': unknown key"):
         Section({"\x1b[2J": 1}, "study", ("name",))
+
+
+def test_a_frozen_study_refuses_changes_and_replace_builds_another():
+    from pipeopt.inputs import StudyInfo
+
+    class Toy(studyfile.FrozenStudy):
+        def __init__(self, size: int, *, name: str = "toy") -> None:
+            self._args = {"size": size, "name": name}
+            self.size = size
+            self.info = StudyInfo(name, "EUR")
+            self._frozen = True
+
+    toy = Toy(3)
+    with pytest.raises(AttributeError, match=r"a Toy cannot be changed after it is built "
+                                             r"\(size\); use study\.replace\(size=\.\.\.\)"):
+        toy.size = 4
+    other = toy.replace(name="other")
+    assert (other.size, other.name, other.currency, other.illustrative) == (3, "other", "EUR",
+                                                                           False)
+    assert toy.name == "toy"
+    with pytest.raises(ValueError, match=r"replace: unknown argument 'colour'; arguments: "
+                                         r"name, size"):
+        toy.replace(colour="red")
