@@ -68,7 +68,7 @@ def test_python_blocks_run(index, workdir):
     assert run.returncode == 0, run.stderr[-2000:]
     # where the README shows the block's output right after it, the output matches
     after = README.split(code, 1)[1]
-    shown = re.match(r"\n```\n\n<!-- generated: [\w-]+ -->\n```\n(.*?)\n```", after, re.S)
+    shown = re.match(r"\n```\n\n<!-- generated: [\w-]+ -->\n```text\n(.*?)\n```", after, re.S)
     if shown:
         assert run.stdout.strip() == shown.group(1).strip()
 
