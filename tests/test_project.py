@@ -1,6 +1,7 @@
 """Checks on the project itself: the README's commands and what CI runs."""
 
 import re
+import sys
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -106,3 +107,23 @@ def test_a_real_sounding_place_would_fail():
     assert _places("Unlisted Town rising main (illustrative)") - SCENARIO_NAMES == {"Unlisted Town"}
     assert _FICTIONAL.findall("the fictional town of Nowhere Ferry is fed") == ["Nowhere Ferry"]
     assert _places("replace DN 300") == set()
+
+
+def test_every_mutation_of_the_mutation_check_still_applies():
+    # scripts/mutation_check.py replaces a text that must occur exactly once in its file; a
+    # refactor that moves the text would otherwise surface only in CI's last step
+    import importlib.util
+
+    spec = importlib.util.spec_from_file_location("mutation_check",
+                                                  ROOT / "scripts" / "mutation_check.py")
+    module = importlib.util.module_from_spec(spec)
+    sys.modules[spec.name] = module  # dataclasses look their module up there
+    try:
+        spec.loader.exec_module(module)
+    finally:
+        del sys.modules[spec.name]
+    assert len(module.MUTATIONS) >= 6
+    for m in module.MUTATIONS:
+        text = (ROOT / m.path).read_text(encoding="utf-8")
+        assert text.count(m.old) == 1, (m.name, text.count(m.old))
+        assert all((ROOT / t).is_file() for t in m.tests if t.startswith("tests/")), m.name
