@@ -24,13 +24,15 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
 
 from .economics import capital_recovery_factor, discount_factor, straight_line_residual
 from .errors import InputError
+
+if TYPE_CHECKING:  # pandas loads where a table is made
+    import pandas as pd
 
 __all__ = ["Timeline", "Purchases", "purchases", "station_stages", "stage_last_years",
            "StationStages", "CashFlows"]
@@ -348,6 +350,8 @@ class CashFlows:
     def frame(self, sample: int = 0, item: int = 0, **labels: Any) -> pd.DataFrame:
         """One sample's and item's rows as a table: year, each row, total, discount factor,
         discounted (years 0 … N_s of that sample)."""
+        import pandas as pd
+
         n = int(self.timeline.horizon[sample])
         t = self.timeline.years[: n + 1]
         data: dict[str, Any] = dict(labels)

@@ -20,20 +20,23 @@ References
 
 from __future__ import annotations
 
+import csv
 import difflib
 import functools
 import io
 from dataclasses import dataclass
 from importlib import resources
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
 
 from ._arrays import as_float_arrays, restore
 from .errors import InputError
 from .fields import InputSection, quantity, text
 from .friction import GRAVITY
+
+if TYPE_CHECKING:  # pandas loads where the table is read, not when a study file is checked
+    import pandas as pd
 
 __all__ = ["fittings_table", "fully_turbulent_friction_factor", "fitting_k", "Fittings",
            "Equipment", "FITTING_NAMES"]
@@ -41,6 +44,8 @@ __all__ = ["fittings_table", "fully_turbulent_friction_factor", "fitting_k", "Fi
 
 @functools.cache
 def _table(name: str) -> pd.DataFrame:
+    import pandas as pd
+
     raw = resources.files("pipeopt").joinpath("catalog", name).read_text("utf-8")
     return pd.read_csv(io.StringIO(raw), comment="#", skipinitialspace=True)
 
@@ -52,7 +57,15 @@ def fittings_table() -> pd.DataFrame:
 
 
 #: Names of the bundled fittings.
-FITTING_NAMES: tuple[str, ...] = tuple(dict.fromkeys(_table("fittings.csv")["name"]))
+def _fitting_names() -> tuple[str, ...]:
+    """The names in the fittings table, in order (read with the csv module: no pandas when a
+    study file is only being checked)."""
+    raw = resources.files("pipeopt").joinpath("catalog", "fittings.csv").read_text("utf-8")
+    rows = csv.DictReader(line for line in raw.splitlines() if not line.startswith("#"))
+    return tuple(dict.fromkeys(row["name"].strip() for row in rows))
+
+
+FITTING_NAMES: tuple[str, ...] = _fitting_names()
 
 
 def fully_turbulent_friction_factor(diameter: Any) -> Any:
@@ -124,8 +137,8 @@ def fitting_k(name: str, diameter: Any) -> Any:
     bore_mm = d * 1000.0
     out = np.full(d.shape, np.nan)
     for _, r in rows.iterrows():  # one to three rows (size bands) per fitting
-        lo = -np.inf if pd.isna(r["min_bore_mm"]) else float(r["min_bore_mm"])
-        hi = np.inf if pd.isna(r["max_bore_mm"]) else float(r["max_bore_mm"])
+        lo = -np.inf if np.isnan(float(r["min_bore_mm"])) else float(r["min_bore_mm"])
+        hi = np.inf if np.isnan(float(r["max_bore_mm"])) else float(r["max_bore_mm"])
         band = (bore_mm >= lo) & (bore_mm < hi)
         k = float(r["value"]) * (fully_turbulent_friction_factor(d) if r["kind"] == "f_T"
                                  else np.ones_like(d))

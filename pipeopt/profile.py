@@ -34,7 +34,6 @@ from pathlib import Path
 from typing import Any
 
 import numpy as np
-import pandas as pd
 
 from .errors import InputError
 from .fields import InputSection, quantities, text
@@ -122,6 +121,8 @@ class GroundProfile(InputSection):
         """Points from a CSV file (or CSV text): columns ``chainage`` and ``elevation``, each
         with its unit in the column name (``chainage_km``, ``elevation_m``) or in every cell
         (``"12.5 km"``)."""
+        import pandas as pd
+
         try:
             if isinstance(source, (str, Path)) and "\n" not in str(source):
                 path = Path(source)

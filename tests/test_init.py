@@ -38,6 +38,19 @@ def test_help_loads_no_numerical_library():
     assert _loaded(modules, HEAVY + ("pandas", "scipy", "numpy", "pint")) == []
 
 
+def test_an_invalid_study_file_is_answered_without_pandas_or_scipy(tmp_path):
+    # every section is checked before the study classes (pandas, scipy) are imported
+    bad = tmp_path / "bad.toml"
+    bad.write_text('[study]\nname = "x"\n[pipe]\nlength = "2 km"\n', encoding="utf-8")
+    modules = _modules_after("import pipeopt.cli\n"
+                             "try:\n"
+                             f"    code = pipeopt.cli.main(['run', {str(bad)!r}])\n"
+                             "except SystemExit as exc:\n"
+                             "    code = exc.code\n"
+                             "assert code == 2, code")
+    assert _loaded(modules, HEAVY + ("pandas", "scipy")) == []
+
+
 def test_a_water_study_loads_no_fluid_library_and_no_plotting():
     modules = _modules_after("from pipeopt import SizingStudy\n"
                              "assert SizingStudy.demo().run().best is not None")
