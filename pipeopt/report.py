@@ -32,7 +32,9 @@ import datetime
 import html
 import io
 import math
+import os
 import re
+import threading
 import zipfile
 from collections.abc import Callable
 from pathlib import Path
@@ -1092,6 +1094,11 @@ def check_pdf(paper: str = "A4") -> Any:
     return weasyprint
 
 
+_PDF_LOCK = threading.Lock()
+#: 2000-01-01T00:00:00Z, the fixed date of every result set's binary files (Unix time [s]).
+_FIXED_EPOCH = 946684800
+
+
 def pdf_from_html(page: str, paper: str = "A4") -> bytes:
     """The printed report as PDF bytes, by WeasyPrint (CSS Paged Media: the page's running
     heads and page numbers, tables split across pages with their headers repeated).
@@ -1112,7 +1119,17 @@ def pdf_from_html(page: str, paper: str = "A4") -> bytes:
     weasyprint = check_pdf(paper)
     size = weasyprint.CSS(string=f"@page {{ size: {paper}; }}")
     document = weasyprint.HTML(string=page, url_fetcher=_data_only_fetcher())
-    return document.write_pdf(stylesheets=[size])
+    # the embedded font subsets carry a 'modified' time (fontTools stamps the clock, to the
+    # second, unless SOURCE_DATE_EPOCH is set): a fixed date, as in the workbook, so that one
+    # report gives the same bytes whenever it is printed
+    with _PDF_LOCK:
+        before = os.environ.get("SOURCE_DATE_EPOCH")
+        os.environ["SOURCE_DATE_EPOCH"] = before or str(_FIXED_EPOCH)
+        try:
+            return document.write_pdf(stylesheets=[size])
+        finally:
+            if before is None:
+                del os.environ["SOURCE_DATE_EPOCH"]
 
 
 # --------------------------------------------------------------------------------------------
