@@ -87,6 +87,7 @@ def test_colebrook_large_arrays_span_several_blocks():
         assert f[i] == fr.colebrook_white(float(re[i]), float(rr[i]))
 
 
+@pytest.mark.reference
 def test_colebrook_wide_grid_to_machine_precision(colebrook_grid):
     # Reference: 40-digit mpmath roots (conftest). The fast kernel (one Halley step from a
     # tabulated Wright-omega guess) keeps the last digits, not just the 1e-13 of the contract.
@@ -94,6 +95,7 @@ def test_colebrook_wide_grid_to_machine_precision(colebrook_grid):
     assert np.max(np.abs(fr.colebrook_white(re, rr) / f_ref - 1.0)) <= 4e-15
 
 
+@pytest.mark.reference
 @settings(max_examples=150, deadline=None)
 @given(re=st.floats(4e3, 1e8),
        rr=st.one_of(st.just(0.0), st.floats(1e-7, 0.05)))
@@ -103,6 +105,7 @@ def test_colebrook_random_points_hypothesis(re, rr):
                                                        abs=0)
 
 
+@pytest.mark.reference
 @pytest.mark.parametrize(("re", "rr"), [
     (2000.0, 0.0), (2000.0, 0.05), (4000.0, 0.05), (1e8, 1e-7), (1e8, 0.05), (1e15, 0.0),
     (1e15, 0.05), (1e16, 0.05), (1e20, 1e-3), (1e30, 0.0)])
@@ -127,6 +130,7 @@ def test_fast_kernel_agrees_with_clamond_reference_kernel():
     assert np.max(np.abs(fast / ref - 1.0)) <= 8e-15  # each within about 4e-15 of the root
 
 
+@pytest.mark.reference
 def test_wright_omega_table_is_a_close_first_guess():
     # Reference: mpmath's Lambert W, omega(z) = W(e^z) (the Wright omega function; Corless &
     # Jeffrey 2002, from memory). The table's lines must be within 4e-5 of ln(omega) for one
@@ -465,6 +469,46 @@ def test_c_factor_roughness_round_trip():
 def test_c_factor_smoother_than_smooth_is_refused():
     with pytest.raises(InputError, match="less friction than a smooth pipe"):
         fr.roughness_from_hazen_williams_c(170.0, 0.6, 0.3, 999.1, 1.1376e-3)
+
+
+@pytest.mark.reference
+def test_reynolds_number_by_hand():
+    # Re = rho V D / mu = 4 rho Q / (pi mu D) (Reynolds 1883; common practice), by hand:
+    # 998.2 * 1.5 * 0.3 / 1.0016e-3 = 448 472.44...; the sign of V is ignored
+    rho, v, d, mu = 998.2, 1.5, 0.3, 1.0016e-3
+    want = rho * v * d / mu
+    assert want == pytest.approx(448472.44, abs=0.01)
+    assert fr.reynolds_number(v, d, rho, mu) == pytest.approx(want, rel=1e-15)
+    assert fr.reynolds_number(-v, d, rho, mu) == pytest.approx(want, rel=1e-15)
+    q = v * mp.pi * d * d / 4
+    want_q = float(4 * rho * q / (mp.pi * mu * d))
+    assert fr.reynolds_number_from_flow(float(q), d, rho, mu) == pytest.approx(want_q, rel=1e-14)
+    assert want_q == pytest.approx(want, rel=1e-14)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("eps", "k"), [(0.05e-3, 0.0), (0.5e-3, 0.0), (1.5e-3, 4.0)])
+def test_roughness_from_head_loss_recovers_the_roughness_of_a_hand_loss(eps, k):
+    # The "measured" loss is computed here: Darcy-Weisbach h = (f L/D + K) V^2 / (2 g) with f
+    # the 40-digit Colebrook (1939) root (mpmath, conftest), g = 9.80665 m/s^2; the inverse
+    # must give back the roughness the loss was made with
+    q, d, length, rho, mu = 0.06, 0.3, 1000.0, 999.1, 1.1376e-3
+    v = q / (np.pi * d * d / 4)
+    f = colebrook_mpmath(rho * v * d / mu, eps / d)
+    h = (f * length / d + k) * v * v / (2 * 9.80665)
+    got = fr.roughness_from_head_loss(q, d, length, h, rho, mu, k_sum=k)
+    assert got == pytest.approx(eps, rel=1e-9)
+
+
+@pytest.mark.reference
+def test_hazen_williams_c_from_head_loss_is_the_si_form_solved_for_c():
+    # C = (10.67 L Q^1.852 / (h D^4.8704))^(1/1.852), the published SI form
+    # (docs/references.md#friction) solved for C by hand; then that C in the form gives h back
+    for q, d, length, h in [(0.1, 0.3, 1000.0, 3.0), (0.02, 0.15, 400.0, 2.2)]:
+        c_ref = (10.67 * length * q**1.852 / (h * d**4.8704)) ** (1 / 1.852)
+        c = fr.hazen_williams_c_from_head_loss(q, d, length, h)
+        assert c == pytest.approx(c_ref, rel=1e-14)
+        assert 10.67 * length * q**1.852 / (c**1.852 * d**4.8704) == pytest.approx(h, rel=1e-13)
 
 
 # ------------------------------------------------------------------------------------------

@@ -64,8 +64,12 @@ def test_fixed_coefficients(name, k):
     np.testing.assert_allclose(fitting_k(name, [0.05, 0.3, 1.2]), k)
 
 
+@pytest.mark.reference
 def test_ft_between_and_beyond_the_table():
-    # linear in log(bore) between sizes; the end values beyond the table
+    # Crane TP-410 f_T table (from memory): 0.017 at NPS 4, 0.016 at NPS 5, 0.027 at NPS 1/2
+    # (the smallest size), 0.012 at NPS 18-24 (the largest); linear in log(bore) between sizes,
+    # so the geometric mean of the NPS 4 and 5 bores gives (0.017 + 0.016) / 2 = 0.0165 by hand;
+    # the end values hold beyond the table
     d4, d5 = sch40_bore(4.0), sch40_bore(5.0)
     mid = np.sqrt(d4 * d5)
     assert fully_turbulent_friction_factor(mid) == pytest.approx(0.0165, rel=1e-12)
@@ -81,10 +85,13 @@ def test_every_table_row_has_a_source_and_a_known_kind():
         FITTING_NAMES)
 
 
+@pytest.mark.reference
 def test_fittings_by_count():
     f = Fittings.parse({"gate-valve": 2, "bend-90-long-radius": 12, "exit": 1})
     d = sch40_bore(12.0)
-    expected = 2 * 8 * 0.013 + 12 * 14 * 0.013 + 1.0   # Crane multiples at f_T 0.013
+    # Crane TP-410 (from memory): gate valve 8 f_T, 90-degree bend r/d = 1.5 14 f_T, exit
+    # K = 1.0, f_T = 0.013 at NPS 12; summed by hand
+    expected = 2 * 8 * 0.013 + 12 * 14 * 0.013 + 1.0
     assert f.k_sum(d) == pytest.approx(expected, rel=1e-14)
     np.testing.assert_allclose(f.k_sum(np.array([d, d])), expected, rtol=1e-14)
     assert "12 x bend-90-long-radius" in f.describe()
@@ -97,7 +104,10 @@ def test_fittings_by_count():
         Fittings.parse([])
 
 
+@pytest.mark.reference
 def test_equipment_loss_grows_with_flow_squared():
+    # h = dp / (rho g) (Q / Q_ref)^2: the quadratic law of fully turbulent local losses (common
+    # practice), g = 9.80665 m/s^2 (standard gravity, 3rd CGPM 1901), by hand
     e = Equipment("35 kPa", "400 m^3/h")
     q = 400 / 3600
     assert e.head(q, 1000.0) == pytest.approx(35e3 / (1000 * G), rel=1e-14)

@@ -249,3 +249,153 @@ def test_a_title_too_long_for_its_figure_moves_left_then_wraps():
     assert " ".join(title.get_text().split()) == ("A title far longer than the narrow figure "
                                                  "it belongs to can hold")
     plt.close(fig)
+
+
+# ------------------------------------------------------------------------------------------
+# what the axes show, against hand computations
+# ------------------------------------------------------------------------------------------
+@pytest.mark.reference
+def test_friction_chart_curves_are_colebrook_roots_and_the_laminar_law():
+    import numpy as np
+
+    from .conftest import colebrook_mpmath
+
+    ax = plots.friction_chart()
+    curves = {line.get_label(): line for line in ax.get_lines()}
+    lam = curves["laminar, 64/Re"]
+    x, y = (np.asarray(a, dtype=float) for a in lam.get_data())
+    np.testing.assert_allclose(y, 64 / x, rtol=1e-15)       # Hagen-Poiseuille, f = 64/Re
+    for rr in (0.0, 1e-5, 1e-4, 1e-3, 5e-3, 0.02, 0.05):
+        x, y = (np.asarray(a, dtype=float) for a in curves[f"ε/D = {rr:g}"].get_data())
+        assert x[0] == pytest.approx(2000.0) and x[-1] == pytest.approx(1e8)
+        for i in range(0, len(x), 37):                      # Colebrook (1939), mpmath roots
+            assert y[i] == pytest.approx(colebrook_mpmath(x[i], rr), rel=1e-13), (rr, x[i])
+    plt.close(ax.figure)
+
+
+@pytest.mark.reference
+def test_velocity_axis_values_are_the_flow_over_the_bore_area(demo):
+    import numpy as np
+
+    _, result, _ = demo
+    ax = plots.velocity_head(result)
+    lines = {line.get_label(): line for line in ax.get_lines()}
+    # the demo's largest duty is 520 m^3/h (pipeopt/data/demo_sizing.toml); its flow grows by
+    # 1.2 %/yr to year 40: V = Q / (pi D^2 / 4), D from the x axis in mm, by hand
+    for label, q in (("velocity, largest duty, year 1", 520 / 3600),
+                     ("velocity, largest flow of any year", 520 / 3600 * 1.012 ** 39)):
+        x, y = (np.asarray(a, dtype=float) for a in lines[label].get_data())
+        assert len(x) == len(result.candidates)
+        d = x / 1000
+        np.testing.assert_allclose(y, q / (np.pi * d * d / 4), rtol=1e-12)
+    plt.close(ax.figure)
+
+
+@pytest.mark.reference
+def test_cost_curve_capital_part_is_the_annuity_of_the_capital(demo):
+    import numpy as np
+
+    _, result, _ = demo
+    ax = plots.cost_curves(result)
+    lines = {line.get_gid(): line for line in ax.get_lines() if line.get_gid()}
+    b = result.best
+    rows = result.candidates[(result.candidates["material"] == b["material"])
+                             & (result.candidates["class"] == b["class"])]
+    rows = rows.sort_values("inner_diameter_m")
+    # the capital recovery factor at the demo's 5 % over 40 years, r (1+r)^n / ((1+r)^n - 1)
+    # (compound-interest tables; common practice), on the capital spent in year 0
+    r, n = 0.05, 40
+    crf = r * (1 + r) ** n / ((1 + r) ** n - 1)
+    capital = lines["part:eac_capital"]
+    x, y = (np.asarray(a, dtype=float) for a in capital.get_data())
+    order = np.argsort(x)
+    want = (rows["capex_pipe"] + rows["capex_pump_station"]).to_numpy() * crf
+    np.testing.assert_allclose(y[order], want, rtol=1e-12)
+    total = lines[f"total:{b['material']}:{b['class']}"]
+    yt = np.asarray(total.get_ydata(), dtype=float)[np.argsort(total.get_xdata())]
+    np.testing.assert_allclose(yt, rows["pv_total"].to_numpy() * crf, rtol=1e-12)
+    plt.close(ax.figure)
+
+
+@pytest.mark.reference
+def test_cumulative_cash_flow_is_the_discounted_sum_by_hand():
+    import numpy as np
+
+    res = UpgradeStudy.demo().run()
+    rate = res.study.economics.discount_rate
+    cf = res.cash_flows
+    ax = plots.cumulative_cash_flow(res)
+    lines = {line.get_label(): line for line in ax.get_lines()}
+    keep = cf[cf["option"] == "keep"].set_index("year")["total"]
+    options = [o for o in cf["option"].unique() if o != "keep"]
+    assert options
+    paid_back = 0
+    for opt in options:
+        mine = cf[cf["option"] == opt].set_index("year")["total"]
+        # the saving of each year discounted by (1 + i)^-t and summed, written out here
+        cum, running = {}, 0.0
+        for year in sorted(keep.index):
+            running += (keep[year] - mine[year]) / (1 + rate) ** year
+            cum[year] = running
+        x, y = (np.asarray(a, dtype=float) for a in lines[opt].get_data())
+        np.testing.assert_allclose(x, sorted(cum))
+        np.testing.assert_allclose(y, [cum[t] for t in sorted(cum)], rtol=1e-9,
+                                   atol=1e-6 * max(abs(v) for v in cum.values()))
+        # the discounted payback year by exhaustive search: the first year from which the
+        # cumulative saving never falls below zero again
+        years = sorted(cum)
+        never = [t for t in years if all(cum[u] >= 0 for u in years if u >= t)]
+        pb = res.summary.set_index("option").loc[opt, "discounted_payback_year"]
+        if never:
+            assert int(pb) == never[0], opt
+            paid_back += 1
+        else:
+            assert pb is None or np.isnan(pb), opt
+    assert paid_back >= 1   # the demo has an option that pays back
+    plt.close(ax.figure)
+
+
+@pytest.mark.reference
+def test_head_loss_axis_values_are_darcy_weisbach_with_colebrook(demo):
+    import iapws
+    import numpy as np
+
+    from .conftest import colebrook_mpmath
+
+    _, result, _ = demo
+    ax = plots.velocity_head(result)
+    twin = [a for a in ax.figure.axes if a is not ax and a.get_ylabel() == "head loss [m]"][0]
+    x, y = (np.asarray(a, dtype=float) for a in twin.get_lines()[0].get_data())
+    c = result.candidates.sort_values("inner_diameter_m")
+    np.testing.assert_allclose(x, c["inner_diameter_m"].to_numpy() * 1e3, rtol=1e-15)
+    # demo inputs (pipeopt/data/demo_sizing.toml): 520 m^3/h, 4.6 km, K = 9, water at 12 degC
+    # (the iapws package); h = (f L/D + K) V^2 / (2 g), f the mpmath Colebrook root, by hand
+    water = iapws.IAPWS95(T=285.15, P=0.101325)
+    rough = c["roughness_m"].to_numpy()     # each material's roughness (catalog input)
+    for i in range(0, len(x), 7):
+        d = x[i] / 1000
+        v = 520 / 3600 / (np.pi * d * d / 4)
+        f = colebrook_mpmath(water.rho * v * d / water.mu, rough[i] / d)
+        want = (f * 4600.0 / d + 9.0) * v * v / (2 * 9.80665)
+        assert y[i] == pytest.approx(want, rel=1e-7), x[i]
+    plt.close(ax.figure)
+
+
+@pytest.mark.reference
+def test_probability_bars_are_counts_of_the_cheapest_feasible_draw(demo):
+    import numpy as np
+
+    _, _, mc = demo
+    ax = plots.probability_cheapest(mc)
+    heights = [p.get_height() for p in ax.patches]
+    # brute force: in each draw, the cheapest feasible candidate, counted over the draws
+    wins = np.zeros(mc.eac.shape[1])
+    for k in range(mc.n):
+        feasible = np.flatnonzero(mc.feasible[k])
+        if feasible.size:
+            wins[feasible[np.argmin(mc.eac[k, feasible])]] += 1
+    top = mc.candidates.head(len(heights))
+    want = [wins[int(j)] / mc.n for j in top["candidate_index"]]
+    np.testing.assert_allclose(heights, want, rtol=0, atol=1e-15)
+    assert sum(heights) <= 1.0 + 1e-12 and max(heights) == pytest.approx(max(wins) / mc.n)
+    plt.close(ax.figure)

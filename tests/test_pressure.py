@@ -8,8 +8,9 @@ docs/references.md#pipe-dimensions).
 import numpy as np
 import pytest
 
+from pipeopt import catalog
 from pipeopt.errors import InputError
-from pipeopt.pressure import barlow_pressure, pn_from_sdr
+from pipeopt.pressure import barlow_pressure, derating_factor, pn_from_sdr
 
 
 @pytest.mark.reference
@@ -56,3 +57,38 @@ def test_pn_from_sdr_pe80():
 def test_pn_errors():
     with pytest.raises(InputError, match="sdr must be greater than 1"):
         pn_from_sdr(1.0, 10e6)
+
+
+# ISO 4427-1:2019 / EN 12201-1, Annex A, Table A.1: derating factors of PE pressure pipe for
+# water, 1.00 at 20 degC, 0.87 at 30 degC, 0.74 at 40 degC (from memory), typed here
+PE_TABLE_C = (20.0, 30.0, 40.0)
+PE_TABLE_F = (1.00, 0.87, 0.74)
+
+
+@pytest.mark.reference
+def test_derating_factor_interpolates_the_iso_4427_table():
+    tk = [273.15 + t for t in PE_TABLE_C]
+    # at the table's points: the table; between them linear, by hand:
+    # 25 degC: 1.00 + (0.87 - 1.00) * 5/10 = 0.935; 35 degC: 0.87 + (0.74 - 0.87) / 2 = 0.805;
+    # 32 degC: 0.87 + (0.74 - 0.87) * 2/10 = 0.844; below 20 degC the reference rating (1.00)
+    cases = {20.0: 1.00, 30.0: 0.87, 40.0: 0.74, 25.0: 0.935, 35.0: 0.805, 32.0: 0.844,
+             5.0: 1.00}
+    got = derating_factor([273.15 + t for t in cases], tk, PE_TABLE_F)
+    np.testing.assert_allclose(got, list(cases.values()), rtol=1e-12)
+    # above the table's last point the rating is not defined
+    assert np.isnan(derating_factor(273.15 + 41.0, tk, PE_TABLE_F))
+
+
+@pytest.mark.reference
+def test_pe_service_limits_carry_the_iso_4427_table():
+    # the bundled PE 100 and PE 80 derating is the published table (typed above), and the
+    # allowable operating pressure of PE 100 SDR 11 (PN 16) at 30 degC is 0.87 x 16 = 13.92 bar
+    for key in ("pe100", "pe80"):
+        svc = catalog.default_catalog().service(key)
+        np.testing.assert_allclose(svc.derating_temperature,
+                                   [273.15 + t for t in PE_TABLE_C], rtol=1e-12)
+        np.testing.assert_allclose(svc.derating_factor, PE_TABLE_F, rtol=1e-12)
+        assert svc.max_temperature == pytest.approx(273.15 + 40.0, rel=1e-12)
+    svc = catalog.default_catalog().service("pe100")
+    pfa = svc.factor(303.15) * pn_from_sdr(11, 10e6)
+    assert pfa / 1e5 == pytest.approx(13.92, rel=1e-12)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import hashlib
+import math
 import re
 from pathlib import Path
 
@@ -477,3 +478,113 @@ def test_report_shows_the_check_rows():
     assert re.findall(r"<td[^>]*>(.*?)</td>", sums[1])[-1] == pv   # the present value
     difference = float(re.findall(r"<td[^>]*>(.*?)</td>", sums[2])[-1])
     assert abs(difference) <= 1e-9 * res.best["pv_total"]
+
+
+# ------------------------------------------------------------------------------------------
+# the report's numbers for the chosen pipe, recomputed by hand from the study's printed inputs
+# (pipeopt/data/demo_sizing.toml: 4.6 km, static head 38 m, K = 9, largest duty 520 m^3/h,
+# 310 m^3/h for 5200 h and 520 m^3/h for 2400 h, efficiency 0.72, 0.14 EUR/kWh, demand charge
+# 60 EUR/(kW yr), 5 % over 40 years, flow growth 1.2 %/yr, water at 12 degC, restraint
+# anchored throughout)
+# ------------------------------------------------------------------------------------------
+G_N = 9.80665   # standard gravity (3rd CGPM, 1901)
+
+
+def _workbook_rows(folder, sheet):
+    book = openpyxl.load_workbook(folder / "workbook.xlsx", read_only=True)
+    rows = list(book[sheet].iter_rows(values_only=True))
+    return [dict(zip(rows[0], r, strict=True)) for r in rows[2:]]
+
+
+@pytest.fixture(scope="module")
+def chosen(sizing_report):
+    rows = _workbook_rows(sizing_report, "candidates")
+    best = [r for r in rows if r["rank"] == 1]
+    assert len(best) == 1
+    return best[0]
+
+
+@pytest.fixture(scope="module")
+def water_12c():
+    import iapws
+
+    # the independent iapws package (IAPWS-95 and the 2008 viscosity release), 12 degC, 1 atm
+    return iapws.IAPWS95(T=285.15, P=0.101325)
+
+
+def _head_loss(q, d, rough, water):
+    from .conftest import colebrook_mpmath
+
+    v = q / (math.pi * d * d / 4)
+    re = water.rho * v * d / water.mu
+    f = colebrook_mpmath(re, rough / d)                # Colebrook (1939), 40-digit root
+    return v, re, f, (f * 4600.0 / d + 9.0) * v * v / (2 * G_N)   # Darcy-Weisbach + K
+
+
+@pytest.mark.reference
+def test_report_hydraulics_of_the_chosen_pipe_by_hand(chosen, water_12c):
+    # velocity Q/(pi D^2/4), Re = rho V D / mu, f from an mpmath Colebrook root, head loss by
+    # Darcy-Weisbach with the fittings' K, pump head = static head + head loss
+    v, re, f, h = _head_loss(520 / 3600, chosen["inner_diameter_m"], chosen["roughness_m"],
+                             water_12c)
+    assert chosen["velocity_m_s"] == pytest.approx(v, rel=1e-12)
+    assert chosen["reynolds"] == pytest.approx(re, rel=1e-7)        # iapws solver ~1e-9
+    assert chosen["friction_factor"] == pytest.approx(f, rel=1e-7)
+    assert chosen["head_loss_m"] == pytest.approx(h, rel=1e-7)
+    assert chosen["pump_head_m"] == pytest.approx(38.0 + h, rel=1e-8)
+    # the largest flow of any year: 1.2 %/yr compound growth to year 40 (year 1 at 1.0)
+    assert chosen["velocity_peak_m_s"] == pytest.approx(v * 1.012 ** 39, rel=1e-12)
+    h_max = _head_loss(520 / 3600 * 1.012 ** 39, chosen["inner_diameter_m"],
+                       chosen["roughness_m"], water_12c)[3]
+    assert chosen["pump_head_max_m"] == pytest.approx(38.0 + h_max, rel=1e-7)
+
+
+@pytest.mark.reference
+def test_report_power_energy_and_eac_of_the_chosen_pipe_by_hand(sizing_report, chosen,
+                                                                 water_12c):
+    # hydraulic power rho g Q H over the wire-to-water efficiency; yearly energy the sum of
+    # power x hours over the duties; year-1 energy cost = price x energy + demand charge x
+    # peak power; EAC = PV x CRF, CRF = r (1+r)^n / ((1+r)^n - 1) (any engineering-economics
+    # text; common practice)
+    d, rough = chosen["inner_diameter_m"], chosen["roughness_m"]
+    power = {}
+    for q_h in (310.0, 520.0):
+        q = q_h / 3600
+        h = 38.0 + _head_loss(q, d, rough, water_12c)[3]
+        power[q_h] = water_12c.rho * G_N * q * h / 0.72 / 1e3      # kW
+    assert chosen["electrical_power_kw"] == pytest.approx(power[520.0], rel=1e-7)
+    energy = power[310.0] * 5200 + power[520.0] * 2400
+    assert chosen["energy_kwh_year1"] == pytest.approx(energy, rel=1e-7)
+    year1 = [r for r in _workbook_rows(sizing_report, "yearly_best") if r["year"] == 1][0]
+    assert year1["energy_cost"] == pytest.approx(0.14 * energy + 60.0 * power[520.0],
+                                                 rel=1e-7)
+    r, n = 0.05, 40
+    crf = r * (1 + r) ** n / ((1 + r) ** n - 1)
+    assert crf == pytest.approx(0.0582782, abs=5e-8)   # compound-interest tables, 5 %, 40 yr
+    assert chosen["eac"] == pytest.approx(chosen["pv_total"] * crf, rel=1e-12)
+    assert chosen["eac_capital"] == pytest.approx(
+        (chosen["capex_pipe"] + chosen["capex_pump_station"]) * crf, rel=1e-12)
+
+
+@pytest.mark.reference
+def test_report_surge_and_pressures_of_the_chosen_pipe_by_hand(chosen, water_12c):
+    # Korteweg's wave speed with Wylie & Streeter's thick-wall factor (psi = 1 - nu^2 anchored
+    # throughout; D inner diameter), K_s = rho w^2 from iapws; Joukowsky dH = a dV / g on the
+    # largest velocity; MDP = rho g (largest pump head + surge); PE 100 SDR 17 is PN 10
+    # (ISO 4427-1: 20 x 10 / (1.25 x 16) = 10 bar) with no derating at 12 degC
+    from pipeopt import catalog
+
+    row = catalog.lookup(chosen["material"], chosen["size"])
+    mat = catalog.get_material(chosen["material"])
+    e, d, nu = row["wall_m"], chosen["inner_diameter_m"], mat.poisson_ratio
+    k = water_12c.rho * water_12c.w ** 2
+    c1 = 2 * e / d * (1 + nu) + (1 - nu * nu) * d / (d + e)
+    a = math.sqrt(k / water_12c.rho) / math.sqrt(1 + c1 * k * d / (mat.elastic_modulus * e))
+    surge = a * chosen["velocity_peak_m_s"] / G_N
+    assert chosen["surge_head_m"] == pytest.approx(surge, rel=1e-7)
+    assert chosen["operating_pressure_bar"] == pytest.approx(
+        water_12c.rho * G_N * chosen["pump_head_max_m"] / 1e5, rel=1e-8)
+    assert chosen["mdp_bar"] == pytest.approx(
+        water_12c.rho * G_N * (chosen["pump_head_max_m"] + surge) / 1e5, rel=1e-7)
+    assert chosen["pressure_rating_bar"] == pytest.approx(20 * 10 / (1.25 * (17 - 1)),
+                                                          rel=1e-12)

@@ -103,6 +103,12 @@ def test_restraint_cases_order():
     a = [wave_speed(K_WATER, RHO, 30.0, 1.0, 207e9, 0.3, r)
          for r in ("expansion-joints", "anchored-throughout", "anchored-one-end")]
     assert a[0] < a[1] < a[2]
+    # the thin-wall form with those three factors written out by hand (Korteweg 1878)
+    for r, c1 in (("expansion-joints", 1.0), ("anchored-throughout", 0.91),
+                  ("anchored-one-end", 0.85)):
+        hand = (K_WATER / RHO) ** 0.5 / (1 + c1 * K_WATER * 30.0 / 207e9) ** 0.5
+        assert wave_speed(K_WATER, RHO, 30.0, 1.0, 207e9, 0.3, r, "thin") == pytest.approx(
+            hand, rel=1e-14)
     with pytest.raises(InputError, match="restraint must be one of"):
         wave_speed(K_WATER, RHO, 30.0, 1.0, 207e9, restraint="welded")
     with pytest.raises(InputError, match="wall_theory must be one of"):
