@@ -137,6 +137,22 @@ def test_steel_candidates_priced_and_rated_by_hand():
         assert row["pfa_pa"] == pytest.approx(barlow, rel=1e-12)   # 15 degC: not derated
 
 
+@pytest.mark.reference
+def test_wave_speed_of_every_pe_candidate_by_hand():
+    # docs/references.md#surge: Korteweg's a = sqrt(K/rho)/sqrt(1 + c1 K D/(E e)) with the
+    # Wylie & Streeter thick-wall factor c1 = 2 (e/D)(1 + nu) + psi D/(D + e), psi = 1 - nu^2
+    # anchored throughout; PE 100 short-term E 1.1 GPa, nu 0.45 (docs/references.md#materials)
+    k, rho, e_mod, nu = 2.19e9, 999.0, 1.1e9, 0.45
+    t = build_candidates((MaterialChoice("pe100", PowerLawPipeCost(1000.0, 1.2)),),
+                         catalog.default_catalog(), k, rho, "anchored-throughout",
+                         288.15).table
+    d, e = t["inner_diameter_m"].to_numpy(), t["wall_m"].to_numpy()
+    c1 = 2 * e / d * (1 + nu) + (1 - nu**2) * d / (d + e)
+    want = np.sqrt(k / rho) / np.sqrt(1 + c1 * k * d / (e_mod * e))
+    assert len(t) > 20
+    np.testing.assert_allclose(t["wave_speed_m_s"], want, rtol=1e-13)
+
+
 def test_hot_study_picks_no_plastic():
     # at 90 degC only metal without a temperature-limited lining may serve: here none of the
     # three materials qualifies, and the study says so instead of picking a plastic

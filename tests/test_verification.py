@@ -143,3 +143,30 @@ def test_recorded_affinity_case_by_hand():
     (q, h, p, n), printed = ref.AFFINITY_CASE
     for value, text in zip((q * n, h * n**2, p * n**3), printed, strict=True):
         assert _printed(value, text)
+
+
+@pytest.mark.reference
+def test_recorded_pvc_pressure_classes_from_the_design_rule():
+    # ISO 1452-2 (from memory; docs/references.md#pipe-dimensions): PN = 10 sigma / S with
+    # S = (SDR - 1)/2 the nominal pipe series (ISO 4065), sigma 10 MPa up to 90 mm and 12.5 MPa
+    # above, to the nearest nominal pressure of the series 2.5, 3.2, 4, 5, 6, 8, 10, 12.5, 16,
+    # 20, 25 bar
+    series = (2.5, 3.2, 4.0, 5.0, 6.0, 8.0, 10.0, 12.5, 16.0, 20.0, 25.0)
+    nominal_s = {41: 20.0, 33: 16.0, 26: 12.5, 21: 10.0, 17: 8.0, 13.6: 6.3}
+    for band, sigma in (("up to 90 mm", 10.0), ("above 90 mm", 12.5)):
+        for sdr, pn in ref.PVC_PN_BY_SDR[band].items():
+            assert nominal_s[sdr] == pytest.approx((sdr - 1) / 2, rel=0.02)
+            rule = 10 * sigma / nominal_s[sdr]
+            assert min(series, key=lambda x, r=rule: abs(x - r)) == pn, (band, sdr)
+
+
+@pytest.mark.reference
+def test_hazen_williams_si_constant_against_the_us_form():
+    # docs/references.md#friction: the exact conversion of the US form's 4.727 (ft, ft^3/s) is
+    # 4.727 x 0.3048^(4.8704 - 3 x 1.852) = 10.674; pipeopt's 10.67 is that within the stated
+    # tolerance (the roundings of 10.67 and 4.727)
+    from pipeopt.friction import HAZEN_WILLIAMS_SI_K
+
+    exact = ref.HAZEN_WILLIAMS["us_k"] * 0.3048 ** (4.8704 - 3 * 1.852)
+    assert exact == pytest.approx(10.674, abs=5e-4)
+    assert HAZEN_WILLIAMS_SI_K == pytest.approx(exact, rel=ref.HAZEN_WILLIAMS["us_tolerance"])
