@@ -265,6 +265,70 @@ def test_tornado_ends_by_hand():
     assert row["swing"] == pytest.approx(b[chosen] * 0.24, rel=1e-5)
 
 
+@pytest.mark.reference
+def test_monte_carlo_summary_from_hand_eacs():
+    # the per-candidate summary from the hand EACs of the sampled inputs: the mean, the
+    # regret E[EAC_c - min EAC] (its definition in the result's docstring), every sample
+    # feasible (no limits set)
+    st = two_study()
+    mc = monte_carlo(st, {"energy_price": Triangular(0.05, 0.12, 0.40)}, n=50, seed=3)
+    a, b = hand_parts(st)
+    p = mc.inputs["energy_price"].to_numpy()
+    hand = a[None, :] + b[None, :] * p[:, None]
+    got = mc.candidates.set_index("size")
+    for j, size in enumerate(("400 SDR 17", "450 SDR 17")):
+        assert got.loc[size, "eac_mean"] == pytest.approx(hand[:, j].mean(), rel=1e-5)
+        regret = np.mean(hand[:, j] - hand.min(axis=1))
+        assert got.loc[size, "expected_regret"] == pytest.approx(regret, rel=1e-3,
+                                                                 abs=1e-5 * hand.mean())
+        assert got.loc[size, "prob_infeasible"] == 0.0
+
+
+@pytest.mark.reference
+def test_switching_discount_rate_against_brentq_on_hand_eacs():
+    # the discount rate at which the two candidates cost the same: scipy's brentq on the
+    # difference of the hand EACs (A_c(i) + B_c p). At 0.403 per kWh, 15 % above the
+    # break-even price at 5 %, the larger pipe wins at 5 % and the smaller above some rate
+    from scipy.optimize import brentq
+
+    price = 0.403
+    assert price > hand_break_even(two_study())
+    st = two_study(energy={"price": price})
+
+    def gap(i):
+        a, b = hand_parts(st, i)
+        return (a[0] + b[0] * price) - (a[1] + b[1] * price)
+
+    assert gap(0.05) > 0 > gap(0.30)          # one sign change above the base rate
+    root = brentq(gap, 0.05, 0.30, xtol=1e-12)
+    sw = st.switching_values({"discount_rate": (0.0, 0.30)})
+    assert sw.chosen == "pe100 450 SDR 17"
+    rows = sw.table[sw.table["how"] == "equal EAC"]
+    assert len(rows) == 1 and rows.iloc[0]["direction"] == "above"
+    assert rows.iloc[0]["switches_to"] == "pe100 400 SDR 17"
+    assert rows.iloc[0]["switching_value"] == pytest.approx(root, rel=1e-4)
+
+
+@pytest.mark.reference
+def test_upgrade_monte_carlo_npv_by_hand():
+    # each sample's NPV of replacing against keeping, with the energy price sampled: the
+    # explicit sum of the savings (keep's energy - the new bore's energy at that price, the
+    # capital at 0, the residual 1 - 5/80 at 5) at 4 % (hand study of tests/test_upgrade.py;
+    # Darcy-Weisbach with a 40-digit mpmath Colebrook root)
+    from .test_upgrade import dw_head, hand_energy_cost, hand_upgrade_study
+
+    st = hand_upgrade_study()
+    mc = st.monte_carlo({"energy_price": Uniform(0.05, 0.25)}, n=6, seed=8)
+    keep = hand_energy_cost(lambda q: dw_head(q, 0.3, 2000.0, 1e-3)) / 0.1   # per unit price
+    new = hand_energy_cost(lambda q: dw_head(q, 0.35, 2000.0, 1e-5)) / 0.1
+    for k in range(mc.n):
+        price = float(mc.inputs["energy_price"].iloc[k])
+        savings = [-800000.0] + [(keep - new) * price] * 5
+        savings[5] += 800000.0 * (1 - 5 / 80)
+        npv = sum(c / 1.04**t for t, c in enumerate(savings))
+        assert mc.npv["replace"].iloc[k] == pytest.approx(npv, rel=1e-4)
+
+
 def test_upgrade_monte_carlo():
     st = UpgradeStudy.demo()
     d = {"energy_price": Uniform(0.1, 0.2), "break_cost_factor": LogNormal(1.0, 0.3),
