@@ -115,6 +115,25 @@ def test_series_matches_mpmath_colebrook_between_nodes(re0, rr):
     np.testing.assert_allclose(f, want, rtol=5e-14)
 
 
+@pytest.mark.reference
+@settings(max_examples=12, deadline=None)
+@given(log_re=st_.floats(np.log10(8e3), 7.5), rr=st_.sampled_from([0.0, 1e-6, 3e-5, 1e-3, 0.02]),
+       lo=st_.floats(0.5, 1.0), span=st_.floats(1.0, 3.0), x=st_.floats(-1.0, 1.0))
+def test_series_against_mpmath_colebrook_over_random_ranges(log_re, rr, lo, span, x):
+    # anywhere in a turbulent range (Re >= 4000 throughout), the series evaluated at a random
+    # point of ln m agrees with the 40-digit Colebrook (1939) root (tests/conftest.py)
+    re0 = 10.0**log_re
+    hi = lo * span
+    assert re0 * lo >= 4000.0
+    ser = friction_series(_S(), np.array([[re0]]), np.array([[rr]]), np.array([lo]),
+                          np.array([hi]))
+    assert ser.accurate.all()
+    ln_m = ser.centre[0] + x * ser.half_width[0]
+    f = chebyshev_basis(np.array([x]), ser.coefficients.shape[-1]) @ ser.coefficients[0, 0, 0]
+    want = colebrook_mpmath(re0 * float(np.exp(ln_m)), rr)
+    assert f[0] == pytest.approx(want, rel=5e-14)
+
+
 def test_series_marks_laminar_and_transitional_ranges_inaccurate():
     # the friction factor is not smooth across the laminar and transitional branches:
     # such a range must be left to the direct path (common practice: Re < 4000 is not turbulent)
