@@ -476,3 +476,49 @@ def test_continuous_optimum_against_scipy_minimize_scalar():
     assert opt["inner_diameter_m"] == pytest.approx(found.x, rel=1e-4)
     # flat at the optimum: the EAC agrees far closer than the diameter
     assert opt["eac"] == pytest.approx(found.fun, rel=1e-6)
+
+
+@pytest.mark.reference
+def test_hydraulic_columns_of_every_candidate_by_hand():
+    # V = 4Q/(pi D^2), Re = rho V D / mu, f the 40-digit mpmath Colebrook root (Colebrook 1939),
+    # h = f L/D V^2/2g (Darcy-Weisbach), P = rho g Q H / eta, E = P x 8000 h
+    # (docs/references.md#friction; DEVELOPERS.md#the-sizing-model-in-words, steps 1-2)
+    c = study_from(line={"length": "2 km", "static_head": "12 m"}).run().candidates
+    for _, row in c.iloc[::3].iterrows():
+        d = row["inner_diameter_m"]
+        v = 0.2 / (math.pi * d * d / 4)
+        re = RHO_15 * v * d / MU_15
+        f = colebrook_mpmath(re, PE_ROUGHNESS / d)
+        h = f * 2000.0 / d * v * v / (2 * 9.80665)
+        p_kw = RHO_15 * 9.80665 * 0.2 * (12.0 + h) / 0.75 / 1000.0
+        assert row["velocity_m_s"] == pytest.approx(v, rel=1e-14)
+        assert row["reynolds"] == pytest.approx(re, rel=1e-5)
+        assert row["friction_factor"] == pytest.approx(f, rel=1e-5)
+        assert row["head_loss_m"] == pytest.approx(h, rel=1e-5)
+        assert row["pump_head_m"] == pytest.approx(12.0 + h, rel=1e-5)
+        assert row["electrical_power_kw"] == pytest.approx(p_kw, rel=1e-5)
+        assert row["energy_kwh_year1"] == pytest.approx(p_kw * 8000.0, rel=1e-5)
+
+
+@pytest.mark.reference
+def test_yearly_table_of_a_growing_study_by_hand():
+    # flows grow 3 % a year to the design year 5 and then stay (DEVELOPERS.md model section,
+    # step 1); each year's energy by hand, discounted by 1.06^-t (docs/references.md#economics)
+    res = study_from(growth={"flow_per_year": 0.03, "design_year": 5},
+                     economics={"discount_rate": 0.06, "horizon": 8, "pipe_life": 30}).run()
+    y = res.yearly().set_index("year")
+    d = res.best["inner_diameter_m"]
+    for t in range(1, 9):
+        q = 0.2 * 1.03 ** (min(t, 5) - 1)
+        v = q / (math.pi * d * d / 4)
+        f = colebrook_mpmath(RHO_15 * v * d / MU_15, PE_ROUGHNESS / d)
+        h = f * 2000.0 / d * v * v / (2 * 9.80665)
+        e_kwh = RHO_15 * 9.80665 * q * h / 0.75 * 8000.0 / 1000.0
+        assert y.loc[t, "flow_multiplier"] == pytest.approx(1.03 ** (min(t, 5) - 1), rel=1e-14)
+        assert y.loc[t, "energy_kwh"] == pytest.approx(e_kwh, rel=1e-5)
+        assert y.loc[t, "energy_cost"] == pytest.approx(e_kwh * 0.1, rel=1e-5)
+        assert y.loc[t, "discounted"] == pytest.approx(y.loc[t, "total"] / 1.06**t, rel=1e-13)
+    # pipe life 30 > horizon 8: credited 1 - 8/30 of the capital at the horizon (a credit,
+    # negative in the table)
+    assert y.loc[8, "residual"] == pytest.approx(-res.best["capex_pipe"] * (1 - 8 / 30),
+                                                 rel=1e-12)
