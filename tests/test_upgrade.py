@@ -397,3 +397,33 @@ def test_duplicate_by_hand_with_the_split_found_by_root():
     assert d.loc[5, "residual"] == pytest.approx(-400000.0 * (1 - 5 / 80), rel=1e-12)
     # the head the duplicated pair loses is below either line alone at the full flow
     assert shared(0.12) < min(dw_head(0.12, *old), dw_head(0.12, *new))
+
+
+@pytest.mark.reference
+def test_reline_in_year_one_by_hand():
+    # DEVELOPERS.md#the-upgrade-model-in-words: the reline cleans the tuberculated 280 mm bore
+    # back to the 300 mm as laid and loses twice the 6 mm liner: 288 mm at 0.01 mm roughness.
+    # Acting at the end of year 1: year 1 still runs the old line; capital 250 x 2000 and
+    # cleaning 30 x 2000 in year 1; the liner (not the cleaning) credited 1 - 4/50 at year 5
+    ex = ExistingLine("2 km", "10 m", "cast-iron", inner_diameter="0.28 m",
+                      bore_as_laid="0.3 m", roughness="1 mm", aging="0 mm/yr")
+    op = UpgradeOption("reline", name="reline", liner_thickness="6 mm",
+                       liner_roughness="0.01 mm", aging="0 mm/yr", cost_per_metre=250.0,
+                       cleaning_cost_per_metre=30.0, life=50, year=1)
+    st = UpgradeStudy(Fluid.water("15 degC"), ex,
+                      DutyProfile(("0.12 m^3/s", "0.06 m^3/s"), (3000, 4000)), 0.7,
+                      EnergyTariff(0.1), Economics(0.04, 5, 80), [op])
+    res = st.run()
+    cf = res.cash_flows
+    old = hand_energy_cost(lambda q: dw_head(q, 0.28, 2000.0, 1e-3))
+    new = hand_energy_cost(lambda q: dw_head(q, 0.288, 2000.0, 1e-5))
+    r = cf[cf["option"] == "reline"].set_index("year")
+    assert r.loc[1, "energy_cost"] == pytest.approx(old, rel=1e-5)
+    np.testing.assert_allclose(r.loc[2:, "energy_cost"], new, rtol=1e-5)
+    assert (r.loc[1, "capital"], r.loc[1, "cleaning"]) == (500000.0, 60000.0)
+    assert r.loc[5, "residual"] == pytest.approx(-500000.0 * (1 - 4 / 50), rel=1e-12)
+    flows = [0.0, 560000.0 + old] + [new] * 4
+    flows[5] -= 500000.0 * (1 - 4 / 50)
+    pv = sum(c / 1.04**t for t, c in enumerate(flows))
+    assert res.summary.set_index("option").loc["reline", "pv_cost"] == pytest.approx(pv,
+                                                                                   rel=1e-5)
