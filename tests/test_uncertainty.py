@@ -329,6 +329,44 @@ def test_upgrade_monte_carlo_npv_by_hand():
         assert mc.npv["replace"].iloc[k] == pytest.approx(npv, rel=1e-4)
 
 
+@pytest.mark.reference
+def test_monte_carlo_with_the_horizon_sampled_by_hand():
+    # each sample's own horizon N (whole years, at most the 30-year pipe life): PV = capital +
+    # sum_{t<=N} B p 1.05^-t - capital (1 - N/30) 1.05^-N (straight-line residual), EAC = PV x
+    # CRF(5 %, N) (DEVELOPERS.md model section; docs/references.md#economics), in mpmath
+    st = two_study()
+    mc = monte_carlo(st, {"horizon": Uniform(4.5, 30.49)}, n=6, seed=12)
+    a30, b = hand_parts(st)
+    with mp.workdps(30):
+        i = mp.mpf("0.05")
+        capital = [mp.mpf(x) / (i * (1 + i) ** 30 / ((1 + i) ** 30 - 1)) for x in a30]
+        for k in range(mc.n):
+            n = int(mc.inputs["horizon"].iloc[k])
+            assert 5 <= n <= 30
+            for j in range(2):
+                pv = capital[j] + mp.fsum(mp.mpf(b[j]) * mp.mpf("0.12") / (1 + i) ** t
+                                          for t in range(1, n + 1))
+                pv -= capital[j] * (1 - mp.mpf(n) / 30) / (1 + i) ** n
+                eac = pv * i * (1 + i) ** n / ((1 + i) ** n - 1)
+                assert mc.eac[k, j] == pytest.approx(float(eac), rel=1e-5)
+
+
+@pytest.mark.reference
+def test_tornado_of_the_discount_rate_by_hand():
+    # the chosen candidate's EAC at 2 % and 10 %, and the best there, from the hand parts
+    # A_c(i) + B_c p at p = 0.12
+    st = two_study()
+    tr = st.tornado({"discount_rate": (0.02, 0.10)})
+    row = tr.table.iloc[0]
+    sizes = ["400 SDR 17", "450 SDR 17"]
+    chosen = sizes.index(tr.chosen.split(" ", 1)[1])
+    for end, i in (("low", 0.02), ("high", 0.10)):
+        a, b = hand_parts(st, i)
+        eac = a + b * 0.12
+        assert row[f"eac_{end}"] == pytest.approx(eac[chosen], rel=1e-5)
+        assert row[f"best_{end}"] == "pe100 " + sizes[int(np.argmin(eac))]
+
+
 def test_upgrade_monte_carlo():
     st = UpgradeStudy.demo()
     d = {"energy_price": Uniform(0.1, 0.2), "break_cost_factor": LogNormal(1.0, 0.3),
