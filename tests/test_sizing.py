@@ -338,9 +338,11 @@ def test_study_rich_display():
 # ------------------------------------------------------------------------------------------
 # time of use, pumps, equipment and fittings in a uniform line (docs/references.md#long-lines)
 # ------------------------------------------------------------------------------------------
+@pytest.mark.reference
 def test_time_of_use_prices_from_a_study_file():
     # one duty at 0.05 and one at 0.15 EUR/kWh: the energy cost is each duty's energy at its
-    # own price (hand: the two halves of the hours, priced apart)
+    # own price (hand: the two halves of the hours, priced apart; time-of-use tariffs,
+    # docs/references.md#long-lines)
     flat = study_from(duty=[{"flow": "0.2 m^3/s", "hours": 4000},
                             {"flow": "0.2 m^3/s", "hours": 4000}]).run()
     tou = study_from(duty=[{"flow": "0.2 m^3/s", "hours": 4000, "price": 0.05},
@@ -352,6 +354,17 @@ def test_time_of_use_prices_from_a_study_file():
     np.testing.assert_allclose(half.candidates["pv_energy"],
                                0.75 * flat.candidates["pv_energy"], rtol=1e-12)
     assert tou.study.duty.prices == (0.05, 0.15)
+    # by hand for every third candidate: P = rho g Q H / eta (Darcy-Weisbach, mpmath Colebrook),
+    # yearly cost P (4000 x 0.05 + 4000 x 0.15) / 1000, present worth over 30 years at 6 %
+    with mp.workdps(30):
+        annuity = float(mp.fsum(1 / mp.mpf("1.06") ** t for t in range(1, 31)))
+    for _, row in tou.candidates.iloc[::3].iterrows():
+        d = row["inner_diameter_m"]
+        v = 0.2 / (math.pi * d * d / 4)
+        f = colebrook_mpmath(RHO_15 * v * d / MU_15, PE_ROUGHNESS / d)
+        p_kw = RHO_15 * 9.80665 * 0.2 * f * 2000.0 / d * v * v / (2 * 9.80665) / 0.75 / 1000
+        want = p_kw * (4000.0 * 0.05 + 4000.0 * 0.15) * annuity
+        assert row["pv_energy"] == pytest.approx(want, rel=1e-5)
 
 
 @pytest.mark.reference
