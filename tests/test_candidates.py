@@ -6,7 +6,9 @@ Sources, beside each check:
   standard's formula for carbon steel of density 7.85 kg/dm^3; table values from memory);
 - EN 805 vocabulary (MDP, PFA, PMA; from memory): MDP = operating pressure + surge;
 - ISO 4427-1 / EN 12201-1 Annex A, Table A.1: PE derating factor 0.74 at 40 degC (from memory);
-- Joukowsky (1900): surge head a dV / g.
+- Joukowsky (1900): surge head a dV / g;
+- Barlow's formula p = 2 S E t / D_o, t = e (1 - 0.125) - 1.5 mm, S = 137.9 MPa (ASME B31.3
+  para. 304.1.2 and Table A-1, from memory; docs/references.md#pressure-ratings).
 """
 
 from __future__ import annotations
@@ -54,6 +56,7 @@ def study(**changes) -> SizingStudy:
     return SizingStudy.from_dict(m)
 
 
+@pytest.mark.reference
 @pytest.mark.parametrize(("designation", "want"), [
     ("NPS 6 Sch 40", 0.0246615 * (168.3 - 7.11) * 7.11),     # ASME B36.10M: 28.26 kg/m
     ("NPS 12 STD", 0.0246615 * (323.8 - 9.53) * 9.53),       # ASME B36.10M: 73.8 kg/m
@@ -67,6 +70,7 @@ def test_mass_per_metre_against_the_steel_pipe_formula(designation, want):
     assert mass == pytest.approx(want, rel=1e-5)
 
 
+@pytest.mark.reference
 def test_published_table_values_of_steel_mass():
     # ASME B36.10M table values (from memory): NPS 6 Sch 40 28.26 kg/m, NPS 24 STD 141.12 kg/m
     for designation, want in (("NPS 6 Sch 40", 28.26), ("NPS 24 STD", 141.12)):
@@ -102,6 +106,7 @@ def test_a_heavier_class_of_one_size_never_costs_less(price, coef, expo, materia
     assert (spread[law.groupby("nominal")["outside_diameter_m"].agg(np.ptp) == 0] == 0).all()
 
 
+@pytest.mark.reference
 def test_pe_derating_and_a_hot_study():
     # ISO 4427-1 / EN 12201-1 Table A.1 (from memory): 0.74 at 40 degC
     svc = catalog.default_catalog().service("pe100")
@@ -115,6 +120,39 @@ def test_pe_derating_and_a_hot_study():
                                             f"{mat} limit").all()
 
 
+@pytest.mark.reference
+def test_steel_candidates_priced_and_rated_by_hand():
+    # material plus laying (DEVELOPERS.md#the-sizing-model-in-words): 2.0 per kg x the ASME
+    # B36.10M mass 0.0246615 (D - t) t + 500 OD^1.1; PFA by Barlow on the steel wall
+    built = build_candidates((MaterialChoice("steel", MassLayingCost(2.0, 500.0, 1.1)),),
+                             catalog.default_catalog(), 2.19e9, 999.0, "anchored-throughout",
+                             288.15).table.set_index("size")
+    for size, od_mm, wall_mm in (("NPS 6 Sch 40", 168.3, 7.11), ("NPS 12 STD", 323.8, 9.53)):
+        row = built.loc[size]
+        mass = 0.0246615 * (od_mm - wall_mm) * wall_mm
+        # the standard's constant is rounded to 6 figures: agreement to 1e-5
+        assert row["cost_per_metre"] == pytest.approx(2.0 * mass + 500.0 * (od_mm / 1e3) ** 1.1,
+                                                      rel=1e-5)
+        barlow = 2 * 137.9e6 * (wall_mm * (1 - 0.125) - 1.5) / od_mm
+        assert row["pfa_pa"] == pytest.approx(barlow, rel=1e-12)   # 15 degC: not derated
+
+
+@pytest.mark.reference
+def test_wave_speed_of_every_pe_candidate_by_hand():
+    # docs/references.md#surge: Korteweg's a = sqrt(K/rho)/sqrt(1 + c1 K D/(E e)) with the
+    # Wylie & Streeter thick-wall factor c1 = 2 (e/D)(1 + nu) + psi D/(D + e), psi = 1 - nu^2
+    # anchored throughout; PE 100 short-term E 1.1 GPa, nu 0.45 (docs/references.md#materials)
+    k, rho, e_mod, nu = 2.19e9, 999.0, 1.1e9, 0.45
+    t = build_candidates((MaterialChoice("pe100", PowerLawPipeCost(1000.0, 1.2)),),
+                         catalog.default_catalog(), k, rho, "anchored-throughout",
+                         288.15).table
+    d, e = t["inner_diameter_m"].to_numpy(), t["wall_m"].to_numpy()
+    c1 = 2 * e / d * (1 + nu) + (1 - nu**2) * d / (d + e)
+    want = np.sqrt(k / rho) / np.sqrt(1 + c1 * k * d / (e_mod * e))
+    assert len(t) > 20
+    np.testing.assert_allclose(t["wave_speed_m_s"], want, rtol=1e-13)
+
+
 def test_hot_study_picks_no_plastic():
     # at 90 degC only metal without a temperature-limited lining may serve: here none of the
     # three materials qualifies, and the study says so instead of picking a plastic
@@ -124,6 +162,7 @@ def test_hot_study_picks_no_plastic():
     assert reasons.str.contains("service temperature").all()
 
 
+@pytest.mark.reference
 def test_derated_pe_at_35_degc():
     res = study(fluid={"kind": "water", "temperature": "35 degC"}).run()
     c = res.candidates
@@ -133,6 +172,7 @@ def test_derated_pe_at_35_degc():
     np.testing.assert_allclose(pe["pfa_bar"], 0.805 * pe["pressure_rating_bar"], rtol=1e-12)
 
 
+@pytest.mark.reference
 def test_closed_loop_suction_pressure_by_hand():
     # EN 805: MDP = system pressure + pump head + surge; operating = the same without surge
     res = study(line={"length": "3 km", "static_head": "0 m", "minor_loss_k": 5.0,

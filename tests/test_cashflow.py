@@ -19,6 +19,7 @@ from pipeopt.costs import PumpStationCost
 from pipeopt.errors import InputError
 
 
+@pytest.mark.reference
 def test_timeline_by_hand():
     tl = Timeline([0.05, 0.0], [3, 2])
     assert tl.factor[0].tolist() == pytest.approx([1.0, 1 / 1.05, 1 / 1.05**2, 1 / 1.05**3],
@@ -36,6 +37,7 @@ def test_timeline_by_hand():
         Timeline(0.05, 5, n_years=3)
 
 
+@pytest.mark.reference
 def test_purchases_by_hand():
     # life 4, horizon 10: bought at 0, 4, 8 (< 10); the last purchase is 2 years old at the
     # horizon: residual 1 - 2/4 = 0.5. A stage built in year 12 is never built.
@@ -50,6 +52,7 @@ def test_purchases_by_hand():
     assert w["renewal"][0, 0] == pytest.approx(1.05**-4 + 1.05**-8, rel=1e-15)
 
 
+@pytest.mark.reference
 def test_two_stage_station_against_a_cash_flow_by_hand():
     # Stage 0 at year 0 sized for the largest peak of years 1-5; stage 1 built in year 5 adds
     # what years 6-12 need more. Capital a (dP (1 + s))^b; each stage bought again every 6
@@ -87,6 +90,7 @@ def test_two_stage_station_against_a_cash_flow_by_hand():
 @settings(max_examples=60, deadline=None)
 @given(rates=st.lists(st.floats(0.0, 0.2), min_size=1, max_size=5),
        data=st.data())
+@pytest.mark.reference
 def test_cash_flows_reconcile_to_present_value(rates, data):
     # the present value of a cash-flow table is the sum of its discounted rows (definition)
     horizons = data.draw(st.lists(st.integers(1, 30), min_size=len(rates),

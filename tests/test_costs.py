@@ -1,4 +1,10 @@
-"""Tests of pipeopt.costs (cost models; definitions, no external figures)."""
+"""Tests of pipeopt.costs (cost models; definitions, no external figures).
+
+Every expected value is computed by hand in the test from the cost forms of the contributor
+guide (DEVELOPERS.md#the-sizing-model-in-words: material plus laying m p + a OD^n, a power law of
+the diameter, a station a (P (1 + s))^b) and the tariff of docs/references.md#economics
+(energy x escalated price + demand charge x peak; compound escalation, common practice).
+"""
 
 import numpy as np
 import pytest
@@ -13,7 +19,9 @@ from pipeopt.costs import (
 from pipeopt.errors import InputError
 
 
+@pytest.mark.reference
 def test_power_law():
+    # a D^b per metre, the common power-law cost form (common practice), by hand
     c = PowerLawPipeCost(1800.0, 1.25)
     assert c.per_metre(0.3) == pytest.approx(1800 * 0.3**1.25)
     np.testing.assert_allclose(c.per_metre([0.2, 0.4]), 1800 * np.array([0.2, 0.4]) ** 1.25)
@@ -23,6 +31,7 @@ def test_power_law():
         PowerLawPipeCost(100.0, 9.0)
 
 
+@pytest.mark.reference
 def test_material_plus_laying_by_hand():
     # definition: c = m p + a OD^n, or a laying cost by nominal size (worked by hand)
     c = MassLayingCost(2.5, 600.0, 1.1)
@@ -51,7 +60,9 @@ def test_designation_table_is_used_as_given():
         DesignationCostTable.parse([["DN 300 C40", 1.0], ["dn300c40", 2.0]], "cost.table")
 
 
+@pytest.mark.reference
 def test_pump_station():
+    # a (P (1 + s))^b, DEVELOPERS.md#the-sizing-model-in-words, by hand: 100 kW + 50 % standby
     ps = PumpStationCost(8000.0, 0.7, standby_fraction=0.5, life=20, maintenance=0.01)
     assert ps.installed_power(100.0) == pytest.approx(150.0)
     assert ps.capital(100.0) == pytest.approx(8000 * 150**0.7)
@@ -63,7 +74,11 @@ def test_pump_station():
         PumpStationCost(8000.0, 0.7, stages=[5, 10])
 
 
+@pytest.mark.reference
 def test_tariff():
+    # compound escalation p_t = p_1 (1 + e)^(t - 1) and cost = E p_t + demand charge x peak
+    # (docs/references.md#economics, common practice), by hand: 0.12 x 1.02 = 0.1224,
+    # 0.12 x 1.02^2 = 0.124848
     t = EnergyTariff(0.12, escalation=0.02, demand_charge=50.0)
     np.testing.assert_allclose(t.price_by_year(3), [0.12, 0.1224, 0.124848])
     cost = t.yearly_cost(np.array([[1000.0, 1000.0]]), np.array([[10.0, 20.0]]))

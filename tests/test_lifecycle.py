@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 
+import mpmath as mp
 import numpy as np
 import pytest
 from hypothesis import given, settings
@@ -25,6 +26,30 @@ from .conftest import colebrook_mpmath
 G = 9.80665
 
 
+def hand_years(d, eps0, alpha, years=3, growth=0.02, static=15.0, eta=0.7, friction=None,
+               duties=((0.05, 3000.0), (0.08, 1500.0)), rho=999.1, mu=1.1376e-3, k=4.0):
+    """Yearly energy [kWh] and peak demand [kW] of one pipe, by hand (DEVELOPERS.md model
+    section, steps 1-2): Darcy-Weisbach with f from a 40-digit mpmath Colebrook root (or the
+    given constant), P = rho g Q H / eta, E = sum of P x hours."""
+    area = math.pi * d * d / 4
+    energy, peak = [], []
+    for t in range(1, years + 1):
+        eps_t = eps0 + alpha * (t - 1)
+        e_t, p_max = 0.0, 0.0
+        for q0, hrs in duties:
+            q = q0 * (1 + growth) ** (t - 1)
+            v = q / area
+            f = friction if friction is not None else colebrook_mpmath(rho * v * d / mu,
+                                                                       eps_t / d)
+            h = (f * 2000.0 / d + k) * v * v / (2 * G)
+            p_w = rho * G * q * (static + h) / eta
+            e_t += p_w * hrs / 1000.0
+            p_max = max(p_max, p_w / 1000.0)
+        energy.append(e_t)
+        peak.append(p_max)
+    return energy, peak
+
+
 def small_scenario(**over) -> Scenario:
     base = dict(
         density=999.1, viscosity=1.1376e-3, length=2000.0, static_head=15.0, minor_loss_k=4.0,
@@ -37,6 +62,7 @@ def small_scenario(**over) -> Scenario:
     return Scenario(**base)
 
 
+@pytest.mark.reference
 def test_present_value_and_eac_by_hand():
     s = small_scenario()
     d, eps0, alpha, c_m = 0.25, 0.1e-3, 0.05e-3, 300.0
@@ -94,18 +120,25 @@ def test_no_pump_station_no_carbon():
     assert lc.pv_carbon[0] == 0
 
 
+@pytest.mark.reference
 def test_carbon_terms():
+    # DEVELOPERS.md model section, step 4: operational energy x grid factor x carbon price each
+    # year, discounted, plus embodied mass x factor x price at t = 0; the energy by hand
     s = small_scenario(grid_factor=0.3, carbon_price=0.08)  # 80 per tonne
     lc = evaluate(s, np.array([0.3]), 1e-4, 0.0, np.array([350.0]), embodied_co2_per_metre=50.0)
-    disc = 1.06 ** -np.arange(1, 4)
-    want = np.sum(lc.energy_kwh[0] * 0.3 * 0.08 * disc) + 50.0 * 2000.0 * 0.08
+    energy, _ = hand_years(0.3, 1e-4, 0.0)
+    want = sum(energy[t - 1] * 0.3 * 0.08 / 1.06**t for t in (1, 2, 3)) + 50.0 * 2000.0 * 0.08
     assert lc.pv_carbon[0] == pytest.approx(want, rel=1e-12)
 
 
+@pytest.mark.reference
 def test_constant_friction_and_errors():
+    # Darcy-Weisbach with f = 0.02 throughout (docs/references.md#friction), energy by hand
     s = small_scenario(friction_method="constant", constant_friction_factor=0.02)
     lc = evaluate(s, np.array([0.3]), 1e-4, 0.0, np.array([350.0]))
     assert lc.friction_factor_design[0] == 0.02
+    energy, _ = hand_years(0.3, 1e-4, 0.0, friction=0.02)
+    assert lc.energy_kwh[0] == pytest.approx(energy, rel=1e-13)
     with pytest.raises(InputError, match="friction_factor must be in"):
         small_scenario(friction_method="constant")
     with pytest.raises(InputError, match="pumping.efficiency"):
@@ -157,6 +190,7 @@ def test_each_sample_uses_its_own_horizon(horizons, growth, rate):
                                    rtol=1e-12)
 
 
+@pytest.mark.reference
 def test_time_of_use_duty_efficiencies_equipment_and_fittings_by_hand():
     # DEVELOPERS.md model section, with each duty's own price and pump efficiency, a fixed
     # loss c Q^2 (35 kPa at 0.08 m3/s) and two gate valves (Crane TP-410, 8 f_T, f_T 0.014 at
@@ -204,6 +238,7 @@ def test_time_of_use_duty_efficiencies_equipment_and_fittings_by_hand():
         sum(2.0 * energy_part[t - 1] / 1.06**t for t in (1, 2, 3)), rel=1e-12)
 
 
+@pytest.mark.reference
 def test_variable_speed_curve_on_friction_only_costs_as_the_best_efficiency():
     # affinity laws (Gulich 2014, 3.4, from memory): with no static head every duty of a
     # variable-speed pump is similar to the design point, at the best efficiency; a throttled
@@ -222,3 +257,59 @@ def test_variable_speed_curve_on_friction_only_costs_as_the_best_efficiency():
     # a constant friction factor: H = c Q^2 exactly, every state similar to the design point
     np.testing.assert_allclose(b.pv_energy, a.pv_energy, rtol=1e-12)
     assert np.all(c.pv_energy > b.pv_energy)
+    # by hand: every state at the best efficiency 0.8, h = f L/D V^2/2g (Darcy-Weisbach),
+    # energy cost E_t 0.10 x 1.01^(t-1) + 40 x peak, discounted at 6 %
+    for j, dj in enumerate(d):
+        energy, peak = hand_years(dj, 0.0, 0.0, static=0.0, eta=0.8, friction=0.02)
+        want = sum((energy[t - 1] * 0.10 * 1.01 ** (t - 1) + 40.0 * peak[t - 1]) / 1.06**t
+                   for t in (1, 2, 3))
+        assert b.pv_energy[j] == pytest.approx(want, rel=1e-12)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize("rate", [0.06, 0.0])
+def test_a_25_year_study_against_an_explicit_mpmath_sum(rate):
+    # DEVELOPERS.md#the-sizing-model-in-words, year by year in 30-digit mpmath: pipe capital at
+    # t = 0; a station a (P (1 + s))^b bought at 0 and again at 20 (life 20), credited
+    # 1 - 5/20 of its price at 25; maintenance on both; energy E p (1 + e)^(t-1) + d P_peak;
+    # every amount discounted by (1 + i)^-t (docs/references.md#economics);
+    # EAC = PV i (1 + i)^N / ((1 + i)^N - 1), PV / N at i = 0
+    n, d, c_m = 25, 0.3, 420.0
+    s = small_scenario(duty=DutyProfile(("0.05 m^3/s", "0.08 m^3/s"), (3000.0, 1500.0)),
+                       horizon=n, discount_rate=rate,
+                       pump_station=PumpStationCost(5000.0, 0.7, standby_fraction=0.5, life=20,
+                                                    maintenance=0.02))
+    lc = evaluate(s, np.array([d]), 1e-4, 0.0, np.array([c_m]))
+    energy, peak = hand_years(d, 1e-4, 0.0, years=1, growth=0.0)
+    with mp.workdps(30):
+        i = mp.mpf(rate)
+        c_pipe = mp.mpf(c_m) * 2000
+        c_ps = 5000 * (mp.mpf(peak[0]) * mp.mpf("1.5")) ** mp.mpf("0.7")
+        flows = [c_pipe + c_ps] + [mp.mpf(0)] * n
+        for t in range(1, n + 1):
+            flows[t] += (mp.mpf(energy[0]) * mp.mpf("0.10") * mp.mpf("1.01") ** (t - 1)
+                         + 40 * mp.mpf(peak[0]))
+            flows[t] += mp.mpf("0.01") * c_pipe + mp.mpf("0.02") * c_ps
+        flows[20] += c_ps
+        flows[n] -= c_pipe * (1 - mp.mpf(n) / 50) + c_ps * (1 - mp.mpf(5) / 20)
+        pv = mp.fsum(c / (1 + i) ** t for t, c in enumerate(flows))
+        crf = 1 / mp.mpf(n) if rate == 0 else i * (1 + i) ** n / ((1 + i) ** n - 1)
+        eac = pv * crf
+    assert lc.pv_total[0] == pytest.approx(float(pv), rel=1e-11)
+    assert lc.eac[0] == pytest.approx(float(eac), rel=1e-11)
+
+
+@pytest.mark.reference
+def test_laminar_flow_uses_hagen_poiseuille():
+    # docs/references.md#friction: f = 64/Re below Re 2000 (Hagen-Poiseuille); a viscous oil
+    # (invented: 900 kg/m3, 0.5 Pa s) at Re about 100, energy by hand with Darcy-Weisbach
+    s = small_scenario(density=900.0, viscosity=0.5,
+                       duty=DutyProfile(("0.005 m^3/s",), (4000.0,)))
+    d = 0.1
+    lc = evaluate(s, np.array([d]), 1e-4, 0.0, np.array([200.0]))
+    v = 0.005 / (math.pi * d * d / 4)
+    re = 900.0 * v * d / 0.5
+    assert re < 2000
+    energy, _ = hand_years(d, 1e-4, 0.0, growth=0.0, friction=64 / re,
+                           duties=((0.005, 4000.0),), rho=900.0, mu=0.5)
+    assert lc.energy_kwh[0] == pytest.approx(energy, rel=1e-12)

@@ -18,15 +18,19 @@ import copy
 import math
 from pathlib import Path
 
+import mpmath as mp
 import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from scipy import optimize
 
 from pipeopt import SizingStudy
 from pipeopt.economics import capital_recovery_factor
 from pipeopt.errors import InputError
 from pipeopt.studyfile import StudyFileError
+
+from .conftest import colebrook_mpmath
 
 DATA = Path(__file__).parent / "data"
 
@@ -67,6 +71,7 @@ def bore_power_law_table(material: str, pressure_class: str, a: float, m: float)
                                                    sizes["inner_diameter_m"], strict=True)}}
 
 
+@pytest.mark.reference
 def test_closed_form_optimum_with_constant_friction():
     f, a, m = 0.015, 1500.0, 1.4
     # the continuous optimum interpolates a class's costs log-log between its sizes, which
@@ -94,6 +99,7 @@ def test_closed_form_optimum_with_constant_friction():
     assert lc.eac.min() >= opt["eac"] - 1e-6  # no catalog size beats the continuous optimum
 
 
+@pytest.mark.reference
 def test_peters_timmerhaus_order_of_magnitude_and_velocity():
     # A typical turbulent water line (illustrative inputs): steel, 0.1 m^3/s, 8000 h/yr.
     st_ = study_from(duty=[{"flow": "0.1 m^3/s", "hours": 8000}], pumping={"efficiency": 0.7},
@@ -158,7 +164,9 @@ def test_infeasible_candidates_stay_with_reasons():
     assert (slow["velocity_m_s"] < 0.5).all()
 
 
+@pytest.mark.reference
 def test_pressure_check_uses_joukowsky_or_allowance():
+    # EN 805 (from memory): MDP = operating pressure + surge; Joukowsky (1900): dH = a dV / g
     res = study_from(line={"length": "2 km", "static_head": "60 m"},
                      constraints={"surge_allowance": "30 m"}).run()
     c = res.candidates
@@ -330,9 +338,11 @@ def test_study_rich_display():
 # ------------------------------------------------------------------------------------------
 # time of use, pumps, equipment and fittings in a uniform line (docs/references.md#long-lines)
 # ------------------------------------------------------------------------------------------
+@pytest.mark.reference
 def test_time_of_use_prices_from_a_study_file():
     # one duty at 0.05 and one at 0.15 EUR/kWh: the energy cost is each duty's energy at its
-    # own price (hand: the two halves of the hours, priced apart)
+    # own price (hand: the two halves of the hours, priced apart; time-of-use tariffs,
+    # docs/references.md#long-lines)
     flat = study_from(duty=[{"flow": "0.2 m^3/s", "hours": 4000},
                             {"flow": "0.2 m^3/s", "hours": 4000}]).run()
     tou = study_from(duty=[{"flow": "0.2 m^3/s", "hours": 4000, "price": 0.05},
@@ -344,8 +354,20 @@ def test_time_of_use_prices_from_a_study_file():
     np.testing.assert_allclose(half.candidates["pv_energy"],
                                0.75 * flat.candidates["pv_energy"], rtol=1e-12)
     assert tou.study.duty.prices == (0.05, 0.15)
+    # by hand for every third candidate: P = rho g Q H / eta (Darcy-Weisbach, mpmath Colebrook),
+    # yearly cost P (4000 x 0.05 + 4000 x 0.15) / 1000, present worth over 30 years at 6 %
+    with mp.workdps(30):
+        annuity = float(mp.fsum(1 / mp.mpf("1.06") ** t for t in range(1, 31)))
+    for _, row in tou.candidates.iloc[::3].iterrows():
+        d = row["inner_diameter_m"]
+        v = 0.2 / (math.pi * d * d / 4)
+        f = colebrook_mpmath(RHO_15 * v * d / MU_15, PE_ROUGHNESS / d)
+        p_kw = RHO_15 * 9.80665 * 0.2 * f * 2000.0 / d * v * v / (2 * 9.80665) / 0.75 / 1000
+        want = p_kw * (4000.0 * 0.05 + 4000.0 * 0.15) * annuity
+        assert row["pv_energy"] == pytest.approx(want, rel=1e-5)
 
 
+@pytest.mark.reference
 def test_npsh_short_is_a_reason_for_every_candidate():
     # NPSH available at sea level from an open tank at the pump, water at 15 degC:
     # (101325 - 1705) / (999.1 g) = 10.17 m (ISO 9906 definition; docs/references.md)
@@ -363,6 +385,7 @@ def test_npsh_short_is_a_reason_for_every_candidate():
     assert not high.success   # the barometric pressure at 1000 m is 11.4 kPa lower
 
 
+@pytest.mark.reference
 def test_equipment_and_fittings_add_their_losses():
     base = study_from().run().candidates
     eq = study_from(equipment=[{"pressure_drop": "35 kPa", "at_flow": "0.2 m^3/s"}]).run()
@@ -377,6 +400,15 @@ def test_equipment_and_fittings_add_their_losses():
     k = 2 * np.asarray(fitting_k("gate-valve", d)) + 1.0
     np.testing.assert_allclose(fit["head_loss_m"] - base["head_loss_m"], k * v * v / 19.6133,
                                rtol=1e-9)
+    # by hand where Crane's f_T table is flat (Crane TP-410, from memory;
+    # docs/references.md#long-lines): 0.013 for the Schedule 40 bores of NPS 12-16
+    # (303.18-381.00 mm), 0.012 from NPS 18 (428.46 mm) on; a gate valve is 8 f_T and the
+    # exit 1.0; 2 g = 19.6133 m/s^2 (standard gravity, exact)
+    f_t = np.select([(d >= 0.30318) & (d <= 0.381), d >= 0.42846], [0.013, 0.012], np.nan)
+    flat = ~np.isnan(f_t)
+    assert flat.sum() >= 5
+    np.testing.assert_allclose((fit["head_loss_m"] - base["head_loss_m"])[flat],
+                               ((2 * 8 * f_t + 1.0) * v * v / 19.6133)[flat], rtol=1e-9)
 
 
 def test_upgrade_studies_refuse_the_sizing_only_keys():
@@ -391,3 +423,115 @@ def test_upgrade_studies_refuse_the_sizing_only_keys():
     d["pumping"] = {"bep_efficiency": 0.8}
     with pytest.raises(StudyFileError, match=r"pumping\.bep_efficiency: unknown key"):
         UpgradeStudy.from_dict(d)
+
+
+# ------------------------------------------------------------------------------------------
+# every candidate by hand, the best by enumeration, the continuous optimum by scipy
+# ------------------------------------------------------------------------------------------
+# Water at 15 degC and 1 atm, IAPWS-95 and IAPWS R12-08 (docs/references.md#water-properties):
+RHO_15, MU_15 = 999.1026, 1.13757e-3
+PE_ROUGHNESS = 0.007e-3      # PE, Moody (1944) chart (docs/references.md#materials)
+
+
+def hand_eac(bore, cost_per_metre, static=0.0, k=0.0):
+    """EAC of one candidate of BASE by hand (DEVELOPERS.md#the-sizing-model-in-words): no
+    growth, aging, station, maintenance or escalation, pipe life = horizon (no residual), so
+    EAC = capital x CRF + the yearly energy cost; Darcy-Weisbach with a 40-digit mpmath
+    Colebrook root; CRF = i (1 + i)^n / ((1 + i)^n - 1) in mpmath."""
+    q, length, eta, hours, price, i, n = 0.2, 2000.0, 0.75, 8000.0, 0.1, 0.06, 30
+    v = q / (math.pi * bore * bore / 4)
+    f = colebrook_mpmath(RHO_15 * v * bore / MU_15, PE_ROUGHNESS / bore)
+    head = static + (f * length / bore + k) * v * v / (2 * 9.80665)
+    energy_cost = RHO_15 * 9.80665 * q * head / eta * hours / 1000.0 * price
+    with mp.workdps(30):
+        crf = float(mp.mpf(i) * (1 + mp.mpf(i)) ** n / ((1 + mp.mpf(i)) ** n - 1))
+    return cost_per_metre * length * crf + energy_cost
+
+
+@pytest.mark.reference
+def test_every_candidate_by_hand_and_the_best_by_enumeration():
+    # velocity limits 0.5-2.5 m/s (common practice) decide feasibility here; the cost is
+    # 1500 OD^1.4 per metre on the outside diameter; the tolerance, 1e-5, covers the water
+    # properties printed to 7 and 6 figures
+    res = study_from(constraints={"velocity_min": "0.5 m/s", "velocity_max": "2.5 m/s"}).run()
+    c = res.candidates
+    bores = c["inner_diameter_m"].to_numpy()
+    od = res.study.candidates.set_index("size").loc[c["size"], "outside_diameter_m"]
+    costs = 1500.0 * od.to_numpy() ** 1.4
+    np.testing.assert_allclose(c["capex_pipe"], costs * 2000.0, rtol=1e-12)
+    want = np.array([hand_eac(b, m) for b, m in zip(bores, costs, strict=True)])
+    np.testing.assert_allclose(c["eac"], want, rtol=1e-5)
+    v = 0.2 / (np.pi * bores**2 / 4)
+    ok = (v >= 0.5) & (v <= 2.5)
+    assert ok.sum() >= 4 and (~ok).sum() >= 4
+    assert c["feasible"].tolist() == ok.tolist()
+    # brute force: the cheapest feasible row of the hand figures is the study's best
+    best = int(np.argmin(np.where(ok, want, np.inf)))
+    assert res.best["size"] == c["size"].iloc[best]
+    assert res.best["eac"] == pytest.approx(want[best], rel=1e-5)
+
+
+@pytest.mark.reference
+def test_continuous_optimum_against_scipy_minimize_scalar():
+    # a cost a bore^m per metre (the continuous optimum interpolates log-log, so the power law
+    # is exact between sizes), Colebrook friction and a 20 m lift: the optimum of the hand
+    # EAC function by scipy.optimize.minimize_scalar (bounded, Brent) over the class's bores
+    a, m = 1500.0, 1.4
+    st_ = study_from(line={"length": "2 km", "static_head": "20 m"},
+                     material=[{"name": "pe100", "classes": ["SDR 17"],
+                                "cost": bore_power_law_table("pe100", "SDR 17", a, m)}])
+    opt = st_.run().optimum.iloc[0]
+    bores = st_.candidates["inner_diameter_m"]
+    found = optimize.minimize_scalar(lambda x: hand_eac(x, a * x**m, static=20.0),
+                                     bounds=(bores.min(), bores.max()), method="bounded",
+                                     options={"xatol": 1e-8})
+    assert found.success
+    assert opt["inner_diameter_m"] == pytest.approx(found.x, rel=1e-4)
+    # flat at the optimum: the EAC agrees far closer than the diameter
+    assert opt["eac"] == pytest.approx(found.fun, rel=1e-6)
+
+
+@pytest.mark.reference
+def test_hydraulic_columns_of_every_candidate_by_hand():
+    # V = 4Q/(pi D^2), Re = rho V D / mu, f the 40-digit mpmath Colebrook root (Colebrook 1939),
+    # h = f L/D V^2/2g (Darcy-Weisbach), P = rho g Q H / eta, E = P x 8000 h
+    # (docs/references.md#friction; DEVELOPERS.md#the-sizing-model-in-words, steps 1-2)
+    c = study_from(line={"length": "2 km", "static_head": "12 m"}).run().candidates
+    for _, row in c.iloc[::3].iterrows():
+        d = row["inner_diameter_m"]
+        v = 0.2 / (math.pi * d * d / 4)
+        re = RHO_15 * v * d / MU_15
+        f = colebrook_mpmath(re, PE_ROUGHNESS / d)
+        h = f * 2000.0 / d * v * v / (2 * 9.80665)
+        p_kw = RHO_15 * 9.80665 * 0.2 * (12.0 + h) / 0.75 / 1000.0
+        assert row["velocity_m_s"] == pytest.approx(v, rel=1e-14)
+        assert row["reynolds"] == pytest.approx(re, rel=1e-5)
+        assert row["friction_factor"] == pytest.approx(f, rel=1e-5)
+        assert row["head_loss_m"] == pytest.approx(h, rel=1e-5)
+        assert row["pump_head_m"] == pytest.approx(12.0 + h, rel=1e-5)
+        assert row["electrical_power_kw"] == pytest.approx(p_kw, rel=1e-5)
+        assert row["energy_kwh_year1"] == pytest.approx(p_kw * 8000.0, rel=1e-5)
+
+
+@pytest.mark.reference
+def test_yearly_table_of_a_growing_study_by_hand():
+    # flows grow 3 % a year to the design year 5 and then stay (DEVELOPERS.md model section,
+    # step 1); each year's energy by hand, discounted by 1.06^-t (docs/references.md#economics)
+    res = study_from(growth={"flow_per_year": 0.03, "design_year": 5},
+                     economics={"discount_rate": 0.06, "horizon": 8, "pipe_life": 30}).run()
+    y = res.yearly().set_index("year")
+    d = res.best["inner_diameter_m"]
+    for t in range(1, 9):
+        q = 0.2 * 1.03 ** (min(t, 5) - 1)
+        v = q / (math.pi * d * d / 4)
+        f = colebrook_mpmath(RHO_15 * v * d / MU_15, PE_ROUGHNESS / d)
+        h = f * 2000.0 / d * v * v / (2 * 9.80665)
+        e_kwh = RHO_15 * 9.80665 * q * h / 0.75 * 8000.0 / 1000.0
+        assert y.loc[t, "flow_multiplier"] == pytest.approx(1.03 ** (min(t, 5) - 1), rel=1e-14)
+        assert y.loc[t, "energy_kwh"] == pytest.approx(e_kwh, rel=1e-5)
+        assert y.loc[t, "energy_cost"] == pytest.approx(e_kwh * 0.1, rel=1e-5)
+        assert y.loc[t, "discounted"] == pytest.approx(y.loc[t, "total"] / 1.06**t, rel=1e-13)
+    # pipe life 30 > horizon 8: credited 1 - 8/30 of the capital at the horizon (a credit,
+    # negative in the table)
+    assert y.loc[8, "residual"] == pytest.approx(-res.best["capex_pipe"] * (1 - 8 / 30),
+                                                 rel=1e-12)

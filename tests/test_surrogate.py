@@ -6,7 +6,11 @@ path (every sample's Colebrook-White solved) returns, to rounding. So the checks
 - the series against the 40-digit Colebrook-White root of mpmath (Colebrook 1939, the 3.7 /
   2.51 form; tests/conftest.py), at points between the interpolation nodes;
 - the Chebyshev helpers against identities any text on them states (T_k(cos θ) = cos kθ;
-  Trefethen, Approximation Theory and Approximation Practice, 2013, ch. 3; from memory);
+  Trefethen, Approximation Theory and Approximation Practice, 2013, ch. 3; from memory) and
+  against numpy.polynomial.chebyshev (an independent implementation: chebvander,
+  chebinterpolate at the first-kind points);
+- a Monte Carlo on the series path against each sample's EAC worked by hand (the model of
+  DEVELOPERS.md#the-sizing-model-in-words year by year, friction by the mpmath root);
 - the life-cycle figures of the series path against the direct path (property tests over
   growth, flow factor, static head, demand charge and carbon price);
 - feasibility identical, chunking immaterial (bitwise), and the fall-back of candidates whose
@@ -16,10 +20,12 @@ path (every sample's Colebrook-White solved) returns, to rounding. So the checks
 from __future__ import annotations
 
 import copy
+import math
 import tomllib
 from dataclasses import replace
 from importlib import resources
 
+import mpmath as mp
 import numpy as np
 import pytest
 from hypothesis import given, settings
@@ -68,6 +74,24 @@ def test_coefficients_recover_a_polynomial_exactly():
     np.testing.assert_allclose(got[7:], 0.0, atol=1e-13)
 
 
+@pytest.mark.reference
+def test_basis_and_coefficients_against_numpy_chebyshev():
+    # numpy.polynomial.chebyshev: chebvander is T_0 ... T_{n-1}; chebinterpolate(f, n - 1)
+    # interpolates at the n first-kind points, so the coefficients of one function agree
+    from numpy.polynomial import chebyshev as npc
+
+    x = np.linspace(-1.0, 1.0, 23)
+    np.testing.assert_allclose(chebyshev_basis(x, 14), npc.chebvander(x, 13), atol=1e-13)
+
+    def func(t):
+        return np.exp(0.7 * t) + np.log(2.5 + t)
+
+    for n in (12, 20, 28):
+        got = chebyshev_coefficients(func(chebyshev_points(n)))
+        np.testing.assert_allclose(got, npc.chebinterpolate(func, n - 1), atol=1e-14)
+    assert sorted(chebyshev_points(9)) == pytest.approx(npc.chebpts1(9).tolist(), abs=1e-15)
+
+
 # --- the friction series against Colebrook-White --------------------------------------------
 
 class _S:
@@ -89,6 +113,25 @@ def test_series_matches_mpmath_colebrook_between_nodes(re0, rr):
                         ser.coefficients.shape[-1]) @ ser.coefficients[0, 0, 0]
     want = np.array([colebrook_mpmath(re0 * x, rr) for x in m[:, 0]])
     np.testing.assert_allclose(f, want, rtol=5e-14)
+
+
+@pytest.mark.reference
+@settings(max_examples=12, deadline=None)
+@given(log_re=st_.floats(np.log10(8e3), 7.5), rr=st_.sampled_from([0.0, 1e-6, 3e-5, 1e-3, 0.02]),
+       lo=st_.floats(0.5, 1.0), span=st_.floats(1.0, 3.0), x=st_.floats(-1.0, 1.0))
+def test_series_against_mpmath_colebrook_over_random_ranges(log_re, rr, lo, span, x):
+    # anywhere in a turbulent range (Re >= 4000 throughout), the series evaluated at a random
+    # point of ln m agrees with the 40-digit Colebrook (1939) root (tests/conftest.py)
+    re0 = 10.0**log_re
+    hi = lo * span
+    assert re0 * lo >= 4000.0
+    ser = friction_series(_S(), np.array([[re0]]), np.array([[rr]]), np.array([lo]),
+                          np.array([hi]))
+    assert ser.accurate.all()
+    ln_m = ser.centre[0] + x * ser.half_width[0]
+    f = chebyshev_basis(np.array([x]), ser.coefficients.shape[-1]) @ ser.coefficients[0, 0, 0]
+    want = colebrook_mpmath(re0 * float(np.exp(ln_m)), rr)
+    assert f[0] == pytest.approx(want, rel=5e-14)
 
 
 def test_series_marks_laminar_and_transitional_ranges_inaccurate():
@@ -220,3 +263,56 @@ def test_monte_carlo_reference_path_agrees_with_the_series_path(monkeypatch):
     assert used > 0 and len(calls) == used      # the series on the first run only
     np.testing.assert_allclose(fast.eac, slow.eac, rtol=1e-12)
     assert np.array_equal(fast.feasible, slow.feasible)
+
+
+# --- a series-path Monte Carlo worked by hand ------------------------------------------------
+
+# Water at 15 degC, 1 atm (IAPWS-95, R12-08; docs/references.md#water-properties), printed to 7
+# and 6 figures: hand figures built on them are held to 1e-5; PE roughness 0.007 mm (Moody 1944,
+# docs/references.md#materials)
+RHO_15, MU_15, PE_EPS = 999.1026, 1.13757e-3, 0.007e-3
+GROWING_TWO = {
+    "study": {"name": "two growing candidates (test, illustrative)", "currency": "EUR"},
+    "fluid": {"kind": "water", "temperature": "15 degC"},
+    "line": {"length": "3 km", "static_head": "20 m", "minor_loss_k": 4.0},
+    "duty": [{"flow": "0.12 m^3/s", "hours": 6000}],
+    "pumping": {"efficiency": 0.7},
+    "energy": {"price": 0.12},
+    "economics": {"discount_rate": 0.05, "horizon": 30, "pipe_life": 30},
+    "material": [{"name": "pe100", "sizes": ["400 SDR 17", "450 SDR 17"],
+                  "cost": {"coefficient": 1500.0, "exponent": 1.4}}],
+}
+
+
+@pytest.mark.reference
+def test_series_path_monte_carlo_against_each_sample_by_hand(monkeypatch):
+    # DEVELOPERS.md#the-sizing-model-in-words, year by year: Q_t = 0.12 f (1 + g)^(t - 1),
+    # h = (f_D L/D + 4) V^2/2g with f_D the 40-digit mpmath Colebrook root, energy cost
+    # rho g Q (20 + h)/0.7 x 6000 h / 1000 x 0.12, PV = 1500 OD^1.4 x 3000 + sum cost_t 1.05^-t,
+    # EAC = PV x CRF (pipe life = horizon: no residual; no station or maintenance)
+    import pipeopt.lifecycle as lifecycle
+
+    calls = []
+    real = lifecycle._series_hydraulics
+    monkeypatch.setattr(lifecycle, "_series_hydraulics",
+                        lambda *a, **k: calls.append(1) or real(*a, **k))
+    st = SizingStudy.from_dict(copy.deepcopy(GROWING_TWO))
+    mc = monte_carlo(st, {"flow_factor": Uniform(0.8, 1.2), "growth": Uniform(0.0, 0.03)},
+                     n=2, seed=5)
+    assert calls                                      # the series path was taken
+    with mp.workdps(30):
+        crf = float(mp.mpf("0.05") * mp.mpf("1.05") ** 30 / (mp.mpf("1.05") ** 30 - 1))
+    c = st.candidates
+    for k in range(mc.n):
+        ff = float(mc.inputs["flow_factor"].iloc[k])
+        g = float(mc.inputs["growth"].iloc[k])
+        for j in range(len(c)):
+            bore, od = c["inner_diameter_m"].iloc[j], c["outside_diameter_m"].iloc[j]
+            pv = 1500.0 * od**1.4 * 3000.0
+            for t in range(1, 31):
+                q = 0.12 * ff * (1 + g) ** (t - 1)
+                v = q / (math.pi * bore * bore / 4)
+                f = colebrook_mpmath(RHO_15 * v * bore / MU_15, PE_EPS / bore, digits=20)
+                head = 20.0 + (f * 3000.0 / bore + 4.0) * v * v / (2 * 9.80665)
+                pv += RHO_15 * 9.80665 * q * head / 0.7 * 6000.0 / 1000.0 * 0.12 / 1.05**t
+            assert mc.eac[k, j] == pytest.approx(pv * crf, rel=1e-5)

@@ -1,15 +1,21 @@
 """Tests of pipeopt.uncertainty: tornado, switching values, Monte Carlo.
 
 Checks with known answers (sources: the model's linearity in the energy price,
-DEVELOPERS.md#the-sizing-model-in-words; the
-distributions' CDFs from scipy.stats; the 1/sqrt(N) law of Monte Carlo error, any statistics
+DEVELOPERS.md#the-sizing-model-in-words, with each candidate's EAC worked by hand here:
+Darcy-Weisbach with a 40-digit mpmath Colebrook root, the CRF formula of
+docs/references.md#economics; the distributions' CDFs written out from their textbook forms
+(uniform (x - a)/(b - a); triangular (x - a)^2/((b - a)(c - a)) below the mode; the normal
+through mpmath's erfc; N. L. Johnson, S. Kotz, N. Balakrishnan, Continuous Univariate
+Distributions, Wiley, from memory); the 1/sqrt(N) law of Monte Carlo error, any statistics
 text, common practice).
 """
 
 from __future__ import annotations
 
 import copy
+import math
 
+import mpmath as mp
 import numpy as np
 import pytest
 from hypothesis import given, settings
@@ -19,6 +25,8 @@ from scipy import stats
 from pipeopt import SizingStudy, UpgradeStudy
 from pipeopt.errors import InputError
 from pipeopt.uncertainty import LogNormal, Normal, Triangular, Uniform, monte_carlo
+
+from .conftest import colebrook_mpmath
 
 TWO = {
     "study": {"name": "two candidates (test, illustrative)", "currency": "EUR"},
@@ -39,6 +47,45 @@ def two_study(**over) -> SizingStudy:
     return SizingStudy.from_dict(m)
 
 
+# Water at 15 degC, 1 atm (IAPWS-95, R12-08; docs/references.md#water-properties); PE roughness
+# 0.007 mm (Moody 1944, docs/references.md#materials)
+RHO_15, MU_15, PE_EPS = 999.1026, 1.13757e-3, 0.007e-3
+
+
+def hand_parts(study, rate=0.05):
+    """EAC_c(p) = A_c + B_c p of the two candidates of TWO, by hand (DEVELOPERS.md model
+    section): A = 1500 OD^1.4 x 3000 m x CRF (pipe life = horizon: no residual; no station,
+    maintenance or escalation); B = rho g Q (20 + (f L/D + 4) V^2/2g) / 0.7 x 6000 h / 1000."""
+    a, b = [], []
+    for size in ("400 SDR 17", "450 SDR 17"):
+        row = study.candidates.set_index("size").loc[size]   # catalog dimensions (inputs)
+        bore, od = row["inner_diameter_m"], row["outside_diameter_m"]
+        v = 0.12 / (math.pi * bore * bore / 4)
+        f = colebrook_mpmath(RHO_15 * v * bore / MU_15, PE_EPS / bore)
+        head = 20.0 + (f * 3000.0 / bore + 4.0) * v * v / (2 * 9.80665)
+        with mp.workdps(30):
+            i = mp.mpf(rate)
+            crf = float(i * (1 + i) ** 30 / ((1 + i) ** 30 - 1)) if rate else 1 / 30
+        a.append(1500.0 * od**1.4 * 3000.0 * crf)
+        b.append(RHO_15 * 9.80665 * 0.12 * head / 0.7 * 6000.0 / 1000.0)
+    return np.array(a), np.array(b)
+
+
+def hand_break_even(study) -> float:
+    a, b = hand_parts(study)
+    return float((a[1] - a[0]) / (b[0] - b[1]))
+
+
+def uniform_cdf(x, lo, hi):
+    return (x - lo) / (hi - lo)
+
+
+def triangular_cdf(x, lo, mode, hi):
+    if x <= mode:
+        return (x - lo) ** 2 / ((hi - lo) * (mode - lo))
+    return 1 - (hi - x) ** 2 / ((hi - lo) * (hi - mode))
+
+
 def break_even_price(study) -> float:
     """EAC is linear in the energy price p (DEVELOPERS.md): EAC_c(p) = A_c + B_c p. Two evaluations
     give A and B of each candidate; the break-even price is (A_1 - A_0) / (B_0 - B_1)."""
@@ -51,18 +98,22 @@ def break_even_price(study) -> float:
     return float((a[1] - a[0]) / (b[0] - b[1]))
 
 
+@pytest.mark.reference
 def test_probability_cheapest_matches_cdf_at_break_even():
     st = two_study()
-    p_star = break_even_price(st)
+    p_star = hand_break_even(st)
+    assert p_star == pytest.approx(break_even_price(st), rel=1e-5)
     dist = Uniform(0.05, 0.40)
     assert dist.support[0] < p_star < dist.support[1]
     mc = monte_carlo(st, {"energy_price": dist}, n=40000, seed=11)
     small = mc.candidates.set_index("size").loc["400 SDR 17", "prob_cheapest"]
-    want = dist.cdf(p_star)  # the smaller pipe is cheapest below the break-even price
+    # the smaller pipe is cheapest below the break-even price: P = F(p*), F written out here
+    want = uniform_cdf(p_star, 0.05, 0.40)
     sigma = np.sqrt(want * (1 - want) / 40000)
     assert abs(small - want) < 4 * sigma  # statistical test: 4 standard errors
 
 
+@pytest.mark.reference
 def test_switching_value_is_equal_eac_and_the_break_even_price():
     st = two_study()
     res = st.switching_values({"energy_price": (0.05, 0.40)})
@@ -71,13 +122,16 @@ def test_switching_value_is_equal_eac_and_the_break_even_price():
     row = rows.iloc[0]
     assert row["relative_eac_gap"] <= 1e-9
     assert row["switching_value"] == pytest.approx(break_even_price(st), rel=1e-9)
+    # the break-even price of the hand EACs (water properties to 7 and 6 figures: 1e-5)
+    assert row["switching_value"] == pytest.approx(hand_break_even(st), rel=1e-5)
 
 
+@pytest.mark.reference
 def test_monte_carlo_error_shrinks_like_one_over_sqrt_n():
     st = two_study()
-    p_star = break_even_price(st)
+    p_star = hand_break_even(st)
     dist = Triangular(0.05, 0.12, 0.40)
-    want = dist.cdf(p_star)
+    want = triangular_cdf(p_star, 0.05, 0.12, 0.40)
     errors = {}
     for n in (400, 6400):
         est = []
@@ -123,14 +177,28 @@ def test_tornado_table():
     assert "Tornado" in tr.text()
 
 
+@pytest.mark.reference
 def test_distributions_and_errors():
     rng = np.random.default_rng(0)
     x = Normal(1.0, 0.2, 0.8, 1.1).sample(rng, 5000)
     assert x.min() >= 0.8 and x.max() <= 1.1
+
+    # the truncated normal's CDF written out with mpmath's erfc: Kolmogorov-Smirnov at 1 %
+    def phi(z):
+        return float(mp.erfc(-mp.mpf(z) / mp.sqrt(2)) / 2)
+
+    lo, hi = phi((0.8 - 1.0) / 0.2), phi((1.1 - 1.0) / 0.2)
+    ks = stats.kstest(x, lambda v: (np.vectorize(phi)((v - 1.0) / 0.2) - lo) / (hi - lo))
+    assert ks.pvalue > 0.01
     # lognormal median: the sample median approaches it (scipy.stats.lognorm definition)
     assert np.median(LogNormal(2.0, 0.3).sample(rng, 20000)) == pytest.approx(2.0, rel=0.02)
+    # one sigma above the median of the log: median e^sigma at Phi(1) (definition)
+    assert LogNormal(2.0, 0.3).ppf(phi(1.0)) == pytest.approx(2.0 * math.exp(0.3), rel=1e-9)
     assert Triangular(0, 1, 2).cdf(1.0) == pytest.approx(0.5)
-    assert Uniform(0, 4).cdf(1.0) == pytest.approx(stats.uniform(0, 4).cdf(1.0))
+    for v in (0.05, 0.1, 0.12, 0.2, 0.39):
+        assert Triangular(0.05, 0.12, 0.40).cdf(v) == pytest.approx(
+            triangular_cdf(v, 0.05, 0.12, 0.40), rel=1e-12)
+    assert Uniform(0, 4).cdf(1.0) == pytest.approx(uniform_cdf(1.0, 0, 4), rel=1e-15)
     with pytest.raises(InputError, match="triangular"):
         Triangular(1, 0, 2)
     st = two_study()
@@ -160,6 +228,145 @@ def test_uncertainty_section_in_study_file():
         SizingStudy.from_dict(bad)
 
 
+@pytest.mark.reference
+def test_each_monte_carlo_sample_by_hand():
+    # every sample's EAC is A_c(i) + B_c p of that sample's discount rate i and price p, by
+    # hand; the cheapest of the hand EACs, counted over the samples, is prob_cheapest
+    st = two_study()
+    mc = monte_carlo(st, {"energy_price": Uniform(0.05, 0.4),
+                          "discount_rate": Uniform(0.0, 0.1)}, n=12, seed=7)
+    labels = st.candidates["size"].tolist()
+    order = [labels.index(s) for s in ("400 SDR 17", "450 SDR 17")]
+    hand = []
+    for k in range(mc.n):
+        a, b = hand_parts(st, float(mc.inputs["discount_rate"].iloc[k]))
+        hand.append(a + b * float(mc.inputs["energy_price"].iloc[k]))
+    hand = np.array(hand)
+    np.testing.assert_allclose(mc.eac[:, order], hand, rtol=1e-5)
+    wins = np.bincount(np.argmin(hand, axis=1), minlength=2) / mc.n
+    got = mc.candidates.set_index("size")["prob_cheapest"]
+    assert [got["400 SDR 17"], got["450 SDR 17"]] == pytest.approx(wins.tolist(), abs=1e-12)
+
+
+@pytest.mark.reference
+def test_tornado_ends_by_hand():
+    # the EAC of the chosen candidate at each end of the price range, and the best there, by
+    # hand (linear in the price, DEVELOPERS.md model section)
+    st = two_study()
+    tr = st.tornado({"energy_price": (0.06, 0.30)})
+    row = tr.table.iloc[0]
+    a, b = hand_parts(st)
+    sizes = ["400 SDR 17", "450 SDR 17"]
+    chosen = sizes.index(tr.chosen.split(" ", 1)[1])
+    assert chosen == int(np.argmin(a + b * 0.12))          # the base price's best
+    for end, p in (("low", 0.06), ("high", 0.30)):
+        assert row[f"eac_{end}"] == pytest.approx(a[chosen] + b[chosen] * p, rel=1e-5)
+        assert row[f"best_{end}"] == "pe100 " + sizes[int(np.argmin(a + b * p))]
+    assert row["swing"] == pytest.approx(b[chosen] * 0.24, rel=1e-5)
+
+
+@pytest.mark.reference
+def test_monte_carlo_summary_from_hand_eacs():
+    # the per-candidate summary from the hand EACs of the sampled inputs: the mean, the
+    # regret E[EAC_c - min EAC] (its definition in the result's docstring), every sample
+    # feasible (no limits set)
+    st = two_study()
+    mc = monte_carlo(st, {"energy_price": Triangular(0.05, 0.12, 0.40)}, n=50, seed=3)
+    a, b = hand_parts(st)
+    p = mc.inputs["energy_price"].to_numpy()
+    hand = a[None, :] + b[None, :] * p[:, None]
+    got = mc.candidates.set_index("size")
+    for j, size in enumerate(("400 SDR 17", "450 SDR 17")):
+        assert got.loc[size, "eac_mean"] == pytest.approx(hand[:, j].mean(), rel=1e-5)
+        regret = np.mean(hand[:, j] - hand.min(axis=1))
+        assert got.loc[size, "expected_regret"] == pytest.approx(regret, rel=1e-3,
+                                                                 abs=1e-5 * hand.mean())
+        assert got.loc[size, "prob_infeasible"] == 0.0
+
+
+@pytest.mark.reference
+def test_switching_discount_rate_against_brentq_on_hand_eacs():
+    # the discount rate at which the two candidates cost the same: scipy's brentq on the
+    # difference of the hand EACs (A_c(i) + B_c p). At 0.403 per kWh, 15 % above the
+    # break-even price at 5 %, the larger pipe wins at 5 % and the smaller above some rate
+    from scipy.optimize import brentq
+
+    price = 0.403
+    assert price > hand_break_even(two_study())
+    st = two_study(energy={"price": price})
+
+    def gap(i):
+        a, b = hand_parts(st, i)
+        return (a[0] + b[0] * price) - (a[1] + b[1] * price)
+
+    assert gap(0.05) > 0 > gap(0.30)          # one sign change above the base rate
+    root = brentq(gap, 0.05, 0.30, xtol=1e-12)
+    sw = st.switching_values({"discount_rate": (0.0, 0.30)})
+    assert sw.chosen == "pe100 450 SDR 17"
+    rows = sw.table[sw.table["how"] == "equal EAC"]
+    assert len(rows) == 1 and rows.iloc[0]["direction"] == "above"
+    assert rows.iloc[0]["switches_to"] == "pe100 400 SDR 17"
+    assert rows.iloc[0]["switching_value"] == pytest.approx(root, rel=1e-4)
+
+
+@pytest.mark.reference
+def test_upgrade_monte_carlo_npv_by_hand():
+    # each sample's NPV of replacing against keeping, with the energy price sampled: the
+    # explicit sum of the savings (keep's energy - the new bore's energy at that price, the
+    # capital at 0, the residual 1 - 5/80 at 5) at 4 % (hand study of tests/test_upgrade.py;
+    # Darcy-Weisbach with a 40-digit mpmath Colebrook root)
+    from .test_upgrade import dw_head, hand_energy_cost, hand_upgrade_study
+
+    st = hand_upgrade_study()
+    mc = st.monte_carlo({"energy_price": Uniform(0.05, 0.25)}, n=6, seed=8)
+    keep = hand_energy_cost(lambda q: dw_head(q, 0.3, 2000.0, 1e-3)) / 0.1   # per unit price
+    new = hand_energy_cost(lambda q: dw_head(q, 0.35, 2000.0, 1e-5)) / 0.1
+    for k in range(mc.n):
+        price = float(mc.inputs["energy_price"].iloc[k])
+        savings = [-800000.0] + [(keep - new) * price] * 5
+        savings[5] += 800000.0 * (1 - 5 / 80)
+        npv = sum(c / 1.04**t for t, c in enumerate(savings))
+        assert mc.npv["replace"].iloc[k] == pytest.approx(npv, rel=1e-4)
+
+
+@pytest.mark.reference
+def test_monte_carlo_with_the_horizon_sampled_by_hand():
+    # each sample's own horizon N (whole years, at most the 30-year pipe life): PV = capital +
+    # sum_{t<=N} B p 1.05^-t - capital (1 - N/30) 1.05^-N (straight-line residual), EAC = PV x
+    # CRF(5 %, N) (DEVELOPERS.md model section; docs/references.md#economics), in mpmath
+    st = two_study()
+    mc = monte_carlo(st, {"horizon": Uniform(4.5, 30.49)}, n=6, seed=12)
+    a30, b = hand_parts(st)
+    with mp.workdps(30):
+        i = mp.mpf("0.05")
+        capital = [mp.mpf(x) / (i * (1 + i) ** 30 / ((1 + i) ** 30 - 1)) for x in a30]
+        for k in range(mc.n):
+            n = int(mc.inputs["horizon"].iloc[k])
+            assert 5 <= n <= 30
+            for j in range(2):
+                pv = capital[j] + mp.fsum(mp.mpf(b[j]) * mp.mpf("0.12") / (1 + i) ** t
+                                          for t in range(1, n + 1))
+                pv -= capital[j] * (1 - mp.mpf(n) / 30) / (1 + i) ** n
+                eac = pv * i * (1 + i) ** n / ((1 + i) ** n - 1)
+                assert mc.eac[k, j] == pytest.approx(float(eac), rel=1e-5)
+
+
+@pytest.mark.reference
+def test_tornado_of_the_discount_rate_by_hand():
+    # the chosen candidate's EAC at 2 % and 10 %, and the best there, from the hand parts
+    # A_c(i) + B_c p at p = 0.12
+    st = two_study()
+    tr = st.tornado({"discount_rate": (0.02, 0.10)})
+    row = tr.table.iloc[0]
+    sizes = ["400 SDR 17", "450 SDR 17"]
+    chosen = sizes.index(tr.chosen.split(" ", 1)[1])
+    for end, i in (("low", 0.02), ("high", 0.10)):
+        a, b = hand_parts(st, i)
+        eac = a + b * 0.12
+        assert row[f"eac_{end}"] == pytest.approx(eac[chosen], rel=1e-5)
+        assert row[f"best_{end}"] == "pe100 " + sizes[int(np.argmin(eac))]
+
+
 def test_upgrade_monte_carlo():
     st = UpgradeStudy.demo()
     d = {"energy_price": Uniform(0.1, 0.2), "break_cost_factor": LogNormal(1.0, 0.3),
@@ -167,7 +374,9 @@ def test_upgrade_monte_carlo():
     mc = st.monte_carlo(d, n=400, seed=2)
     s = mc.summary.set_index("option")
     assert s["prob_best"].sum() == pytest.approx(1.0)
-    assert 0 <= s.loc["replace DN 300", "prob_positive"] <= 1
+    # the share of samples whose NPV against keeping is positive (its definition)
+    assert s.loc["replace DN 300", "prob_positive"] == pytest.approx(
+        float((mc.npv["replace DN 300"] > 0).mean()), abs=1e-15)
     # with the base values in every sample, the NPV equals the deterministic one (definition)
     one = {"energy_price": Uniform(0.15 - 1e-12, 0.15 + 1e-12)}
     mc1 = st.monte_carlo(one, n=3, seed=0)
