@@ -66,8 +66,10 @@ CRF_SOURCE = ("CRF = i(1+i)^n/((1+i)^n - 1), DeGarmo, Sullivan & Canada, Enginee
               "values to 7 decimals (docs/references.md#economics)")
 
 #: Korteweg wave speed, K = 2.19 GPa, rho = 998.2 kg/m3, expansion joints (psi = 1), as
-#: (case, D_m/e, E [Pa], nu, thin-wall a [m/s], thick-wall a [m/s]); each a evaluated from the
-#: formula in mpmath at 30 digits and printed to 12 significant digits
+#: (case, D_m/e, E [Pa], nu, thin-wall a [m/s], thick-wall a [m/s]), D_m the mean diameter of
+#: the wall (the thick-wall factor takes the inner diameter D_m - e, as
+#: :func:`pipeopt.surge.wave_speed` does); each a evaluated from the formula in mpmath at 30
+#: digits and printed to 12 significant digits
 #: (docs/references.md#surge).
 WAVE_SPEED_CASES = [("steel", 30.0, 207e9, 0.30, "1290.49366936", "1287.22429704"),
                     ("ductile iron", 43.0, 170e9, 0.28, "1188.21761736", "1185.35532348"),
@@ -93,7 +95,8 @@ HAZEN_WILLIAMS = {
 }
 
 #: PN of PVC-U pipe by SDR, ISO 1452-2 (from memory): design stress 10 MPa (C = 2.5) up to
-#: 90 mm, 12.5 MPa (C = 2.0) above; PN = 10 sigma / S to the nearest R10 value.
+#: 90 mm, 12.5 MPa (C = 2.0) above; PN = 10 sigma / S to the nearest value of the nominal
+#: pressure series of the standard (..., 5, 6, 8, 10, 12.5, 16, 20, ...; 6 is not an R10 number).
 PE_SDR = (26.0, 21.0, 17.0, 13.6, 11.0, 9.0, 7.4)  # the PE series bundled (ISO 4427)
 PVC_PN_BY_SDR = {"up to 90 mm": {41: 5.0, 33: 6.0, 26: 8.0, 21: 10.0, 17: 12.5, 13.6: 16.0},
                  "above 90 mm": {41: 6.0, 33: 8.0, 26: 10.0, 21: 12.5, 17: 16.0, 13.6: 20.0}}
