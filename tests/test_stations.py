@@ -220,6 +220,57 @@ def test_a_line_without_boosters_by_hand():
     assert b["classes_along"] == f"600 B 0.0-{5.0 * n_b:.1f} km; 600 A {5.0 * n_b:.1f}-60.0 km"
 
 
+@pytest.mark.reference
+def test_a_booster_receives_its_suction_minimum_by_hand():
+    # 0.45 m3/s; one booster allowed at 25 km only, which must receive 0.5 bar: the head
+    # station lifts i x 25 km + 0.5 bar / (rho g); the booster the rest,
+    # i x 35 km + 20 m - 0.5 bar / (rho g)
+    # (the control rule of the contributor guide, Darcy-Weisbach with constant f, by hand)
+    boosters = {"max_count": 1, "sites": ["25 km"], "fixed_cost": 1000.0, "life": 30,
+                "suction_pressure_min": "0.5 bar"}
+    res = level_study(boosters=boosters, flow="0.45 m^3/s").run()
+    st_ = res.stations
+    assert st_["chainage_m"].tolist() == [0.0, 25000.0]
+    i, hs = level_gradient(0.45), 0.5e5 / (1000 * G)
+    np.testing.assert_allclose(st_["head_max_m"], [i * 25000.0 + hs, i * 35000.0 + 20.0 - hs],
+                               rtol=1e-12)
+    assert st_["suction_pressure_min_bar"].iloc[1] == pytest.approx(0.5, rel=1e-12)
+    assert st_["npsh_available_m"].iloc[1] == pytest.approx(hs + 101325.0 / (1000 * G),
+                                                            rel=1e-12)   # ISO 2533 sea level
+
+
+@pytest.mark.reference
+def test_a_booster_held_at_its_npsh_required_plus_margin():
+    # NPSH available = p_abs / (rho g) - p_v / (rho g) at the suction (ISO 9906 definition,
+    # from memory): with NPSH required 12 m and a 1 m margin, the booster must receive
+    # 13 m + (p_v - p_atm) / (rho g) of gauge head: at sea level p_atm 101,325 Pa (ISO 2533,
+    # from memory) and p_v 2.3 kPa, 2.902 m. The head station's inlet is at 0.5 bar gauge
+    # (10.1 m + 5.1 m available there); 0.45 m3/s. By hand: the head station lifts
+    # i x 25 km + 2.902 m - 0.5 bar / (rho g), the booster i x 35 km + 20 m + 0.5 bar / (rho g)
+    # - 2.902 m (the delivery is the static head above the inlet's head).
+    boosters = {"max_count": 1, "sites": ["25 km"], "fixed_cost": 1000.0, "life": 30}
+    res = level_study(boosters=boosters, flow="0.45 m^3/s",
+                      line={"length": "60 km", "static_head": "20 m",
+                            "suction_pressure": "0.5 bar"},
+                      fluid={"kind": "custom", "density": "1000 kg/m^3", "viscosity": "1 mPa*s",
+                             "vapour_pressure": "2.3 kPa"},
+                      pumping={"efficiency": 0.75, "npsh_required": "12 m",
+                               "npsh_margin": "1 m"}).run()
+    st_ = res.stations
+    rho_g = 1000 * G
+    hs = 13.0 + (2300.0 - 101325.0) / rho_g
+    assert hs == pytest.approx(2.902, abs=5e-4)
+    i = level_gradient(0.45)
+    assert st_["chainage_m"].tolist() == [0.0, 25000.0]
+    assert st_["suction_pressure_min_bar"].iloc[1] * 1e5 / rho_g == pytest.approx(hs, rel=1e-12)
+    assert st_["npsh_available_m"].iloc[1] == pytest.approx(13.0, rel=1e-12)
+    h_in = 0.5e5 / rho_g
+    assert st_["npsh_available_m"].iloc[0] == pytest.approx(h_in + (101325.0 - 2300.0) / rho_g,
+                                                            rel=1e-12)
+    np.testing.assert_allclose(st_["head_max_m"], [i * 25000.0 + hs - h_in,
+                                                   i * 35000.0 + 20.0 + h_in - hs], rtol=1e-12)
+
+
 def test_more_boosters_than_sites_is_refused():
     boosters = {"max_count": 3, "sites": ["10 km", "20 km"], "fixed_cost": 1.0}
     with pytest.raises(InputError, match=r"boosters\.max_count \(3\) exceeds the 2 "):
