@@ -76,11 +76,117 @@ def test_profile_and_stations_tables(demo):
     assert np.all(st["npsh_available_m"] >= st["npsh_required_m"] + 1.0 - 1e-9)
 
 
+@pytest.mark.reference
 def test_yearly_cash_flows_add_up(demo):
+    # each year's amounts discounted by the test's own factor 1.05^-t (economics.discount_rate
+    # 5 %) add up to the present value, and EAC = PV x r(1+r)^n/((1+r)^n-1) over 40 years
+    # (capital recovery factor, common practice); the flows grow 0.5 % a year, compounded, to
+    # the design year 20 and stay there
     _, res = demo
     y = res.yearly()
-    assert y["discounted"].sum() == pytest.approx(res.best["pv_total"], rel=1e-12)
     assert len(y) == 41
+    t = y["year"].to_numpy(dtype=float)
+    amounts = y.drop(columns=["year", "flow_multiplier", "energy_kwh", "peak_kw", "total",
+                              "discount_factor", "discounted"]).sum(axis=1)
+    pv = float((amounts * 1.05**-t).sum())
+    assert pv == pytest.approx(res.best["pv_total"], rel=1e-12)
+    assert y["discounted"].sum() == pytest.approx(pv, rel=1e-12)
+    crf = 0.05 * 1.05**40 / (1.05**40 - 1)
+    assert res.best["eac"] == pytest.approx(pv * crf, rel=1e-12)
+    np.testing.assert_allclose(y["flow_multiplier"].iloc[1:],
+                               1.005 ** np.minimum(np.arange(40), 19), rtol=1e-14)
+
+
+@pytest.mark.reference
+def test_npsh_available_at_every_station_by_hand(demo):
+    # NPSH available = suction gauge head + (p_atm - p_v) / (rho g) (ISO 9906 definition, from
+    # memory), p_atm by the ISO 2533 troposphere formula at the station's ground (from memory),
+    # p_v and rho of water at 12 degC from the iapws package (IAPWS-95). The head station draws
+    # from the sump at 44 m onto a pipe axis at 45 - 1.2 m cover - OD/2; the booster receives
+    # the larger of its 0.5 bar minimum and NPSH required 5 m + margin 1 m less the
+    # absolute head, which here is the 0.5 bar (boosters.suction_pressure_min)
+    import iapws
+
+    _, res = demo
+    rho = iapws.IAPWS95(T=285.15, P=0.101325).rho
+    pv = iapws.IAPWS95(T=285.15, x=0).P * 1e6
+    rho_g = rho * 9.80665
+    st_ = res.stations
+    z = st_["ground_m"].to_numpy()
+    p_atm = 101325.0 * (1 - 0.0065 * z / 288.15) ** (9.80665 * 0.0289644 / (8.3144598 * 0.0065))
+    from pipeopt import catalog
+
+    first = res.best["classes_along"].split(" 0.0-")[0]          # e.g. "DN 700 C25"
+    od = float(catalog.lookup("ductile-iron", first)["outside_diameter_m"])
+    suction = np.array([44.0 - (45.0 - 1.2 - od / 2)]
+                       + [max(0.5e5 / rho_g, 6.0 + (pv - p) / rho_g) for p in p_atm[1:]])
+    np.testing.assert_allclose(st_["suction_pressure_min_bar"], suction * rho_g / 1e5,
+                               rtol=1e-9)
+    np.testing.assert_allclose(st_["npsh_available_m"], suction + (p_atm - pv) / rho_g,
+                               rtol=1e-9)
+    assert np.all(st_["npsh_available_m"] >= 5.0 + 1.0)
+
+
+def simple_line() -> dict:
+    """The demo line without growth, boosters, equipment, fittings or line K: one duty of
+    1600 m3/h for 8000 h, wire-to-water efficiency 0.8, class C40 only, roughness 0.1 mm."""
+    d = copy.deepcopy(DEMO)
+    for key in ("growth", "equipment", "fittings", "boosters"):
+        d.pop(key)
+    d["line"] = {"static_head": "246 m", "source_level": "44 m", "cover": "1.2 m"}
+    d["duty"] = [{"name": "all year", "flow": "1600 m^3/h", "hours": 8000}]
+    d["pumping"] = {"efficiency": 0.8}
+    d["material"][0]["classes"] = ["C40"]
+    d["material"][0]["roughness"] = "0.1 mm"
+    return d
+
+
+@pytest.mark.reference
+def test_pump_head_and_energy_of_every_design_by_hand():
+    # Every design of the simplified line priced by hand: Darcy-Weisbach with f from
+    # Colebrook-White (Colebrook 1939) solved by mpmath.findroot, water at 12 degC from iapws
+    # (IAPWS-95), the grade line from the delivery (44 + 246 m) back, and the control rule of
+    # the contributor guide: the head station holds the larger of the delivery's need and
+    # every point's least head (axis + (p_v + rho g 3 m - p_atm) / (rho g), ISO 2533 at the
+    # ground, from memory) plus the friction to it. Power rho g Q H / eta (common practice).
+    import iapws
+    import mpmath
+
+    from pipeopt import catalog
+
+    res = SizingStudy.from_dict(simple_line()).run()
+    w = iapws.IAPWS95(T=285.15, P=0.101325)
+    rho, nu = w.rho, w.mu / w.rho
+    pv = iapws.IAPWS95(T=285.15, x=0).P * 1e6
+    rho_g = rho * 9.80665
+    x = np.array([float(p["chainage"].split()[0]) * 1000 for p in DEMO["profile"]])
+    z = np.array([float(p["elevation"].split()[0]) for p in DEMO["profile"]])
+    p_atm = 101325.0 * (1 - 0.0065 * z / 288.15) ** (9.80665 * 0.0289644 / (8.3144598 * 0.0065))
+    q = 1600.0 / 3600.0
+    c = res.candidates
+    assert len(c) == 9
+    for _, row in c.iterrows():
+        climb, descent = row["nominal"].split(" / ")
+        pipes = [catalog.lookup("ductile-iron", f"{n} C40") for n in (climb, descent)]
+        sec = np.where(x[:-1] < 22000.0, 0, 1)                    # the section of each stretch
+        bore = np.array([float(pipes[k]["inner_diameter_m"]) for k in sec])
+        od = np.array([float(pipes[k]["outside_diameter_m"]) for k in sec])
+        loss = []
+        for d, length in zip(bore, np.diff(x), strict=True):
+            v = q / (np.pi * d * d / 4)
+            re = v * d / nu
+            root = mpmath.findroot(lambda y, d=d, re=re: y + 2 * mpmath.log10(
+                1e-4 / d / 3.7 + 2.51 * y / re), 8)
+            loss.append(float(1 / root**2) * length / d * v * v / (2 * 9.80665))
+        f_cum = np.concatenate([[0.0], np.cumsum(loss)])
+        axis = z - 1.2 - 0.5 * np.append(od, od[-1])
+        least = axis + (pv + 3.0 * rho_g - p_atm) / rho_g
+        g0 = max((least + f_cum).max(), 44.0 + 246.0 + f_cum[-1])
+        assert row["head_loss_m"] == pytest.approx(f_cum[-1], rel=1e-9)
+        assert row["pump_head_m"] == pytest.approx(g0 - 44.0, rel=1e-9)
+        power = rho_g * q * (g0 - 44.0) / 0.8 / 1000.0
+        assert row["electrical_power_kw"] == pytest.approx(power, rel=1e-9)
+        assert row["energy_kwh_year1"] == pytest.approx(power * 8000.0, rel=1e-9)
 
 
 def test_python_constructor_matches_the_study_file(demo):
