@@ -208,6 +208,70 @@ def test_samples_of_the_economic_inputs_priced_by_hand(demo):
         assert mc.pv[s, 0] == pytest.approx(float(pv), rel=1e-11)
 
 
+@pytest.mark.reference
+def test_samples_of_flows_hours_and_costs_priced_by_an_independent_solution(demo):
+    # Samples that move the demands: each sample's pump heads from the test's own solution of
+    # the looped demo (tests/network_reference.py: flows and heads by MINPACK, Darcy-Weisbach
+    # with Colebrook-White, water at 12 degC from iapws; new pipe 0.1 mm as the bundled
+    # ductile-iron lining, the old main 1.5 mm, K 6 on the rising main). With one source the
+    # flows do not depend on its head, so the free pump lifts the source from its 31 m level
+    # to the least head that keeps every node at its minimum. Then the PV of the chosen design
+    # as an explicit sum (present value, common practice): P = rho g Q H / eta at the sampled
+    # efficiency, hours x the sampled factor, station 9000 x factor (1.5 P)^0.68 at 0 and 20,
+    # pipes x factor, 40 years at 5 %, residual 1 - 40/80 of the pipes; and the 2.5 m/s limit.
+    import iapws
+
+    from tests.network_reference import dw_head_loss, pipe_flows_and_heads
+
+    study, result = demo
+    mc = study.monte_carlo({"flow_factor": Uniform(0.8, 1.7), "hours_factor": Uniform(0.7, 1.0),
+                            "efficiency": Uniform(0.6, 0.85),
+                            "station_cost_factor": Uniform(0.7, 1.4),
+                            "pipe_cost_factor": Uniform(0.9, 1.2)}, n=4, seed=5, designs=1,
+                           result=result)
+    d = demo_dict()
+    names = [n["name"] for n in d["node"]] + [s["name"] for s in d["source"]]
+    idx = {n: i for i, n in enumerate(names)}
+    pipes = result.pipes
+    start = [idx[n] for n in pipes["from"]]
+    end = [idx[n] for n in pipes["to"]]
+    length = pipes["length_m"].to_numpy()
+    diam = pipes["inner_diameter_m"].to_numpy()
+    new = (pipes["status"] == "new").to_numpy()
+    rough = np.where(new, 1e-4, 1.5e-3)
+    k = np.where(pipes["pipe"] == "rising main", 6.0, 0.0)
+    w = iapws.IAPWS95(T=285.15, P=0.101325)
+    rho, nu, g = w.rho, w.mu / w.rho, 9.80665
+    elevation = np.array([float(n["elevation"].split()[0]) for n in d["node"]])
+    minimum = np.array([float(n.get("min_pressure_head", "25 m").split()[0]) for n in d["node"]])
+    base = np.array([float(n["demand"].split()[0]) / 1000.0 for n in d["node"]])
+    t = np.arange(1, 41)
+    disc = 1.05**-t
+    for s in range(4):
+        v = mc.inputs.iloc[s]
+        power, fast = [], False
+        for hours, factor in ((7300.0, 1.0), (1460.0, 1.9)):
+            demand = base * factor * v["flow_factor"]
+            q, h = pipe_flows_and_heads(
+                7, start, end, lambda q: dw_head_loss(q, length, diam, rough, nu, k), demand,
+                100.0, 0.01, 90.0)
+            lift = 100.0 + (minimum + elevation - h).max() - 31.0
+            power.append((rho * g * demand.sum() * lift / v["efficiency"] / 1000.0,
+                          hours * v["hours_factor"]))
+            fast |= bool(np.any(np.abs(q[new]) / (np.pi * diam[new] ** 2 / 4) > 2.5))
+        energy = sum(p * hrs for p, hrs in power)
+        peak = max(p for p, _ in power)
+        pipe = result.costs["capex_pipe"] * v["pipe_cost_factor"]
+        station = 9000.0 * v["station_cost_factor"] * (1.5 * peak) ** 0.68
+        pv = (pipe + station * (1 + 1.05**-20)
+              + ((energy * 0.14 * 1.01 ** (t - 1) + 60.0 * peak + 0.003 * pipe
+                  + 0.015 * station) * disc).sum()
+              - pipe * 0.5 * 1.05**-40)
+        assert mc.pv[s, 0] == pytest.approx(pv, rel=1e-8)
+        assert bool(mc.feasible[s, 0]) == (not fast)
+    assert mc.feasible[:, 0].any() and not mc.feasible[:, 0].all()   # both outcomes checked
+
+
 @pytest.mark.parametrize(
     ("kwargs", "match"),
     [
