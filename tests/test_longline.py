@@ -141,20 +141,18 @@ def simple_line() -> dict:
     return d
 
 
-@pytest.mark.reference
-def test_pump_head_and_energy_of_every_design_by_hand():
-    # Every design of the simplified line priced by hand: Darcy-Weisbach with f from
-    # Colebrook-White (Colebrook 1939) solved by mpmath.findroot, water at 12 degC from iapws
-    # (IAPWS-95), the grade line from the delivery (44 + 246 m) back, and the control rule of
-    # the contributor guide: the head station holds the larger of the delivery's need and
-    # every point's least head (axis + (p_v + rho g 3 m - p_atm) / (rho g), ISO 2533 at the
-    # ground, from memory) plus the friction to it. Power rho g Q H / eta (common practice).
+def hand_grade(nominal: str, q: float) -> tuple[float, float]:
+    """(friction over the whole line, least head the head station must hold) for the simple
+    line with the climb and descent sizes ``nominal`` ("DN 700 / DN 600") at flow ``q``:
+    Darcy-Weisbach with f from Colebrook-White (Colebrook 1939) by mpmath.findroot, water at
+    12 degC from iapws (IAPWS-95), and the control rule of the contributor guide: the larger of
+    the delivery's need (44 + 246 m) and every point's least head (axis + (p_v + rho g 3 m -
+    p_atm) / (rho g), ISO 2533 at the ground, from memory) plus the friction up to it."""
     import iapws
     import mpmath
 
     from pipeopt import catalog
 
-    res = SizingStudy.from_dict(simple_line()).run()
     w = iapws.IAPWS95(T=285.15, P=0.101325)
     rho, nu = w.rho, w.mu / w.rho
     pv = iapws.IAPWS95(T=285.15, x=0).P * 1e6
@@ -162,27 +160,63 @@ def test_pump_head_and_energy_of_every_design_by_hand():
     x = np.array([float(p["chainage"].split()[0]) * 1000 for p in DEMO["profile"]])
     z = np.array([float(p["elevation"].split()[0]) for p in DEMO["profile"]])
     p_atm = 101325.0 * (1 - 0.0065 * z / 288.15) ** (9.80665 * 0.0289644 / (8.3144598 * 0.0065))
+    climb, descent = nominal.split(" / ")
+    pipes = [catalog.lookup("ductile-iron", f"{n} C40") for n in (climb, descent)]
+    sec = np.where(x[:-1] < 22000.0, 0, 1)                        # the section of each stretch
+    bore = np.array([float(pipes[k]["inner_diameter_m"]) for k in sec])
+    od = np.array([float(pipes[k]["outside_diameter_m"]) for k in sec])
+    loss = []
+    for d, length in zip(bore, np.diff(x), strict=True):
+        v = q / (np.pi * d * d / 4)
+        re = v * d / nu
+        root = mpmath.findroot(lambda y, d=d, re=re: y + 2 * mpmath.log10(
+            1e-4 / d / 3.7 + 2.51 * y / re), 8)
+        loss.append(float(1 / root**2) * length / d * v * v / (2 * 9.80665))
+    f_cum = np.concatenate([[0.0], np.cumsum(loss)])
+    axis = z - 1.2 - 0.5 * np.append(od, od[-1])
+    least = axis + (pv + 3.0 * rho_g - p_atm) / rho_g
+    return f_cum[-1], max((least + f_cum).max(), 44.0 + 246.0 + f_cum[-1])
+
+
+@pytest.mark.reference
+def test_time_of_use_energy_of_year_one_by_hand():
+    # the simple line with its two duty points back (1600 m3/h for 4000 h at 0.16, 1000 m3/h
+    # for 3500 h at 0.08 EUR/kWh) and a demand charge of 70 per kW of peak: year 1's energy
+    # and bill by hand, each duty at its own grade line (hand_grade), P = rho g Q H / eta
+    import iapws
+
+    d = simple_line()
+    d["duty"] = copy.deepcopy(DEMO["duty"])
+    res = SizingStudy.from_dict(d).run()
+    rho_g = iapws.IAPWS95(T=285.15, P=0.101325).rho * 9.80665
+    for idx, row in res.candidates.iterrows():
+        kw = []
+        for flow, hours, price in ((1600.0, 4000.0, 0.16), (1000.0, 3500.0, 0.08)):
+            _, g0 = hand_grade(row["nominal"], flow / 3600.0)
+            kw.append((rho_g * flow / 3600.0 * (g0 - 44.0) / 0.8 / 1000.0, hours, price))
+        energy = sum(p * h for p, h, _ in kw)
+        bill = sum(p * h * c for p, h, c in kw) + 70.0 * max(p for p, _, _ in kw)
+        assert row["energy_kwh_year1"] == pytest.approx(energy, rel=1e-9)
+        year1 = res.yearly(idx).set_index("year").loc[1]
+        assert year1["energy_kwh"] == pytest.approx(energy, rel=1e-9)
+        assert year1["peak_kw"] == pytest.approx(max(p for p, _, _ in kw), rel=1e-9)
+        assert year1["energy_cost"] == pytest.approx(bill, rel=1e-9)
+
+
+@pytest.mark.reference
+def test_pump_head_and_energy_of_every_design_by_hand():
+    # every design of the simple line (one duty, 1600 m3/h, 8000 h): friction, pump head,
+    # power rho g Q H / eta (common practice) and year 1's energy by hand (hand_grade above)
+    import iapws
+
+    res = SizingStudy.from_dict(simple_line()).run()
+    rho_g = iapws.IAPWS95(T=285.15, P=0.101325).rho * 9.80665
     q = 1600.0 / 3600.0
     c = res.candidates
     assert len(c) == 9
     for _, row in c.iterrows():
-        climb, descent = row["nominal"].split(" / ")
-        pipes = [catalog.lookup("ductile-iron", f"{n} C40") for n in (climb, descent)]
-        sec = np.where(x[:-1] < 22000.0, 0, 1)                    # the section of each stretch
-        bore = np.array([float(pipes[k]["inner_diameter_m"]) for k in sec])
-        od = np.array([float(pipes[k]["outside_diameter_m"]) for k in sec])
-        loss = []
-        for d, length in zip(bore, np.diff(x), strict=True):
-            v = q / (np.pi * d * d / 4)
-            re = v * d / nu
-            root = mpmath.findroot(lambda y, d=d, re=re: y + 2 * mpmath.log10(
-                1e-4 / d / 3.7 + 2.51 * y / re), 8)
-            loss.append(float(1 / root**2) * length / d * v * v / (2 * 9.80665))
-        f_cum = np.concatenate([[0.0], np.cumsum(loss)])
-        axis = z - 1.2 - 0.5 * np.append(od, od[-1])
-        least = axis + (pv + 3.0 * rho_g - p_atm) / rho_g
-        g0 = max((least + f_cum).max(), 44.0 + 246.0 + f_cum[-1])
-        assert row["head_loss_m"] == pytest.approx(f_cum[-1], rel=1e-9)
+        friction, g0 = hand_grade(row["nominal"], q)
+        assert row["head_loss_m"] == pytest.approx(friction, rel=1e-9)
         assert row["pump_head_m"] == pytest.approx(g0 - 44.0, rel=1e-9)
         power = rho_g * q * (g0 - 44.0) / 0.8 / 1000.0
         assert row["electrical_power_kw"] == pytest.approx(power, rel=1e-9)
