@@ -51,6 +51,7 @@ def test_demo_result(demo):
     assert "continuous optimum" not in text.lower() and res.optimum.empty
 
 
+@pytest.mark.reference
 def test_profile_and_stations_tables(demo):
     study, res = demo
     prof = res.profile
@@ -60,9 +61,15 @@ def test_profile_and_stations_tables(demo):
     assert x[0] == 0.0 and x[-1] == 39600.0 and np.all(np.diff(x) >= 0)
     # every point at or above the least pressure, at every duty and year
     assert np.all(prof["pressure_min_bar"] >= prof["least_pressure_bar"] - 1e-9)
-    # every stretch within the PFA of its class (operating, without surge)
+    # every stretch within the PFA of its class (operating, without surge); the PFA of a
+    # ductile-iron C class is its number in bar and PMA = 1.2 PFA (EN 545:2010, from memory;
+    # docs/references.md#pipe-dimensions), at 12 degC with no derating
     line = prof[~prof["station"].str.endswith("suction")]
     assert np.all(line["pressure_max_bar"] <= line["pfa_bar"] + 1e-9)
+    number = prof["class"].str.removeprefix("C").astype(float)
+    np.testing.assert_allclose(prof["pfa_bar"], number, rtol=1e-12)
+    np.testing.assert_allclose(prof["pma_bar"], 1.2 * number, rtol=1e-12)
+    assert {"C25", "C40"} <= set(prof["class"])          # classes telescoped along the line
     # the grade line is never below the pipe minus the least head
     assert np.all(prof["head_min_m"] >= prof["least_head_m"] - 1e-9)
     n = int(res.best["boosters"])
