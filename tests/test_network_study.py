@@ -538,7 +538,17 @@ def test_growth_stops_at_the_design_year_and_the_cap():
         NetworkStudy.from_dict(d)
 
 
+@pytest.mark.reference
 def test_station_stages_in_a_network_file():
+    # The demo as a tree (no cross link, no ring 4), demands growing 2 % a year, the station in
+    # stages at years 0 and 15. By hand: the pump head of a case from path sums of
+    # Darcy-Weisbach losses (f from Colebrook-White by mpmath, water at 12 degC from iapws, new
+    # pipe 0.1 mm, the old main 1.5 mm, K 6 on the rising main): the source at 31 m lifted to
+    # the least head that keeps every node at its minimum; P = rho g Q H / 0.72; stage 0 is
+    # sized on the largest peak of years 1-15 and stage 1 on the rest of the largest of all
+    # 40 years, each 9000 (1.5 P)^0.68 (the file's station cost law)
+    import iapws
+
     d = demo_dict()
     d["pipe"] = [p for p in d["pipe"] if p["name"] not in ("cross link", "ring 4")]
     d["growth"] = {"flow_per_year": 0.02}
@@ -547,6 +557,41 @@ def test_station_stages_in_a_network_file():
     cash = r.cash_flows
     assert cash.loc[cash["capital_station"] > 0, "year"].tolist() == [0, 15]
     assert cash["discounted"].sum() == pytest.approx(r.total_cost, rel=1e-9)
+    w = iapws.IAPWS95(T=285.15, P=0.101325)
+    nu, rho_g = w.mu / w.rho, w.rho * 9.80665
+    size = r.pipes.set_index("pipe")["inner_diameter_m"]
+    elevation = np.array([44.0, 47.0, 52.0, 49.0, 58.0, 46.0, 41.0])
+    minimum = np.array([25.0, 25.0, 25.0, 25.0, 20.0, 25.0, 25.0])
+    base = np.array([4.0, 9.0, 7.0, 6.0, 5.0, 8.0, 6.0]) / 1000.0
+    tree = [("rising main", -1, 0, 1600.0), ("ring 1", 0, 1, 800.0), ("ring 2", 1, 2, 850.0),
+            ("old Ombrellin main", 2, 3, 850.0), ("ring 6", 0, 5, 850.0),
+            ("ring 5", 5, 4, 750.0), ("Sorvantle spur", 3, 6, 800.0)]
+    below = {0: [0, 1, 2, 3, 4, 5, 6], 1: [1, 2, 3, 6], 2: [2, 3, 6], 3: [3, 6], 5: [5, 4],
+             4: [4], 6: [6]}
+    cases = r.cases
+    for year in (1, 15, 40):
+        for k, factor in enumerate((1.0, 1.9)):
+            head = np.zeros(7)
+            for name, parent, child, length in tree:
+                dia = size[name]
+                eps = 1.5e-3 if name == "old Ombrellin main" else 1e-4
+                q = base[below[child]].sum() * factor * 1.02 ** (year - 1)
+                v = q / (np.pi * dia**2 / 4)
+                f = _colebrook_mp(v * dia / nu, eps / dia)
+                k_minor = 6.0 if name == "rising main" else 0.0
+                head[child] = (0.0 if parent < 0 else head[parent]) - (
+                    (f * length / dia + k_minor) * v * v / (2 * 9.80665))
+            lift = (minimum + elevation - head).max() - 31.0   # head relative to the source
+            row = cases.iloc[2 * (year - 1) + k]
+            assert row["pump_head_m"] == pytest.approx(lift, rel=1e-9)
+    power = rho_g * cases["total_demand_m3_s"].to_numpy() * cases["pump_head_m"].to_numpy() \
+        / 0.72 / 1000.0
+    np.testing.assert_allclose(cases["power_kw"], power, rtol=1e-9)
+    peak = power.reshape(40, 2).max(axis=1)
+    p0, p1 = peak[:15].max(), peak.max()
+    stages = cash.loc[cash["capital_station"] > 0, "capital_station"].to_numpy()
+    np.testing.assert_allclose(stages, [9000.0 * (1.5 * p0) ** 0.68,
+                                        9000.0 * (1.5 * (p1 - p0)) ** 0.68], rtol=1e-9)
 
 
 def test_the_study_is_frozen_and_replace_builds_another():
