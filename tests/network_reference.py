@@ -62,3 +62,33 @@ def node_heads(n_junctions, start, end, flow_of_drop, demand, fixed_head, guess)
     sol = optimize.root(residual, guess, method="hybr", options={"xtol": 1e-13})
     assert sol.success, sol.message
     return sol.x
+
+
+def pipe_flows_and_heads(n_junctions, start, end, head_loss, demand, source_head, guess_flow,
+                         guess_head):
+    """Every pipe flow and junction head of a network fed by fixed heads.
+
+    Unknowns are the flows and the heads together (mass balance at every junction, energy
+    balance H_start - H_end = h(Q) along every pipe); ``head_loss(q)`` gives every pipe's loss
+    with the sign of its flow. Solved with MINPACK's hybrid Powell method (scipy.optimize.root).
+    Returns (flows, junction heads).
+    """
+    start = np.asarray(start)
+    end = np.asarray(end)
+    fixed = np.atleast_1d(np.asarray(source_head, dtype=float))
+    p = start.size
+
+    def residual(x):
+        q, h = x[:p], x[p:]
+        full = np.concatenate([h, fixed])
+        bal = np.zeros(n_junctions + fixed.size)
+        np.add.at(bal, end, q)
+        np.add.at(bal, start, -q)
+        energy = full[start] - full[end] - head_loss(q)
+        return np.concatenate([bal[:n_junctions] - demand, energy])
+
+    guess = np.concatenate([np.broadcast_to(guess_flow, (p,)),
+                            np.broadcast_to(guess_head, (n_junctions,))])
+    sol = optimize.root(residual, guess, method="hybr", options={"xtol": 1e-13})
+    assert sol.success, sol.message
+    return sol.x[:p], sol.x[p:]

@@ -51,6 +51,7 @@ def test_demo_result(demo):
     assert "continuous optimum" not in text.lower() and res.optimum.empty
 
 
+@pytest.mark.reference
 def test_profile_and_stations_tables(demo):
     study, res = demo
     prof = res.profile
@@ -60,9 +61,15 @@ def test_profile_and_stations_tables(demo):
     assert x[0] == 0.0 and x[-1] == 39600.0 and np.all(np.diff(x) >= 0)
     # every point at or above the least pressure, at every duty and year
     assert np.all(prof["pressure_min_bar"] >= prof["least_pressure_bar"] - 1e-9)
-    # every stretch within the PFA of its class (operating, without surge)
+    # every stretch within the PFA of its class (operating, without surge); the PFA of a
+    # ductile-iron C class is its number in bar and PMA = 1.2 PFA (EN 545:2010, from memory;
+    # docs/references.md#pipe-dimensions), at 12 degC with no derating
     line = prof[~prof["station"].str.endswith("suction")]
     assert np.all(line["pressure_max_bar"] <= line["pfa_bar"] + 1e-9)
+    number = prof["class"].str.removeprefix("C").astype(float)
+    np.testing.assert_allclose(prof["pfa_bar"], number, rtol=1e-12)
+    np.testing.assert_allclose(prof["pma_bar"], 1.2 * number, rtol=1e-12)
+    assert {"C25", "C40"} <= set(prof["class"])          # classes telescoped along the line
     # the grade line is never below the pipe minus the least head
     assert np.all(prof["head_min_m"] >= prof["least_head_m"] - 1e-9)
     n = int(res.best["boosters"])
@@ -76,11 +83,151 @@ def test_profile_and_stations_tables(demo):
     assert np.all(st["npsh_available_m"] >= st["npsh_required_m"] + 1.0 - 1e-9)
 
 
+@pytest.mark.reference
 def test_yearly_cash_flows_add_up(demo):
+    # each year's amounts discounted by the test's own factor 1.05^-t (economics.discount_rate
+    # 5 %) add up to the present value, and EAC = PV x r(1+r)^n/((1+r)^n-1) over 40 years
+    # (capital recovery factor, common practice); the flows grow 0.5 % a year, compounded, to
+    # the design year 20 and stay there
     _, res = demo
     y = res.yearly()
-    assert y["discounted"].sum() == pytest.approx(res.best["pv_total"], rel=1e-12)
     assert len(y) == 41
+    t = y["year"].to_numpy(dtype=float)
+    amounts = y.drop(columns=["year", "flow_multiplier", "energy_kwh", "peak_kw", "total",
+                              "discount_factor", "discounted"]).sum(axis=1)
+    pv = float((amounts * 1.05**-t).sum())
+    assert pv == pytest.approx(res.best["pv_total"], rel=1e-12)
+    assert y["discounted"].sum() == pytest.approx(pv, rel=1e-12)
+    crf = 0.05 * 1.05**40 / (1.05**40 - 1)
+    assert res.best["eac"] == pytest.approx(pv * crf, rel=1e-12)
+    np.testing.assert_allclose(y["flow_multiplier"].iloc[1:],
+                               1.005 ** np.minimum(np.arange(40), 19), rtol=1e-14)
+
+
+@pytest.mark.reference
+def test_npsh_available_at_every_station_by_hand(demo):
+    # NPSH available = suction gauge head + (p_atm - p_v) / (rho g) (ISO 9906 definition, from
+    # memory), p_atm by the ISO 2533 troposphere formula at the station's ground (from memory),
+    # p_v and rho of water at 12 degC from the iapws package (IAPWS-95). The head station draws
+    # from the sump at 44 m onto a pipe axis at 45 - 1.2 m cover - OD/2; the booster receives
+    # the larger of its 0.5 bar minimum and NPSH required 5 m + margin 1 m less the
+    # absolute head, which here is the 0.5 bar (boosters.suction_pressure_min)
+    import iapws
+
+    _, res = demo
+    rho = iapws.IAPWS95(T=285.15, P=0.101325).rho
+    pv = iapws.IAPWS95(T=285.15, x=0).P * 1e6
+    rho_g = rho * 9.80665
+    st_ = res.stations
+    z = st_["ground_m"].to_numpy()
+    p_atm = 101325.0 * (1 - 0.0065 * z / 288.15) ** (9.80665 * 0.0289644 / (8.3144598 * 0.0065))
+    from pipeopt import catalog
+
+    first = res.best["classes_along"].split(" 0.0-")[0]          # e.g. "DN 700 C25"
+    od = float(catalog.lookup("ductile-iron", first)["outside_diameter_m"])
+    suction = np.array([44.0 - (45.0 - 1.2 - od / 2)]
+                       + [max(0.5e5 / rho_g, 6.0 + (pv - p) / rho_g) for p in p_atm[1:]])
+    np.testing.assert_allclose(st_["suction_pressure_min_bar"], suction * rho_g / 1e5,
+                               rtol=1e-9)
+    np.testing.assert_allclose(st_["npsh_available_m"], suction + (p_atm - pv) / rho_g,
+                               rtol=1e-9)
+    assert np.all(st_["npsh_available_m"] >= 5.0 + 1.0)
+
+
+def simple_line() -> dict:
+    """The demo line without growth, boosters, equipment, fittings or line K: one duty of
+    1600 m3/h for 8000 h, wire-to-water efficiency 0.8, class C40 only, roughness 0.1 mm."""
+    d = copy.deepcopy(DEMO)
+    for key in ("growth", "equipment", "fittings", "boosters"):
+        d.pop(key)
+    d["line"] = {"static_head": "246 m", "source_level": "44 m", "cover": "1.2 m"}
+    d["duty"] = [{"name": "all year", "flow": "1600 m^3/h", "hours": 8000}]
+    d["pumping"] = {"efficiency": 0.8}
+    d["material"][0]["classes"] = ["C40"]
+    d["material"][0]["roughness"] = "0.1 mm"
+    return d
+
+
+def hand_grade(nominal: str, q: float) -> tuple[float, float]:
+    """(friction over the whole line, least head the head station must hold) for the simple
+    line with the climb and descent sizes ``nominal`` ("DN 700 / DN 600") at flow ``q``:
+    Darcy-Weisbach with f from Colebrook-White (Colebrook 1939) by mpmath.findroot, water at
+    12 degC from iapws (IAPWS-95), and the control rule of the contributor guide: the larger of
+    the delivery's need (44 + 246 m) and every point's least head (axis + (p_v + rho g 3 m -
+    p_atm) / (rho g), ISO 2533 at the ground, from memory) plus the friction up to it."""
+    import iapws
+    import mpmath
+
+    from pipeopt import catalog
+
+    w = iapws.IAPWS95(T=285.15, P=0.101325)
+    rho, nu = w.rho, w.mu / w.rho
+    pv = iapws.IAPWS95(T=285.15, x=0).P * 1e6
+    rho_g = rho * 9.80665
+    x = np.array([float(p["chainage"].split()[0]) * 1000 for p in DEMO["profile"]])
+    z = np.array([float(p["elevation"].split()[0]) for p in DEMO["profile"]])
+    p_atm = 101325.0 * (1 - 0.0065 * z / 288.15) ** (9.80665 * 0.0289644 / (8.3144598 * 0.0065))
+    climb, descent = nominal.split(" / ")
+    pipes = [catalog.lookup("ductile-iron", f"{n} C40") for n in (climb, descent)]
+    sec = np.where(x[:-1] < 22000.0, 0, 1)                        # the section of each stretch
+    bore = np.array([float(pipes[k]["inner_diameter_m"]) for k in sec])
+    od = np.array([float(pipes[k]["outside_diameter_m"]) for k in sec])
+    loss = []
+    for d, length in zip(bore, np.diff(x), strict=True):
+        v = q / (np.pi * d * d / 4)
+        re = v * d / nu
+        root = mpmath.findroot(lambda y, d=d, re=re: y + 2 * mpmath.log10(
+            1e-4 / d / 3.7 + 2.51 * y / re), 8)
+        loss.append(float(1 / root**2) * length / d * v * v / (2 * 9.80665))
+    f_cum = np.concatenate([[0.0], np.cumsum(loss)])
+    axis = z - 1.2 - 0.5 * np.append(od, od[-1])
+    least = axis + (pv + 3.0 * rho_g - p_atm) / rho_g
+    return f_cum[-1], max((least + f_cum).max(), 44.0 + 246.0 + f_cum[-1])
+
+
+@pytest.mark.reference
+def test_time_of_use_energy_of_year_one_by_hand():
+    # the simple line with its two duty points back (1600 m3/h for 4000 h at 0.16, 1000 m3/h
+    # for 3500 h at 0.08 EUR/kWh) and a demand charge of 70 per kW of peak: year 1's energy
+    # and bill by hand, each duty at its own grade line (hand_grade), P = rho g Q H / eta
+    import iapws
+
+    d = simple_line()
+    d["duty"] = copy.deepcopy(DEMO["duty"])
+    res = SizingStudy.from_dict(d).run()
+    rho_g = iapws.IAPWS95(T=285.15, P=0.101325).rho * 9.80665
+    for idx, row in res.candidates.iterrows():
+        kw = []
+        for flow, hours, price in ((1600.0, 4000.0, 0.16), (1000.0, 3500.0, 0.08)):
+            _, g0 = hand_grade(row["nominal"], flow / 3600.0)
+            kw.append((rho_g * flow / 3600.0 * (g0 - 44.0) / 0.8 / 1000.0, hours, price))
+        energy = sum(p * h for p, h, _ in kw)
+        bill = sum(p * h * c for p, h, c in kw) + 70.0 * max(p for p, _, _ in kw)
+        assert row["energy_kwh_year1"] == pytest.approx(energy, rel=1e-9)
+        year1 = res.yearly(idx).set_index("year").loc[1]
+        assert year1["energy_kwh"] == pytest.approx(energy, rel=1e-9)
+        assert year1["peak_kw"] == pytest.approx(max(p for p, _, _ in kw), rel=1e-9)
+        assert year1["energy_cost"] == pytest.approx(bill, rel=1e-9)
+
+
+@pytest.mark.reference
+def test_pump_head_and_energy_of_every_design_by_hand():
+    # every design of the simple line (one duty, 1600 m3/h, 8000 h): friction, pump head,
+    # power rho g Q H / eta (common practice) and year 1's energy by hand (hand_grade above)
+    import iapws
+
+    res = SizingStudy.from_dict(simple_line()).run()
+    rho_g = iapws.IAPWS95(T=285.15, P=0.101325).rho * 9.80665
+    q = 1600.0 / 3600.0
+    c = res.candidates
+    assert len(c) == 9
+    for _, row in c.iterrows():
+        friction, g0 = hand_grade(row["nominal"], q)
+        assert row["head_loss_m"] == pytest.approx(friction, rel=1e-9)
+        assert row["pump_head_m"] == pytest.approx(g0 - 44.0, rel=1e-9)
+        power = rho_g * q * (g0 - 44.0) / 0.8 / 1000.0
+        assert row["electrical_power_kw"] == pytest.approx(power, rel=1e-9)
+        assert row["energy_kwh_year1"] == pytest.approx(power * 8000.0, rel=1e-9)
 
 
 def test_python_constructor_matches_the_study_file(demo):

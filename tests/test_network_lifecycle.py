@@ -22,6 +22,7 @@ def economics(**kw):
     return NetworkEconomics(**base)
 
 
+@pytest.mark.reference
 def test_life_cycle_against_a_year_by_year_hand_computation():
     # the model, written out year by year (present value of every amount at 5 %): energy
     # E_t = sum_k P_tk h_k at price p (1+e)^(t-1) plus the demand charge on the year's peak;
@@ -51,18 +52,49 @@ def test_life_cycle_against_a_year_by_year_hand_computation():
         assert lc.eac[b] == pytest.approx(total * crf, rel=1e-12)
 
 
+@pytest.mark.reference
 def test_one_year_of_power_stands_for_every_year():
+    # steady power (no growth): one year of power stands for all 40, and the present value is
+    # the explicit discounted sum sum_t C_t / (1 + i)^t written out in mpmath (the model of
+    # the first test: energy at 0.12 escalating 1.5 %, demand charge 55, station
+    # 8500 (1.5 P)^0.7 at 0, 15, 30 with residual 1 - 10/15, maintenance, pipe residual)
+    import mpmath
+
     econ = economics(duty=DutyProfile(("0.05 m^3/s", "0.09 m^3/s"), (6000.0, 1500.0)))
     p1 = np.full((1, 1, 2), 30.0)
     pn = np.full((1, 40, 2), 30.0)
-    assert life_cycle(econ, [1e6], p1).pv_total[0] == pytest.approx(
-        life_cycle(econ, [1e6], pn).pv_total[0], rel=1e-14)
+    one = life_cycle(econ, [1e6], p1).pv_total[0]
+    assert one == pytest.approx(life_cycle(econ, [1e6], pn).pv_total[0], rel=1e-14)
+    mpmath.mp.dps = 30
+    r = mpmath.mpf("1.05")
+    c_ps = 8500 * (mpmath.mpf(45)) ** mpmath.mpf("0.7")
+    pv = 10**6 + c_ps + c_ps / r**15 + c_ps / r**30
+    for t in range(1, 41):
+        energy = 30 * (6000 + 1500) * mpmath.mpf("0.12") * mpmath.mpf("1.015") ** (t - 1)
+        pv += (energy + 55 * 30 + mpmath.mpf("0.004") * 10**6 + mpmath.mpf("0.02") * c_ps) / r**t
+    pv -= (10**6 * (1 - mpmath.mpf(40) / 70) + c_ps * (1 - mpmath.mpf(10) / 15)) / r**40
+    assert one == pytest.approx(float(pv), rel=1e-12)
 
 
-def test_year_weights_reproduce_the_present_values():
-    # the weights the exact programme uses give the same present values as life_cycle
+@pytest.mark.reference
+def test_year_weights_by_hand():
+    # the present-value weight of each amount, written out: a kWh in year t costs
+    # 0.12 * 1.015^(t-1) / 1.05^t, a kW of peak 55 / 1.05^t; one unit of pipe capital brings
+    # 1 + 0.004 sum_t 1.05^-t - (1 - 40/70) 1.05^-40; one unit of station capital
+    # 1 + 1.05^-15 + 1.05^-30 + 0.02 sum_t 1.05^-t - (1 - 10/15) 1.05^-40 (present value,
+    # common practice; straight-line residual)
     econ = economics()
     w = year_weights(econ)
+    t = np.arange(1, 41)
+    disc = 1.05**-t
+    np.testing.assert_allclose(w["energy"], 0.12 * 1.015 ** (t - 1) * disc, rtol=1e-13)
+    np.testing.assert_allclose(w["demand"], 55.0 * disc, rtol=1e-13)
+    assert w["pipe"] == pytest.approx(1 + 0.004 * disc.sum() - (1 - 40 / 70) * 1.05**-40,
+                                      rel=1e-13)
+    np.testing.assert_allclose(w["station"], [1 + 1.05**-15 + 1.05**-30 + 0.02 * disc.sum()
+                                              - (1 - 10 / 15) * 1.05**-40], rtol=1e-13)
+    assert w["stage_last"].tolist() == [40]
+    # and they give the same present values as life_cycle
     power = np.random.default_rng(1).uniform(10, 50, size=(1, 40, 2))
     lc = life_cycle(econ, [5e5], power)
     energy = (power[0] * np.array([6000.0, 1500.0])).sum(axis=1)
@@ -70,7 +102,6 @@ def test_year_weights_reproduce_the_present_values():
     assert (energy * w["energy"] + peak * w["demand"]).sum() == pytest.approx(
         lc.pv_energy[0], rel=1e-12)
     station = lc.capex_pump_station[0]
-    assert w["station"].shape == (1,)
     assert 5e5 * w["pipe"] + station * w["station"][0] + lc.pv_energy[0] == pytest.approx(
         lc.pv_total[0], rel=1e-12)
 
@@ -93,6 +124,7 @@ def test_shapes_are_checked():
 
 
 # ----- the yearly cash flows and the station's stages ------------------------------------------
+@pytest.mark.reference
 def test_cash_flows_reconcile_to_the_present_value():
     # every row discounted by the test's own factor 1.05^-t sums to pv_total (to 1e-9)
     econ = economics()
@@ -111,6 +143,7 @@ def test_cash_flows_reconcile_to_the_present_value():
         assert renewals == [15, 30]
 
 
+@pytest.mark.reference
 def test_a_station_in_two_stages_by_hand():
     # stages at years 0 and 12, life 15, horizon 40: stage 0 sized on the largest peak of years
     # 1-12 and bought at 0, 15, 30 (residual 1 - 10/15); stage 1 adds the rest of the largest
@@ -163,3 +196,30 @@ def test_each_sample_uses_its_own_inputs_and_horizon():
     half = life_cycle(econ, [1e6, 8e5], power, variations=Variations.of({"efficiency": 0.35}))
     base = life_cycle(econ, [1e6, 8e5], power)
     np.testing.assert_allclose(half.pv_energy[0], 2 * base.pv_energy, rtol=1e-12)
+
+
+@pytest.mark.reference
+def test_a_sample_by_hand():
+    # One sample (price 0.2, horizon 20, rate 8 %, efficiency 0.6, station cost x1.3, pipe cost
+    # x0.9) priced year by year as in the first test: power scaled by 0.7 / 0.6 (P = rho g Q H
+    # / eta), the station sized on the largest peak of its own 20 years, renewed at 15,
+    # residual 1 - 5/15 of the renewal and 1 - 20/70 of the pipes at year 20 (present value,
+    # common practice)
+    econ = economics()
+    power = np.random.default_rng(4).uniform(20, 60, size=(1, 40, 2))
+    values = {"energy_price": 0.2, "horizon": 20, "discount_rate": 0.08, "efficiency": 0.6,
+              "station_cost_factor": 1.3, "pipe_cost_factor": 0.9}
+    lc = life_cycle(econ, [1e6], power, variations=Variations.of(values))
+    n, i = 20, 0.08
+    p = power[0, :n] * 0.7 / 0.6
+    capital = 0.9e6
+    c_ps = 1.3 * 8500.0 * (1.5 * p.max()) ** 0.7
+    total = capital + c_ps + c_ps / (1 + i) ** 15
+    for t in range(1, n + 1):
+        e = 6000.0 * p[t - 1, 0] + 1500.0 * p[t - 1, 1]
+        total += (e * 0.2 * 1.015 ** (t - 1) + 55.0 * p[t - 1].max()
+                  + 0.004 * capital + 0.02 * c_ps) / (1 + i) ** t
+    total -= (capital * (1 - 20 / 70) + c_ps * (1 - 5 / 15)) / (1 + i) ** n
+    assert lc.pv_total[0, 0] == pytest.approx(total, rel=1e-12)
+    crf = i * (1 + i) ** n / ((1 + i) ** n - 1)
+    assert lc.eac[0, 0] == pytest.approx(total * crf, rel=1e-12)

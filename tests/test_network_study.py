@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import copy
+import itertools
 import tomllib
 from importlib import resources
 
@@ -10,6 +11,7 @@ import numpy as np
 import pytest
 from scipy import optimize
 
+from pipeopt import catalog
 from pipeopt.network import NetworkResult, NetworkStudy
 from pipeopt.studyfile import StudyFileError
 from tests.network_reference import dw_head_loss, hw_head_loss
@@ -45,6 +47,7 @@ def test_demo_result_tables_and_success(demo_result):
     assert spur in ("DN 100", "DN 125", "DN 150", "DN 200")
 
 
+@pytest.mark.reference
 def test_demo_pressures_hold_by_an_independent_solution(demo_result):
     # Re-solve the chosen design at each demand case with the test's own formulation
     # (unknowns: every pipe flow and junction head; Darcy-Weisbach with Colebrook-White, plus
@@ -86,6 +89,76 @@ def test_demo_pressures_hold_by_an_independent_solution(demo_result):
         assert sol.success
         pressure = sol.x[p:] - elevation
         assert np.all(pressure >= minimum - 1e-6)
+        # the free pump lifts just enough: the most critical node sits at its minimum
+        assert (pressure - minimum).min() == pytest.approx(0.0, abs=1e-6)
+
+
+@pytest.mark.reference
+def test_demo_pipe_table_balances_mass_and_follows_darcy_weisbach(demo_result):
+    # the pipe table (the peak-hour case: 1.9 x every demand): conservation of mass summed at
+    # every junction, V = 4 Q / (pi D^2), and each head loss by Darcy-Weisbach with f from
+    # Colebrook-White (mpmath), water at 12 degC from iapws (IAPWS-95), new pipe 0.1 mm (the
+    # bundled ductile-iron lining), the old main 1.5 mm, K 6 on the rising main
+    import iapws
+
+    pipes = demo_result.pipes
+    d = demo_dict()
+    demand = {n["name"]: 1.9 * float(n["demand"].split()[0]) / 1000.0 for n in d["node"]}
+    q = pipes["flow_m3_s"].to_numpy()
+    for node, need in demand.items():
+        inflow = q[(pipes["to"] == node).to_numpy()].sum() - q[(pipes["from"] == node)
+                                                              .to_numpy()].sum()
+        assert inflow == pytest.approx(need, abs=1e-12)
+    dia = pipes["inner_diameter_m"].to_numpy()
+    np.testing.assert_allclose(pipes["velocity_m_s"], 4 * q / (np.pi * dia**2), rtol=1e-12)
+    w = iapws.IAPWS95(T=285.15, P=0.101325)
+    nu = w.mu / w.rho
+    for _, row in pipes.iterrows():
+        eps = 1e-4 if row["status"] == "new" else 1.5e-3
+        k = 6.0 if row["pipe"] == "rising main" else 0.0
+        v = abs(row["velocity_m_s"])
+        f = _colebrook_mp(v * row["inner_diameter_m"] / nu, eps / row["inner_diameter_m"])
+        h = (f * row["length_m"] / row["inner_diameter_m"] + k) * v * v / (2 * 9.80665)
+        assert row["head_loss_m"] == pytest.approx(np.sign(row["flow_m3_s"]) * h, rel=1e-9)
+
+
+@pytest.mark.reference
+def test_demo_life_cycle_cost_by_an_explicit_discounted_sum(demo_result):
+    # The demo's present value written out in mpmath from the file's inputs and the two cases'
+    # pump heads (checked against an independent solution above): P_k = rho g Q_k H_k / eta
+    # (rho from iapws at 12 degC), energy sum_k P_k h_k at 0.14 escalating 1 %, 60 per kW of
+    # peak, station 9000 (1.5 P_max)^0.68 bought at 0 and 20 (life 20, nothing left at 40),
+    # maintenance 0.3 % of the pipes and 1.5 % of the station, pipe residual 1 - 40/80 at 40,
+    # all at 5 % (present value, common practice); pipe capital 2100 OD^1.3 per metre, EN 545
+    # outside diameters. EAC = PV r(1+r)^n/((1+r)^n-1).
+    import iapws
+    import mpmath
+
+    mpmath.mp.dps = 30
+    r = demo_result
+    rho = mpmath.mpf(iapws.IAPWS95(T=285.15, P=0.101325).rho)
+    g = mpmath.mpf("9.80665")
+    cases = r.cases
+    power = [rho * g * mpmath.mpf(q) * mpmath.mpf(h) / mpmath.mpf("0.72") / 1000
+             for q, h in zip(cases["total_demand_m3_s"], cases["pump_head_m"], strict=True)]
+    energy = power[0] * 7300 + power[1] * 1460
+    peak = max(power)
+    new = r.pipes[r.pipes["status"] == "new"]
+    pipe = sum(mpmath.mpf(row["length_m"]) * 2100
+               * (mpmath.mpf(EN545_OD[int(row["size"][3:])]) / 1000) ** mpmath.mpf("1.3")
+               for _, row in new.iterrows())
+    station = 9000 * (mpmath.mpf("1.5") * peak) ** mpmath.mpf("0.68")
+    i = mpmath.mpf("1.05")
+    pv = pipe + station + station / i**20
+    for t in range(1, 41):
+        pv += (energy * mpmath.mpf("0.14") * mpmath.mpf("1.01") ** (t - 1) + 60 * peak
+               + mpmath.mpf("0.003") * pipe + mpmath.mpf("0.015") * station) / i**t
+    pv -= pipe * (1 - mpmath.mpf(40) / 80) / i**40
+    assert r.costs["capex_pipe"] == pytest.approx(float(pipe), rel=1e-12)
+    assert r.costs["capex_pump_station"] == pytest.approx(float(station), rel=1e-12)
+    assert r.total_cost == pytest.approx(float(pv), rel=1e-12)
+    crf = (i - 1) * i**40 / (i**40 - 1)
+    assert r.costs["eac"] == pytest.approx(float(pv * crf), rel=1e-12)
 
 
 def test_the_run_is_reproducible(demo_result):
@@ -104,6 +177,11 @@ def test_text_repr_and_html(demo_result):
     assert "<table" in html and "Pipes" in html
 
 
+#: EN 545 ductile iron pipe outside diameters [mm] by DN (from memory)
+EN545_OD = {100: 118.0, 125: 144.0, 150: 170.0, 200: 222.0, 250: 274.0, 300: 326.0, 350: 378.0,
+            400: 429.0}
+
+
 def gravity_dict() -> dict:
     d = demo_dict()
     for key in ("pumping", "energy", "pump_station", "economics"):
@@ -113,17 +191,105 @@ def gravity_dict() -> dict:
     return d
 
 
+@pytest.mark.reference
 def test_gravity_network_costs_its_pipe_capital_only():
     r = NetworkStudy.from_dict(gravity_dict()).run(progress=False)
     assert r.success
     new = r.pipes[r.pipes["status"] == "new"]
-    # the capital by hand: length x cost per metre of the chosen catalog size
-    study = r.study
-    per_metre = {o.name: o.cost_per_metre for o in study.options}
+    # the capital by hand: length x 2100 OD^1.3 (the file's cost law), OD of ductile iron pipe
+    # by EN 545 (table of dimensions; outside diameters in mm, from memory)
+    per_metre = {f"DN {dn}": 2100.0 * (od / 1000.0) ** 1.3 for dn, od in EN545_OD.items()}
     by_hand = sum(row["length_m"] * per_metre[row["size"]] for _, row in new.iterrows())
     assert r.total_cost == pytest.approx(by_hand, rel=1e-12)
     assert set(r.costs) == {"capex_pipe"}
     assert "capital only" in r.text()
+
+
+def _colebrook_mp(re: float, rr: float) -> float:
+    """Colebrook-White (Colebrook 1939) friction factor, by mpmath.findroot on 1/sqrt(f)."""
+    import mpmath
+
+    x = mpmath.findroot(lambda x: x + 2 * mpmath.log10(rr / 3.7 + 2.51 * x / re), 8)
+    return float(1 / x**2)
+
+
+@pytest.mark.reference
+def test_branched_gravity_design_equals_brute_force_enumeration():
+    # The demo without the cross link and ring 4 is a tree fed by gravity from 120 m: every
+    # pipe's flow is the demand beyond it, so each combination of sizes (8^5 x 4 = 131,072)
+    # is checked here by path sums of Darcy-Weisbach losses, f from Colebrook-White by
+    # mpmath (new pipe 0.1 mm as the bundled ductile-iron lining, the old main 1.5 mm as the
+    # file says; the rising main's K 6), water at 12 degC from iapws (IAPWS-95), both demand
+    # cases (x1.0, x1.9), the minimum heads and the 2.5 m/s limit; capital 2100 OD^1.3 per
+    # metre with the EN 545 outside diameters. The cheapest that holds must be the design.
+    import iapws
+
+    d = gravity_dict()
+    d["pipe"] = [p for p in d["pipe"] if p["name"] not in ("cross link", "ring 4")]
+    r = NetworkStudy.from_dict(d).run()
+    assert r.success and r.outcome.method == "milp"
+    w = iapws.IAPWS95(T=285.15, P=0.101325)
+    nu = w.mu / w.rho
+    g = 9.80665
+    names = ["Quillmere Cross", "Vexholt Square", "Ombrellin Green", "Tarkwane Row",
+             "Glimmerhythe", "Pindlewick Lane", "Sorvantle Quay"]
+    elevation = np.array([44.0, 47.0, 52.0, 49.0, 58.0, 46.0, 41.0])
+    minimum = np.array([25.0, 25.0, 25.0, 25.0, 20.0, 25.0, 25.0])
+    base = np.array([4.0, 9.0, 7.0, 6.0, 5.0, 8.0, 6.0]) / 1000.0
+    # the tree: (pipe, parent node or -1 for the works, child node, length)
+    tree = [("rising main", -1, 0, 1600.0), ("ring 1", 0, 1, 800.0), ("ring 2", 1, 2, 850.0),
+            ("old Ombrellin main", 2, 3, 850.0), ("ring 6", 0, 5, 850.0),
+            ("ring 5", 5, 4, 750.0), ("Sorvantle spur", 3, 6, 800.0)]
+    below = {0: [0, 1, 2, 3, 4, 5, 6], 1: [1, 2, 3, 6], 2: [2, 3, 6], 3: [3, 6], 5: [5, 4],
+             4: [4], 6: [6]}
+    bores = {}
+    for dn in EN545_OD:
+        bores[f"DN {dn}"] = float(catalog.lookup("ductile-iron", f"DN {dn} C40")
+                                  ["inner_diameter_m"])
+    cost_m = {k: 2100.0 * (EN545_OD[int(k[3:])] / 1000.0) ** 1.3 for k in bores}
+    sizes = list(bores)
+    # loss[pipe][size] for both cases, and whether the size keeps 2.5 m/s
+    losses, ok_v, options = {}, {}, {}
+    for name, _, child, length in tree:
+        allowed = (["DN 100", "DN 125", "DN 150", "DN 200"] if name == "Sorvantle spur"
+                   else sizes)
+        if name == "old Ombrellin main":
+            allowed = ["old"]
+        options[name] = allowed
+        for size in allowed:
+            dia, eps = (0.15, 1.5e-3) if size == "old" else (bores[size], 1e-4)
+            k = 6.0 if name == "rising main" else 0.0
+            for case, factor in enumerate((1.0, 1.9)):
+                q = base[below[child]].sum() * factor
+                v = q / (np.pi * dia**2 / 4)
+                f = _colebrook_mp(v * dia / nu, eps / dia)
+                losses[name, size, case] = (f * length / dia + k) * v * v / (2 * g)
+                ok_v[name, size, case] = size == "old" or v <= 2.5 + 1e-12
+    design = [t for t in tree if t[0] != "old Ombrellin main"]
+    best, best_choice = np.inf, None
+    for combo in itertools.product(*(options[t[0]] for t in design)):
+        choice = dict(zip((t[0] for t in design), combo, strict=True))
+        choice["old Ombrellin main"] = "old"
+        if not all(ok_v[n, c, k] for n, c in choice.items() for k in (0, 1)):
+            continue
+        cost = sum(cost_m[choice[t[0]]] * t[3] for t in design)
+        if cost >= best:
+            continue
+        fine = True
+        for case in (0, 1):
+            head = np.zeros(7)
+            for name, parent, child, _ in tree:           # parents come first in the list
+                start = 120.0 if parent < 0 else head[parent]
+                head[child] = start - losses[name, choice[name], case]
+            fine &= bool(np.all(head - elevation >= minimum - 1e-9))
+        if fine:
+            best, best_choice = cost, choice
+    assert r.total_cost == pytest.approx(best, rel=1e-9)
+    chosen = r.pipes.set_index("pipe")["size"]
+    for name, size in best_choice.items():
+        if size != "old":
+            assert chosen[name] == size
+    assert names == list(r.nodes["node"][:7])
 
 
 def test_branched_study_uses_the_exact_method_and_split_pipes():
@@ -147,6 +313,7 @@ def test_split_pipes_and_milp_are_refused_for_a_looped_network():
         NetworkStudy.from_dict(gravity_dict()).run(method="milp")
 
 
+@pytest.mark.reference
 def test_hazen_williams_settings_are_read_and_used():
     d = gravity_dict()
     d["network"].update({"head_loss": "hazen-williams", "hazen_williams_coefficient": 10.667,
@@ -250,6 +417,7 @@ def test_topology_errors_reach_the_user_with_names():
         NetworkStudy.from_dict(d)
 
 
+@pytest.mark.reference
 def test_demand_growth_evaluates_every_year_of_a_pumped_network():
     d = demo_dict()
     d["pipe"] = [p for p in d["pipe"] if p["name"] not in ("cross link", "ring 4")]
@@ -320,6 +488,7 @@ def test_a_gravity_network_needs_no_economics_but_a_pumped_one_does():
     assert "not used: [pumping]" in NetworkStudy.from_dict(d).notes[0]
 
 
+@pytest.mark.reference
 def test_cash_flows_reconcile_to_the_life_cycle_cost(demo_result):
     cash = demo_result.cash_flows
     assert cash["year"].tolist() == list(range(41))            # economics.horizon = 40
@@ -338,6 +507,7 @@ def test_a_gravity_network_s_cash_flow_is_its_pipe_capital():
     assert r.cash_flows["discounted"].sum() == pytest.approx(r.total_cost, rel=1e-15)
 
 
+@pytest.mark.reference
 def test_a_declining_gravity_network_is_checked_at_its_largest_demands():
     # demands that fall 2 % a year are largest in year 1: the check uses year 1's demands
     d = gravity_dict()
@@ -351,6 +521,7 @@ def test_a_declining_gravity_network_is_checked_at_its_largest_demands():
     np.testing.assert_allclose(grown, base * 1.02**29, rtol=1e-12)   # year 30
 
 
+@pytest.mark.reference
 def test_growth_stops_at_the_design_year_and_the_cap():
     d = demo_dict()
     d["pipe"] = [p for p in d["pipe"] if p["name"] not in ("cross link", "ring 4")]
@@ -367,7 +538,17 @@ def test_growth_stops_at_the_design_year_and_the_cap():
         NetworkStudy.from_dict(d)
 
 
+@pytest.mark.reference
 def test_station_stages_in_a_network_file():
+    # The demo as a tree (no cross link, no ring 4), demands growing 2 % a year, the station in
+    # stages at years 0 and 15. By hand: the pump head of a case from path sums of
+    # Darcy-Weisbach losses (f from Colebrook-White by mpmath, water at 12 degC from iapws, new
+    # pipe 0.1 mm, the old main 1.5 mm, K 6 on the rising main): the source at 31 m lifted to
+    # the least head that keeps every node at its minimum; P = rho g Q H / 0.72; stage 0 is
+    # sized on the largest peak of years 1-15 and stage 1 on the rest of the largest of all
+    # 40 years, each 9000 (1.5 P)^0.68 (the file's station cost law)
+    import iapws
+
     d = demo_dict()
     d["pipe"] = [p for p in d["pipe"] if p["name"] not in ("cross link", "ring 4")]
     d["growth"] = {"flow_per_year": 0.02}
@@ -376,6 +557,41 @@ def test_station_stages_in_a_network_file():
     cash = r.cash_flows
     assert cash.loc[cash["capital_station"] > 0, "year"].tolist() == [0, 15]
     assert cash["discounted"].sum() == pytest.approx(r.total_cost, rel=1e-9)
+    w = iapws.IAPWS95(T=285.15, P=0.101325)
+    nu, rho_g = w.mu / w.rho, w.rho * 9.80665
+    size = r.pipes.set_index("pipe")["inner_diameter_m"]
+    elevation = np.array([44.0, 47.0, 52.0, 49.0, 58.0, 46.0, 41.0])
+    minimum = np.array([25.0, 25.0, 25.0, 25.0, 20.0, 25.0, 25.0])
+    base = np.array([4.0, 9.0, 7.0, 6.0, 5.0, 8.0, 6.0]) / 1000.0
+    tree = [("rising main", -1, 0, 1600.0), ("ring 1", 0, 1, 800.0), ("ring 2", 1, 2, 850.0),
+            ("old Ombrellin main", 2, 3, 850.0), ("ring 6", 0, 5, 850.0),
+            ("ring 5", 5, 4, 750.0), ("Sorvantle spur", 3, 6, 800.0)]
+    below = {0: [0, 1, 2, 3, 4, 5, 6], 1: [1, 2, 3, 6], 2: [2, 3, 6], 3: [3, 6], 5: [5, 4],
+             4: [4], 6: [6]}
+    cases = r.cases
+    for year in (1, 15, 40):
+        for k, factor in enumerate((1.0, 1.9)):
+            head = np.zeros(7)
+            for name, parent, child, length in tree:
+                dia = size[name]
+                eps = 1.5e-3 if name == "old Ombrellin main" else 1e-4
+                q = base[below[child]].sum() * factor * 1.02 ** (year - 1)
+                v = q / (np.pi * dia**2 / 4)
+                f = _colebrook_mp(v * dia / nu, eps / dia)
+                k_minor = 6.0 if name == "rising main" else 0.0
+                head[child] = (0.0 if parent < 0 else head[parent]) - (
+                    (f * length / dia + k_minor) * v * v / (2 * 9.80665))
+            lift = (minimum + elevation - head).max() - 31.0   # head relative to the source
+            row = cases.iloc[2 * (year - 1) + k]
+            assert row["pump_head_m"] == pytest.approx(lift, rel=1e-9)
+    power = rho_g * cases["total_demand_m3_s"].to_numpy() * cases["pump_head_m"].to_numpy() \
+        / 0.72 / 1000.0
+    np.testing.assert_allclose(cases["power_kw"], power, rtol=1e-9)
+    peak = power.reshape(40, 2).max(axis=1)
+    p0, p1 = peak[:15].max(), peak.max()
+    stages = cash.loc[cash["capital_station"] > 0, "capital_station"].to_numpy()
+    np.testing.assert_allclose(stages, [9000.0 * (1.5 * p0) ** 0.68,
+                                        9000.0 * (1.5 * (p1 - p0)) ** 0.68], rtol=1e-9)
 
 
 def test_the_study_is_frozen_and_replace_builds_another():

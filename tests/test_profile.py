@@ -125,6 +125,142 @@ def test_least_heads_with_the_standard_atmosphere():
                                5e4 / (1000 * G))
 
 
+# ----- water and Colebrook-White: the grade line against an mpmath/iapws hand calculation -----
+WATER = {"kind": "water", "temperature": "15 degC"}
+DI_01MM = [{"name": "ductile-iron", "classes": ["C40"], "roughness": "0.1 mm",
+            "cost": {"price_per_kg": 1.9, "laying_coefficient": 500.0, "laying_exponent": 1.1}}]
+POINTS = np.array([0, 2000, 3000, 5000, 7000, 9000, 12000.0])
+STRETCH_SECTION = [0, 0, 1, 1, 2, 2]
+
+
+def water_losses(q: float) -> np.ndarray:
+    """Friction loss of each stretch between POINTS [m]: Darcy-Weisbach, h = f L/D V^2/(2g),
+    f from Colebrook-White (Colebrook 1939) solved by mpmath.findroot; water at 15 degC from
+    the iapws package (IAPWS-95 density and viscosity, at 1 atm); roughness 0.1 mm."""
+    import iapws
+    import mpmath
+
+    w = iapws.IAPWS95(T=288.15, P=0.101325)
+    nu = w.mu / w.rho
+    bores = [float(catalog.lookup("ductile-iron", f"DN {n} C40")["inner_diameter_m"])
+             for n in (400, 350, 300)]
+    out = []
+    for k, sec in enumerate(STRETCH_SECTION):
+        d = bores[sec]
+        v = q / (math.pi * d * d / 4)
+        re = v * d / nu
+        x = mpmath.findroot(lambda x, d=d, re=re: x + 2 * mpmath.log10(1e-4 / d / 3.7
+                                                                       + 2.51 * x / re), 8)
+        f = float(1 / x**2)
+        out.append(f * (POINTS[k + 1] - POINTS[k]) / d * v * v / (2 * G))
+    return np.array(out)
+
+
+@pytest.mark.reference
+def test_grade_line_with_colebrook_and_two_duties_by_hand():
+    # two duty points, 0.15 and 0.08 m3/s: the highest grade line carries the larger flow, the
+    # lowest the smaller, each the delivery head (source level + static head, 160 m) plus the
+    # friction downstream of the point (water_losses above)
+    res = three_sections(fluid=WATER, hydraulics={"friction_method": "colebrook"},
+                         material=DI_01MM,
+                         duty=[{"flow": "0.15 m^3/s", "hours": 5000},
+                               {"flow": "0.08 m^3/s", "hours": 3000}]).run()
+    rows = res.profile[res.profile["station"] != "head station suction"]
+    np.testing.assert_allclose(rows["chainage_m"], POINTS)
+    for col, q in (("head_max_m", 0.15), ("head_min_m", 0.08)):
+        loss = water_losses(q)
+        head = 160.0 + np.concatenate([np.cumsum(loss[::-1])[::-1], [0.0]])
+        np.testing.assert_allclose(rows[col], head, rtol=1e-10)
+    # the operating pressure at each point: rho g (H - z_axis), density from iapws
+    import iapws
+
+    rho = iapws.IAPWS95(T=288.15, P=0.101325).rho
+    np.testing.assert_allclose(rows["pressure_max_bar"],
+                               rho * G * (rows["head_max_m"] - rows["pipe_m"]) / 1e5,
+                               rtol=1e-10)
+
+
+@pytest.mark.reference
+def test_a_ridge_with_water_and_colebrook_by_hand():
+    # the 9 km point raised to 215 m (as in the ridge test above), water at 15 degC: the head
+    # station holds the least head at the ridge, (p_v + rho g 3 m - p_atm(215 m)) / (rho g)
+    # above the pipe there (p_v and rho from iapws, IAPWS-95; p_atm by the ISO 2533 formula,
+    # from memory), plus the friction from the head station to the ridge; the delivery
+    # receives that less the friction beyond (water_losses, Colebrook-White by mpmath)
+    import iapws
+
+    res = three_sections(fluid=WATER, hydraulics={"friction_method": "colebrook"},
+                         material=DI_01MM,
+                         profile=[{"chainage": "0 km", "elevation": "100 m"},
+                                  {"chainage": "2 km", "elevation": "110 m"},
+                                  {"chainage": "5 km", "elevation": "120 m"},
+                                  {"chainage": "9 km", "elevation": "215 m"},
+                                  {"chainage": "12 km", "elevation": "155 m"}]).run()
+    rows = res.profile[res.profile["station"] != "head station suction"]
+    rho = iapws.IAPWS95(T=288.15, P=0.101325).rho
+    pv = iapws.IAPWS95(T=288.15, x=0).P * 1e6
+    p_atm = 101325.0 * (1 - 0.0065 * 215.0 / 288.15) ** (G * 0.0289644 / (8.3144598 * 0.0065))
+    at9 = rows[rows["chainage_m"] == 9000.0].iloc[0]
+    h9 = at9["pipe_m"] + (pv + rho * G * 3.0 - p_atm) / (rho * G)
+    loss = water_losses(0.15)
+    head = np.concatenate([h9 + np.cumsum(loss[:5][::-1])[::-1], [h9],
+                           [h9 - loss[5]]])
+    np.testing.assert_allclose(rows["head_max_m"], head, rtol=1e-9)
+    assert res.best["pump_head_m"] == pytest.approx(head[0] - 100.0, rel=1e-9)
+
+
+@pytest.mark.reference
+def test_line_minor_losses_spread_along_the_line_by_hand():
+    # a line K of 6 spread along the line in proportion to length, each share at its
+    # stretch's velocity (the rule of the contributor guide, "Long lines"): the loss of a
+    # stretch is (f L/D + K L/L_total) V^2/(2g) (Darcy-Weisbach and the K method; common
+    # practice), constant f 0.02
+    res = three_sections(line={"static_head": "60 m", "cover": "1 m", "source_level": "100 m",
+                               "minor_loss_k": 6.0}).run()
+    bores = [float(catalog.lookup("ductile-iron", f"DN {n} C40")["inner_diameter_m"])
+             for n in (400, 350, 300)]
+    loss = []
+    for k, sec in enumerate(STRETCH_SECTION):
+        d, length = bores[sec], POINTS[k + 1] - POINTS[k]
+        v = 0.15 / (math.pi * d * d / 4)
+        loss.append((0.02 * length / d + 6.0 * length / 12000.0) * v * v / (2 * G))
+    head = 160.0 + np.concatenate([np.cumsum(loss[::-1])[::-1], [0.0]])
+    rows = res.profile[res.profile["station"] != "head station suction"]
+    np.testing.assert_allclose(rows["head_max_m"], head, rtol=1e-12)
+    assert res.best["head_loss_m"] == pytest.approx(sum(loss), rel=1e-12)
+
+
+@pytest.mark.reference
+def test_sub_atmospheric_stretch_named_by_hand():
+    # the ridge of the test above (9 km at 215 m, constant f 0.02): the grade line by hand
+    # (the least head at the ridge, the friction upstream and downstream of it), the pressure
+    # rho g (H - z_axis) linear along each stretch, and its zero crossings by linear
+    # interpolation: the note names them to 0.1 km with the lowest pressure
+    res = three_sections(profile=[{"chainage": "0 km", "elevation": "100 m"},
+                                  {"chainage": "2 km", "elevation": "110 m"},
+                                  {"chainage": "5 km", "elevation": "120 m"},
+                                  {"chainage": "9 km", "elevation": "215 m"},
+                                  {"chainage": "12 km", "elevation": "155 m"}]).run()
+    bores = [float(catalog.lookup("ductile-iron", f"DN {n} C40")["inner_diameter_m"])
+             for n in (400, 350, 300)]
+    ods = [float(catalog.lookup("ductile-iron", f"DN {n} C40")["outside_diameter_m"])
+           for n in (400, 350, 300)]
+    ground = np.interp(POINTS, [0, 2000, 5000, 9000, 12000], [100, 110, 120, 215, 155])
+    axis = ground - 1.0 - 0.5 * np.array([ods[s] for s in STRETCH_SECTION] + [ods[2]])
+    loss = np.array([0.02 / bores[s] * (0.15 / (math.pi * bores[s] ** 2 / 4)) ** 2 / (2 * G)
+                     * (POINTS[k + 1] - POINTS[k]) for k, s in enumerate(STRETCH_SECTION)])
+    p_atm = 101325.0 * (1 - 0.0065 * 215.0 / 288.15) ** 5.25588   # ISO 2533 (from memory)
+    h9 = axis[5] + (2300.0 + 1000 * G * 3.0 - p_atm) / (1000 * G)
+    head = np.concatenate([h9 + np.cumsum(loss[:5][::-1])[::-1], [h9], [h9 - loss[5]]])
+    p = 1000 * G * (head - axis) / 1e5
+    # the pressure changes sign on the stretches 7-9 km and 9-12 km
+    assert p[4] > 0 > p[5] and p[6] > 0
+    x0 = POINTS[4] + (POINTS[5] - POINTS[4]) * p[4] / (p[4] - p[5])
+    x1 = POINTS[5] + (POINTS[6] - POINTS[5]) * -p[5] / (p[6] - p[5])
+    expected = f"sub-atmospheric at {x0 / 1000:.1f}-{x1 / 1000:.1f} km (lowest {p[5]:.2f} bar)"
+    assert expected in res.best["notes"]
+
+
 def test_profile_points_and_csv(tmp_path):
     p = GroundProfile(["0 km", "1 km", "3 km"], ["10 m", "30 m", "20 m"])
     x, z = p.with_points([500.0, 2000.0, 5000.0])

@@ -63,16 +63,22 @@ def test_efficiency_curve_best_point_zeros_and_similar_points():
             bep_efficiency_curve(0.07, 0.1, 0.82), rel=1e-14)
 
 
+@pytest.mark.reference
 def test_head_curve_and_speed_are_inverse():
     q = np.array([0.02, 0.05, 0.08])
     h0, k = 60.0, 2000.0
     for n in (0.6, 0.9, 1.0):
         h = quadratic_pump_head(q, h0, k, n)
         np.testing.assert_allclose(speed_for_head(q, h, h0, k), n, rtol=1e-13)
-    # affinity: the curve at speed n is the full-speed curve moved along H ~ Q^2
+    # affinity (Gulich 2014, 3.4, from memory): the point (Q, H) at full speed moves to
+    # (n Q, n^2 H) at speed n; by hand, 60 - 2000 * 0.05^2 = 55 m, and 0.49 * 55 = 26.95 m
     q1 = 0.05
     h1 = quadratic_pump_head(q1, h0, k)
-    assert quadratic_pump_head(0.7 * q1, h0, k, 0.7) == pytest.approx(0.49 * h1, rel=1e-14)
+    assert h1 == pytest.approx(55.0, rel=1e-14)
+    assert quadratic_pump_head(0.7 * q1, h0, k, 0.7) == pytest.approx(26.95, rel=1e-14)
+    # the speed that puts the pump on (Q, H), solved by hand from n^2 H0 - k Q^2 = H
+    # (30 m at 0.05 m3/s: n = sqrt((30 + 5) / 60))
+    assert speed_for_head(0.05, 30.0, h0, k) == pytest.approx(np.sqrt(35.0 / 60.0), rel=1e-14)
 
 
 @pytest.mark.reference
@@ -96,6 +102,53 @@ def test_standard_atmosphere_table(z, printed):
     # ISO 2533 table values (from memory), to half a unit of their last printed digit
     assert abs(standard_atmosphere_pressure(z) / 1000 - float(printed)) <= \
         ref.half_unit(printed)
+
+
+@pytest.mark.reference
+@settings(max_examples=50, deadline=None)
+@given(q=st.floats(1e-3, 2.0), h=st.floats(1.0, 300.0), p=st.floats(1e2, 1e7),
+       n=st.floats(0.2, 1.5))
+def test_affinity_laws_are_the_published_powers(q, h, p, n):
+    # Q2 = Q1 n, H2 = H1 n^2, P2 = P1 n^3 (Gulich 2014, 3.4, from memory), written out here
+    q2, h2, p2 = affinity_laws(q, h, p, n)
+    assert q2 == pytest.approx(q * n, rel=1e-14)
+    assert h2 == pytest.approx(h * n * n, rel=1e-14)
+    assert p2 == pytest.approx(p * n * n * n, rel=1e-14)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize("n", [0.6, 0.8, 1.0])
+def test_operating_point_against_numpy_roots(n):
+    # The pump H = n^2 H0 - k Q^2 (Gulich 2014, 3.4, from memory) meets the system curve
+    # H = Hs + c Q^2 (static lift plus Darcy-Weisbach friction, common practice) where
+    # (k + c) Q^2 + (Hs - n^2 H0) = 0: the positive root from numpy.roots.
+    h0, k, hs, c = 62.0, 1800.0, 18.0, 2600.0
+    roots = np.roots([k + c, 0.0, hs - n * n * h0])
+    q_star = float(roots[np.isreal(roots) & (roots.real > 0)].real[0])
+    h_star = hs + c * q_star**2
+    assert quadratic_pump_head(q_star, h0, k, n) == pytest.approx(h_star, rel=1e-12)
+    assert speed_for_head(q_star, h_star, h0, k) == pytest.approx(n, rel=1e-12)
+
+
+@pytest.mark.reference
+def test_npsh_available_at_altitude_by_hand_with_iapws():
+    # NPSHA = p_atm/(rho g) + z - h_f - p_v/(rho g) (ISO 9906 definition, from memory): an
+    # open sump 1,200 m above sea level, water at 25 degC, the pump 2.0 m above the water
+    # (z = -2.0 m), 0.6 m of suction loss. The barometric pressure by the ISO 2533
+    # troposphere formula written out (p0 101325 Pa, T0 288.15 K, L 0.0065 K/m,
+    # M 0.0289644 kg/mol, R 8.3144598 J/(mol K); from memory); vapour pressure and density
+    # from the iapws package (IAPWS-95).
+    z_site, z, h_f = 1200.0, -2.0, 0.6
+    p_atm = 101325.0 * (1 - 0.0065 * z_site / 288.15) ** (G * 0.0289644 / (8.3144598 * 0.0065))
+    assert standard_atmosphere_pressure(z_site) == pytest.approx(p_atm, rel=1e-13)
+    sat = iapws.IAPWS95(T=298.15, x=0)
+    rho = iapws.IAPWS95(T=298.15, P=p_atm / 1e6).rho
+    pv = sat.P * 1e6
+    expected = p_atm / (rho * G) + z - h_f - pv / (rho * G)
+    p_inlet = p_atm + rho * G * (z - h_f)       # absolute static pressure at the inlet
+    assert npsh_available(p_inlet, pv, rho) == pytest.approx(expected, rel=1e-13)
+    # about 8.96 m of barometer at 1,200 m, less 2.6 m, less 0.32 m of vapour head
+    assert expected == pytest.approx(6.05, abs=0.01)
 
 
 def test_input_kinds_and_errors():

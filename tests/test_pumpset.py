@@ -46,13 +46,43 @@ def test_throttled_pump_runs_on_its_curve():
     np.testing.assert_allclose(t2["head"], [[60.0, design]], rtol=1e-13)
 
 
+@pytest.mark.reference
 def test_variable_speed_with_static_head_loses_efficiency_at_low_flow():
+    # by hand, with the affinity laws and the Ulanicki et al. (2008) efficiency curve (module
+    # docstring): system H = 40 + 1000 Q^2; design at the largest flow 0.1 m3/s, 50 m; r = 1.2:
+    # full-speed curve H = 60 - 1000 Q^2 (H0 = r H_d = 60 m, k = (r - 1) H_d / Q_d^2 = 1000).
+    # At 0.05 m3/s the system asks 42.5 m: n^2 60 - 1000 * 0.05^2 = 42.5 gives n = sqrt(0.75);
+    # x = Q / (n Q_bep) = 0.5 / sqrt(0.75), efficiency ratio x (2 - x).
     pump = PumpSet(0.8, curve=True, control="variable-speed")
     q = np.array([[0.05, 0.1]])
     h = 40.0 + 1000.0 * q**2                 # mostly static
     t = pump.power_terms(q, h)
-    assert t["factor"][0, 0] < t["factor"][0, 1] == pytest.approx(1.0)
-    assert t["speed"][0, 0] > 0.5            # the static head keeps the speed up
+    n = np.sqrt(0.75)
+    x = 0.5 / n
+    np.testing.assert_allclose(t["speed"], [[n, 1.0]], rtol=1e-13)
+    np.testing.assert_allclose(t["factor"], [[x * (2 - x), 1.0]], rtol=1e-13)
+    np.testing.assert_allclose(t["head"], [[42.5, 50.0]], rtol=1e-14)
+    assert t["factor"][0, 0] < 0.83          # 0.8214: the static head keeps the speed up
+
+
+@pytest.mark.reference
+def test_variable_speed_saves_power_against_throttling_by_hand():
+    # The same system and pump, throttled and with a drive: electrical power in proportion to
+    # Q H / phi (P = rho g Q H / eta, common practice). By hand at 0.05 m3/s: throttled, the
+    # pump runs on its curve at 60 - 1000 * 0.05^2 = 57.5 m with x = 0.5, phi = 0.75; with the
+    # drive, 42.5 m at phi = x (2 - x), x = 0.5 / sqrt(0.75) (affinity laws).
+    q = np.array([[0.05, 0.1]])
+    h = 40.0 + 1000.0 * q**2
+    thr = PumpSet(0.8, curve=True, control="throttle").power_terms(q, h)
+    vsd = PumpSet(0.8, curve=True, control="variable-speed").power_terms(q, h)
+    x = 0.5 / np.sqrt(0.75)
+    p_thr = 0.05 * 57.5 / 0.75
+    p_vsd = 0.05 * 42.5 / (x * (2 - x))
+    got_thr = (q * thr["head"] / thr["factor"])[0, 0]
+    got_vsd = (q * vsd["head"] / vsd["factor"])[0, 0]
+    assert got_thr == pytest.approx(p_thr, rel=1e-13)
+    assert got_vsd == pytest.approx(p_vsd, rel=1e-13)
+    assert got_vsd / got_thr == pytest.approx(0.6749, abs=1e-4)   # a third saved at half flow
 
 
 def test_per_duty_ratios_and_standing_stations():

@@ -23,7 +23,6 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from pipeopt import SizingStudy
-from pipeopt.economics import capital_recovery_factor
 from pipeopt.errors import InputError
 from pipeopt.stations import Boosters, evaluate_layouts, telescope
 
@@ -77,7 +76,7 @@ def hand_layouts(max_count: int, fixed: float, per_kw: float, q: float = 0.5):
     v = q / (math.pi * bore**2 / 4)
     i = f / bore * v * v / (2 * G)
     annuity = (1 - 1.05**-30) / 0.05
-    crf = capital_recovery_factor(0.05, 30)
+    crf = 0.05 * 1.05**30 / (1.05**30 - 1)     # capital recovery factor r(1+r)^n/((1+r)^n-1)
     sites = [5000.0 * k for k in range(1, 12)]
     out = {}
     for n in range(max_count + 1):
@@ -144,6 +143,132 @@ def test_economic_number_of_stations_falls_as_stations_cost_more():
     v = 0.5 / (math.pi * bore**2 / 4)
     total = 0.02 / bore * v * v / (2 * G) * 60000.0 + 20.0
     assert counts[-1] == math.ceil(total / (20e5 / (1000 * G))) - 1
+
+
+def level_gradient(q: float) -> float:
+    """Friction head per metre of the level study's 600 mm bore, Darcy-Weisbach with f 0.02."""
+    v = q / (math.pi * 0.6**2 / 4)
+    return 0.02 / 0.6 * v * v / (2 * G)
+
+
+@pytest.mark.reference
+def test_station_table_of_the_level_line_by_hand():
+    # Three boosters at 15, 30 and 45 km (the best layout of the first case above): each
+    # station lifts i x 15 km, the last 20 m more for the delivery; power rho g Q H / eta;
+    # discharge pressure rho g H; every booster receives 0 m; NPSH available at sea level
+    # p_atm / (rho g) with no vapour pressure given (101,325 Pa, ISO 2533, from memory)
+    res = level_study().run()
+    st_ = res.stations
+    assert st_["chainage_m"].tolist() == [0.0, 15000.0, 30000.0, 45000.0]
+    head = level_gradient(0.5) * 15000.0 + np.array([0.0, 0.0, 0.0, 20.0])
+    np.testing.assert_allclose(st_["head_max_m"], head, rtol=1e-12)
+    np.testing.assert_allclose(st_["peak_kw"], 1000 * G * 0.5 * head / 0.75 / 1000, rtol=1e-12)
+    np.testing.assert_allclose(st_["discharge_pressure_max_bar"], 1000 * G * head / 1e5,
+                               rtol=1e-12)
+    np.testing.assert_allclose(st_["suction_pressure_min_bar"], 0.0, atol=1e-12)
+    np.testing.assert_allclose(st_["npsh_available_m"], 101325.0 / (1000 * G), rtol=1e-12)
+    b = res.best
+    assert b["head_loss_m"] == pytest.approx(level_gradient(0.5) * 60000.0, rel=1e-12)
+    assert b["velocity_m_s"] == pytest.approx(0.5 / (math.pi * 0.09), rel=1e-12)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize("chosen", [(), (3,), (2, 7), (4, 6, 9)])
+def test_telescoped_classes_equal_a_brute_force_over_every_assignment(chosen):
+    # Flow 0.3 m3/s. Every one of the 2^12 assignments of class A (10 bar, 300 EUR/m) or B
+    # (20 bar, 380 EUR/m) to the twelve 5 km stretches, priced by hand; the cheapest whose
+    # every stretch holds its highest pressure rho g (H_segment - i (x - a)) (at its start,
+    # Darcy-Weisbach with constant f) must be the telescoped one.
+    study = level_study(4, flow="0.3 m^3/s")
+    m = study.layout.model
+    i = level_gradient(0.3)
+    pts = [0, *chosen]
+    bounds = [*pts, 12]
+    pressure = np.zeros(12)
+    for a, b in zip(bounds[:-1], bounds[1:], strict=True):
+        head = i * 5000.0 * (b - a) + (20.0 if b == 12 else 0.0)
+        for k in range(a, b):
+            pressure[k] = 1000 * G * (head - i * 5000.0 * (k - a))
+    combos = np.array(list(itertools.product((0, 1), repeat=12)))
+    rating = np.where(combos == 0, 10e5, 20e5)
+    cost = np.where(combos == 0, 300.0, 380.0).sum(axis=1) * 5000.0
+    holds = np.all(pressure <= rating + 1e-3, axis=1)
+    best = combos[holds][cost[holds].argmin()]
+    lay = np.array([pts])
+    classes, excess, _ = telescope(m, np.array([0]), lay, np.zeros((1, m.n_points - 1), int))
+    lc, extra = evaluate_layouts(m, np.array([0]), classes, lay)
+    assert np.all(excess <= 0)
+    np.testing.assert_allclose(extra["stretch_pressure"][0], pressure, rtol=1e-12)
+    np.testing.assert_array_equal(classes[0], best)
+    assert lc.capex_pipe[0] == pytest.approx(cost[holds].min(), rel=1e-12)
+
+
+@pytest.mark.reference
+def test_a_line_without_boosters_by_hand():
+    # no booster allowed, 0.3 m3/s: one station lifts i x 60 km + 20 m (13.8 bar at the head);
+    # the classes and the EAC of the hand model of this file (hand_layouts)
+    hand = hand_layouts(0, 300000.0, 400.0, q=0.3)
+    res = level_study(0, flow="0.3 m^3/s").run()
+    b = res.best
+    assert b["pump_head_m"] == pytest.approx(level_gradient(0.3) * 60000.0 + 20.0, rel=1e-12)
+    assert b["eac"] == pytest.approx(hand[()], rel=1e-9)
+    # the pressure falls below 10 bar after (H - 10 bar / rho g) / i metres: class B up to the
+    # stretch holding that point, class A beyond (5 km stretches)
+    h0 = level_gradient(0.3) * 60000.0 + 20.0
+    x_a = (h0 - 10e5 / (1000 * G)) / level_gradient(0.3)
+    n_b = math.ceil(x_a / 5000.0)
+    assert b["classes_along"] == f"600 B 0.0-{5.0 * n_b:.1f} km; 600 A {5.0 * n_b:.1f}-60.0 km"
+
+
+@pytest.mark.reference
+def test_a_booster_receives_its_suction_minimum_by_hand():
+    # 0.45 m3/s; one booster allowed at 25 km only, which must receive 0.5 bar: the head
+    # station lifts i x 25 km + 0.5 bar / (rho g); the booster the rest,
+    # i x 35 km + 20 m - 0.5 bar / (rho g)
+    # (the control rule of the contributor guide, Darcy-Weisbach with constant f, by hand)
+    boosters = {"max_count": 1, "sites": ["25 km"], "fixed_cost": 1000.0, "life": 30,
+                "suction_pressure_min": "0.5 bar"}
+    res = level_study(boosters=boosters, flow="0.45 m^3/s").run()
+    st_ = res.stations
+    assert st_["chainage_m"].tolist() == [0.0, 25000.0]
+    i, hs = level_gradient(0.45), 0.5e5 / (1000 * G)
+    np.testing.assert_allclose(st_["head_max_m"], [i * 25000.0 + hs, i * 35000.0 + 20.0 - hs],
+                               rtol=1e-12)
+    assert st_["suction_pressure_min_bar"].iloc[1] == pytest.approx(0.5, rel=1e-12)
+    assert st_["npsh_available_m"].iloc[1] == pytest.approx(hs + 101325.0 / (1000 * G),
+                                                            rel=1e-12)   # ISO 2533 sea level
+
+
+@pytest.mark.reference
+def test_a_booster_held_at_its_npsh_required_plus_margin():
+    # NPSH available = p_abs / (rho g) - p_v / (rho g) at the suction (ISO 9906 definition,
+    # from memory): with NPSH required 12 m and a 1 m margin, the booster must receive
+    # 13 m + (p_v - p_atm) / (rho g) of gauge head: at sea level p_atm 101,325 Pa (ISO 2533,
+    # from memory) and p_v 2.3 kPa, 2.902 m. The head station's inlet is at 0.5 bar gauge
+    # (10.1 m + 5.1 m available there); 0.45 m3/s. By hand: the head station lifts
+    # i x 25 km + 2.902 m - 0.5 bar / (rho g), the booster i x 35 km + 20 m + 0.5 bar / (rho g)
+    # - 2.902 m (the delivery is the static head above the inlet's head).
+    boosters = {"max_count": 1, "sites": ["25 km"], "fixed_cost": 1000.0, "life": 30}
+    res = level_study(boosters=boosters, flow="0.45 m^3/s",
+                      line={"length": "60 km", "static_head": "20 m",
+                            "suction_pressure": "0.5 bar"},
+                      fluid={"kind": "custom", "density": "1000 kg/m^3", "viscosity": "1 mPa*s",
+                             "vapour_pressure": "2.3 kPa"},
+                      pumping={"efficiency": 0.75, "npsh_required": "12 m",
+                               "npsh_margin": "1 m"}).run()
+    st_ = res.stations
+    rho_g = 1000 * G
+    hs = 13.0 + (2300.0 - 101325.0) / rho_g
+    assert hs == pytest.approx(2.902, abs=5e-4)
+    i = level_gradient(0.45)
+    assert st_["chainage_m"].tolist() == [0.0, 25000.0]
+    assert st_["suction_pressure_min_bar"].iloc[1] * 1e5 / rho_g == pytest.approx(hs, rel=1e-12)
+    assert st_["npsh_available_m"].iloc[1] == pytest.approx(13.0, rel=1e-12)
+    h_in = 0.5e5 / rho_g
+    assert st_["npsh_available_m"].iloc[0] == pytest.approx(h_in + (101325.0 - 2300.0) / rho_g,
+                                                            rel=1e-12)
+    np.testing.assert_allclose(st_["head_max_m"], [i * 25000.0 + hs - h_in,
+                                                   i * 35000.0 + 20.0 + h_in - hs], rtol=1e-12)
 
 
 def test_more_boosters_than_sites_is_refused():
