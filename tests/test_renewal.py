@@ -61,6 +61,7 @@ def test_errors():
         shamir_howard_replacement_time(0.0, 0.05, 1.0, 1.0, 0.05)
 
 
+@pytest.mark.reference
 def test_break_rate_from_a_window_count():
     # the count of the last w years is the integral of N0 e^{A s} over (-w, 0) (Shamir & Howard
     # 1979's law); scipy's quad integrates it independently
@@ -75,8 +76,10 @@ def test_break_rate_from_a_window_count():
     assert out.tolist()[1] == 0.0
 
 
+@pytest.mark.reference
 def test_break_growth_from_two_windows():
-    # the counts of two successive windows under N0 e^{A s} are in the ratio e^{A w}
+    # the counts of two successive windows under N0 e^{A s} (Shamir & Howard 1979's law) are in
+    # the ratio e^{A w}; scipy's quad integrates the rate over each window independently
     from scipy.integrate import quad
 
     from pipeopt.renewal import break_growth_from_counts
