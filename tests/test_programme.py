@@ -15,12 +15,15 @@ Checks, each with its source:
 from __future__ import annotations
 
 import copy
+import itertools
 import math
 import subprocess
 import sys
 import textwrap
 from pathlib import Path
+from types import SimpleNamespace
 
+import iapws
 import numpy as np
 import pandas as pd
 import pytest
@@ -33,6 +36,7 @@ from pipeopt.results import CAUTION
 from pipeopt.studyfile import StudyFileError, read_toml
 
 from .conftest import upgrade_study_for_main
+from .test_replacement import hand_economics
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = read_toml(ROOT / "pipeopt" / "data" / "demo_programme.toml")
@@ -476,3 +480,248 @@ def test_hostile_register_text_is_inert_in_the_report_files():
     start, stop = md.index(fence[0]), md.rindex(fence[-1])
     outside = md[:start] + md[stop:]
     assert "<b>" not in outside and "&lt;b&gt;x&lt;/b&gt; \\[l\\](javascript:1)" in outside
+
+
+# ----- register rows valued by hand ------------------------------------------------------------
+# The demo's shared inputs as printed in pipeopt/data/demo_programme.toml (illustrative), the
+# water at 10 degC and 1 atm from the iapws package (IAPWS-95 density, IAPWS 2008 viscosity),
+# and every present value summed year by year in tests/test_replacement.py::hand_economics
+# (Colebrook-White roots by mpmath, Darcy-Weisbach, Shamir & Howard's breaks, explicit
+# discounting; docs/references.md#renewal-programmes, #economics).
+def hand_scenario(**changes) -> SimpleNamespace:
+    water = iapws.IAPWS95(T=283.15, P=0.101325)
+    base = {"density": water.rho, "viscosity": water.mu, "efficiency": 0.68,
+            "tariff": SimpleNamespace(price=0.16, escalation=0.01, demand_charge=0.0),
+            "discount_rate": 0.035, "horizon": 40, "break_cost": 7500.0,
+            "new_roughness": 0.03e-3, "new_aging": 0.0, "life": 80.0, "maintenance": 0.0,
+            "break_factor": 0.0, "minor_loss_k": 4.0, "flow_growth": 0.0, "design_year": None}
+    return SimpleNamespace(**{**base, **changes})
+
+
+#: The demo's material classes in SI, from the demo file: new roughness [m], aging [m/yr],
+#: break growth [1/yr].
+DEMO_MATERIALS = {"cast-iron": (0.26e-3, 0.04e-3, 0.05), "asbestos-cement": (0.1e-3, 0.01e-3, 0.04),
+                  "steel": (0.05e-3, 0.03e-3, 0.04), "ductile-iron": (0.1e-3, 0.005e-3, 0.03),
+                  "pvc": (0.007e-3, 0.0, 0.02), "pe": (0.007e-3, 0.0, 0.01)}
+
+
+def hand_main(row, materials: dict, first_year: int = 2027) -> dict:
+    """A register row as the model's SI inputs, by hand: the rate now N0 from the breaks of the
+    last 5 years, n = int_{-5}^{0} N0 e^{A s} ds (Shamir & Howard 1979's law), so
+    N0 = n A / (1 - e^{-5 A}); the roughness now, new + aging x age; capital = cost x length."""
+    rough, aging, a = materials[row["material"]]
+    age = first_year - int(row["year_laid"])
+    bore = row["inner_diameter_mm"] / 1000.0
+    new = row.get("replacement_inner_diameter_mm", np.nan)
+    flow = row["pumped_flow_m3_h"] / 3600.0
+    return {"length": row["length_m"], "diameter": bore, "roughness": rough + aging * age,
+            "aging": aging, "flow": flow,
+            "hours": row["hours_per_year"] if flow > 0 else 0.0,
+            "static_head": row["static_head_m"] if flow > 0 else 0.0,
+            "breaks_now": row["breaks_last_5y"] * a / (1.0 - math.exp(-5.0 * a)),
+            "break_growth": a, "capital": row["replacement_cost_per_m"] * row["length_m"],
+            "new_diameter": bore if pd.isna(new) else new / 1000.0}
+
+
+@pytest.mark.reference
+def test_register_rows_become_the_model_inputs_by_hand():
+    # age, capital, the break rate now (its window integral by scipy's quad gives back the
+    # count), the roughness now and the year-1 velocity Q / (pi D^2 / 4), row by row
+    from scipy.integrate import quad
+
+    study = ProgrammeStudy.from_dict(demo_dict(**{"breaks.growth_from": "material"}))
+    frame = invented_register(300, seed=44, defects=False)
+    table, _, rejected = evaluate_rows(frame, study)
+    assert rejected.empty and len(table) == 300
+    for k, row in frame.iterrows():
+        t = table.iloc[k]
+        rough, aging, a = DEMO_MATERIALS[row["material"]]
+        assert t["main_id"] == row["main_id"] and t["age_yr"] == 2027 - row["year_laid"]
+        assert t["capital"] == pytest.approx(row["replacement_cost_per_m"] * row["length_m"],
+                                             rel=1e-15)
+        assert t["break_growth_per_year"] == a
+        n0 = t["breaks_per_year_now"]
+        count = quad(lambda s, n0=n0, a=a: n0 * math.exp(a * s), -5.0, 0.0)[0]
+        assert count == pytest.approx(row["breaks_last_5y"], rel=1e-12, abs=1e-12)
+        assert t["roughness_now_mm"] == pytest.approx((rough + aging * t["age_yr"]) * 1e3,
+                                                      rel=1e-12)
+        q = row["pumped_flow_m3_h"] / 3600.0
+        assert t["pumped"] == (q > 0)
+        if q > 0:
+            d = row["inner_diameter_mm"] / 1000.0
+            assert t["velocity_year1_m_s"] == pytest.approx(q / (math.pi * d * d / 4.0),
+                                                            rel=1e-14)
+
+
+@pytest.mark.reference
+def test_unpumped_register_mains_valued_by_hand():
+    # 12 mains that are not pumped: PV of keeping, the NPV of renewing in each programme year,
+    # the best year by exhaustive search over the horizon, and the benefit-cost ratio there
+    study = ProgrammeStudy.from_dict(demo_dict(**{"breaks.growth_from": "material"}))
+    frame = invented_register(400, seed=45, defects=False)
+    rows = frame[(frame["pumped_flow_m3_h"] == 0) & (frame["breaks_last_5y"] > 0)].head(12)
+    r = study.run(rows.reset_index(drop=True))
+    s = hand_scenario()
+    for k, (_, row) in enumerate(rows.iterrows()):
+        hand = hand_economics(s, hand_main(row, DEMO_MATERIALS))
+        m = r.mains.iloc[k]
+        best = min(range(40), key=lambda a: hand["pv_replace"][a])
+        assert m["pv_keep"] == pytest.approx(hand["pv_keep"], rel=1e-11)
+        npv = [hand["pv_keep"] - pv for pv in hand["pv_replace"][:10]]
+        np.testing.assert_allclose(r.npv_by_year.iloc[k, 1:].to_numpy(dtype=float), npv,
+                                   rtol=1e-9, atol=1e-9 * hand["pv_keep"])
+        assert m["best_year"] == best and m["best_calendar_year"] == 2027 + best
+        p = hand["parts"][best]
+        ratio = (p["breaks_saved"] + p["energy_saved"] - p["upkeep"]) / p["net_capital"]
+        assert m["benefit_cost_ratio"] == pytest.approx(ratio, rel=1e-10)
+        assert m["renewal_pays"] == (hand["pv_keep"] > hand["pv_replace"][best])
+
+
+PUMPED_ROW = {"main_id": "P1", "material": "cast-iron", "inner_diameter_mm": 262.0,
+              "length_m": 2300.0, "year_laid": 1958, "breaks_last_5y": 7,
+              "pumped_flow_m3_h": 210.0, "hours_per_year": 5600.0, "static_head_m": 31.0,
+              "replacement_cost_per_m": 640.0, "replacement_inner_diameter_mm": 300.0}
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("changes", "hand_changes"), [
+    ({}, {}),
+    ({"growth.flow_per_year": 0.015, "growth.design_year": 6, "replacement.break_factor": 0.2,
+      "economics.pipe_maintenance": 0.002},
+     {"flow_growth": 0.015, "design_year": 6, "break_factor": 0.2, "maintenance": 0.002}),
+])
+def test_a_pumped_register_main_by_hand(changes, hand_changes):
+    # a rising main of the register, restored to a 300 mm bore: year-1 head loss and energy,
+    # the PV of keeping it and of renewing it in each programme year, and its best year
+    study = ProgrammeStudy.from_dict(demo_dict(**{"breaks.growth_from": "material", **changes}))
+    r = study.run(pd.DataFrame([PUMPED_ROW]))
+    hand = hand_economics(hand_scenario(**hand_changes), hand_main(PUMPED_ROW, DEMO_MATERIALS))
+    m = r.mains.iloc[0]
+    assert m["head_loss_year1_m"] == pytest.approx(hand["head_loss1"], rel=1e-11)
+    assert m["energy_kwh_year1"] == pytest.approx(hand["energy1"], rel=1e-11)
+    assert m["pv_keep"] == pytest.approx(hand["pv_keep"], rel=1e-11)
+    npv = [hand["pv_keep"] - pv for pv in hand["pv_replace"][:10]]
+    np.testing.assert_allclose(r.npv_by_year.iloc[0, 1:].to_numpy(dtype=float), npv, rtol=1e-9,
+                               atol=1e-9 * hand["pv_keep"])
+    assert m["best_year"] == min(range(40), key=lambda a: hand["pv_replace"][a])
+
+
+# ----- a tiny register, its programme by exhaustive enumeration ---------------------------------
+TINY_MATERIALS = {"cast-iron": (0.26e-3, 0.04e-3, 0.06), "pvc": (0.007e-3, 0.0, 0.02)}
+
+
+def tiny_row(main_id, material, bore, length, laid, breaks, cost, flow=0.0, hours=np.nan,
+             head=np.nan):
+    return {"main_id": main_id, "material": material, "inner_diameter_mm": bore,
+            "length_m": length, "year_laid": laid, "breaks_last_5y": breaks,
+            "pumped_flow_m3_h": flow, "hours_per_year": hours, "static_head_m": head,
+            "replacement_cost_per_m": cost}
+
+
+#: Invented mains (illustrative): four that pay now, one too dear for any year's budget, one
+#: whose renewal pays only decades ahead, one that never pays, a rising main, two more.
+TINY = pd.DataFrame([
+    tiny_row("T1", "cast-iron", 150, 400, 1935, 22, 900),
+    tiny_row("T2", "cast-iron", 200, 450, 1940, 25, 950),
+    tiny_row("T3", "cast-iron", 150, 350, 1950, 18, 1000),
+    tiny_row("T4", "pvc", 100, 500, 1975, 30, 800),
+    tiny_row("T5", "cast-iron", 300, 1500, 1930, 30, 1500),
+    tiny_row("T6", "cast-iron", 150, 400, 1975, 1, 900),
+    tiny_row("T7", "pvc", 100, 300, 1990, 0, 700),
+    tiny_row("T8", "cast-iron", 250, 1200, 1955, 6, 500, 300.0, 6000.0, 25.0),
+    tiny_row("T9", "cast-iron", 200, 380, 1945, 14, 950),
+    tiny_row("T10", "pvc", 150, 420, 1980, 12, 820),
+])
+TINY_BUDGET = 7.0e5
+
+
+@pytest.fixture(scope="module")
+def tiny():
+    """The tiny register's programme (3 years, 700,000 a year) and its hand valuation."""
+    data = demo_dict(**{"breaks.growth_from": "material", "programme.budget": TINY_BUDGET,
+                        "programme.years": 3})
+    data["material"] = [{"name": "cast-iron", "roughness": "0.26 mm", "aging": "0.04 mm/yr",
+                         "break_growth": 0.06},
+                        {"name": "pvc", "roughness": "0.007 mm", "aging": "0 mm/yr",
+                         "break_growth": 0.02}]
+    result = ProgrammeStudy.from_dict(data).run(TINY)
+    hand = [hand_economics(hand_scenario(), hand_main(row, TINY_MATERIALS))
+            for _, row in TINY.iterrows()]
+    npv = np.array([[h["pv_keep"] - h["pv_replace"][a] for a in range(3)] for h in hand])
+    capital = (TINY["replacement_cost_per_m"] * TINY["length_m"]).to_numpy()
+    return result, hand, npv, capital
+
+
+def enumerate_programmes(npv: np.ndarray, capital: np.ndarray, budget: float):
+    """Every choice of 'not renewed' or a year for each main, within every year's budget,
+    with its total NPV: brute force over (W + 1)^M choices, vectorized."""
+    m, w = npv.shape
+    choice = np.array(list(itertools.product(range(-1, w), repeat=m)))
+    spent = np.stack([(capital[None, :] * (choice == a)).sum(axis=1) for a in range(w)], axis=1)
+    ok = np.all(spent <= budget, axis=1)
+    value = np.where(choice >= 0, npv[np.arange(m)[None, :], np.maximum(choice, 0)], 0.0)
+    return choice[ok], value[ok].sum(axis=1)
+
+
+@pytest.mark.reference
+def test_tiny_register_programme_is_the_enumerated_best(tiny):
+    # mains whose capital is above every year's budget cannot be in any programme; every choice
+    # of the others is tried, with the NPVs summed by hand
+    r, _, npv, capital = tiny
+    fits = np.flatnonzero(capital <= TINY_BUDGET)
+    choices, totals = enumerate_programmes(npv[fits], capital[fits], TINY_BUDGET)
+    order = np.argsort(-totals)
+    assert totals[order[0]] > totals[order[1]] + 1.0            # a unique optimum
+    best = np.full(len(TINY), -1)
+    best[fits] = choices[order[0]]
+    scheduled = r.mains["scheduled_year"].fillna(-1).to_numpy(dtype=int)
+    np.testing.assert_array_equal(scheduled, best)
+    assert r.plan.objective == pytest.approx(totals[order[0]], rel=1e-9)
+    # the programme by year, summed here from the enumerated programme
+    for a in range(3):
+        on = best == a
+        row = r.schedule.iloc[a]
+        assert row["mains"] == on.sum()
+        assert row["capital"] == pytest.approx(capital[on].sum(), rel=1e-12)
+        assert row["npv"] == pytest.approx(npv[on, a].sum(), rel=1e-9)
+        assert row["budget_used"] == pytest.approx(capital[on].sum() / TINY_BUDGET, rel=1e-12)
+
+
+@pytest.mark.reference
+def test_statuses_of_the_tiny_register_by_hand(tiny):
+    # each main's status follows from its hand-summed NPVs: renewed; deferred (pays in the
+    # programme's years and fits a year's budget, but not renewed); over budget (pays there,
+    # fits no year); later (pays only at a year after the programme's); keep (never pays)
+    r, hand, npv, capital = tiny
+    expected = []
+    for k, h in enumerate(hand):
+        window = bool((npv[k] > 0).any())
+        ever = any(h["pv_keep"] > pv for pv in h["pv_replace"])
+        if pd.notna(r.mains["scheduled_year"].iloc[k]):
+            expected.append("renew")
+        elif window and capital[k] <= TINY_BUDGET:
+            expected.append("defer")
+        elif window:
+            expected.append("over budget")
+        else:
+            expected.append("later" if ever else "keep")
+    assert r.mains["status"].tolist() == expected
+    # the register was invented so that every status appears
+    assert set(expected) == set(STATUS)
+
+
+@pytest.mark.reference
+def test_rank_is_npv_per_unit_of_capital_by_hand(tiny):
+    # rank 1 is the main of the highest NPV per unit of capital at its best year (NPV from the
+    # hand sums), among mains whose renewal pays; the others have no rank
+    r, hand, _, capital = tiny
+    ratio = {}
+    for k, h in enumerate(hand):
+        best = min(range(40), key=lambda a: h["pv_replace"][a])
+        npv_best = h["pv_keep"] - h["pv_replace"][best]
+        if npv_best > 0:
+            ratio[TINY["main_id"].iloc[k]] = npv_best / capital[k]
+    order = sorted(ratio, key=lambda main_id: -ratio[main_id])
+    ranked = r.mains.dropna(subset=["rank"]).sort_values("rank")
+    assert ranked["main_id"].tolist() == order
+    assert ranked["rank"].tolist() == list(range(1, len(order) + 1))

@@ -256,9 +256,16 @@ def hand_economics(s: RenewalScenario, main: dict) -> dict:
         top = t if s.design_year is None else min(t, s.design_year)
         return main["flow"] * (1.0 + s.flow_growth) ** (top - 1)
 
+    memo: dict = {}
+
     def energy(t, d, eps):
         if main["flow"] == 0:
             return 0.0, 0.0, 0.0, 0.0
+        if (t, d, eps) not in memo:
+            memo[t, d, eps] = pumped_year(t, d, eps)
+        return memo[t, d, eps]
+
+    def pumped_year(t, d, eps):
         q = flow(t)
         v, h = hand_line(s, q, d, eps, main["length"])
         power = s.density * G * q * (main["static_head"] + h) / s.efficiency
