@@ -61,11 +61,24 @@ def demo_result():
     return study.run(study.demo_register())
 
 
+@pytest.mark.reference
 def test_demo_programme_is_consistent(demo_result):
+    # conservation of the money, checked by summing: every year's capital is the sum of the
+    # raw register's cost x length of the mains renewed in it (pandas, on the register itself)
     r = demo_result
     s = r.study
     assert r.success
     assert len(r.mains) + len(r.rejected) == 5000
+    raw = s.demo_register()
+    raw = raw[~raw["main_id"].duplicated(keep=False)].set_index("main_id")
+    renew = r.mains.loc[r.mains["status"] == "renew", ["main_id", "scheduled_year"]]
+    spent = (raw.loc[renew["main_id"], "replacement_cost_per_m"].astype(float).to_numpy()
+             * raw.loc[renew["main_id"], "length_m"].astype(float).to_numpy())
+    by_year_raw = pd.Series(spent).groupby(renew["scheduled_year"].to_numpy(dtype=int)).sum()
+    np.testing.assert_allclose(r.schedule["capital"].to_numpy()[by_year_raw.index.to_numpy()],
+                               by_year_raw.to_numpy(), rtol=1e-12)
+    assert r.schedule["capital"].to_numpy()[
+        np.setdiff1d(np.arange(s.years), by_year_raw.index.to_numpy())].sum() == 0.0
     assert set(r.mains["status"]) <= set(STATUS)
     # every year within its budget, and the schedule table adds up from the mains table
     assert np.all(r.schedule["capital"].to_numpy() <= s.budget)
@@ -118,7 +131,11 @@ def test_fifty_register_mains_agree_with_the_upgrade_study():
         np.testing.assert_allclose(pv, best.table["pv_cost"].to_numpy(), rtol=1e-9)
 
 
+@pytest.mark.reference
 def test_growth_fitted_from_the_register_pooled_by_class():
+    # the two 5-year windows pooled by class with pandas here, and A = ln(recent / prior) / 5
+    # (the ratio of Shamir & Howard's (1979) exponential rate integrated over the windows,
+    # docs/references.md#renewal-programmes)
     study = ProgrammeStudy.demo()
     frame = invented_register(5000, seed=2027, defects=False)
     ev = study.evaluate(frame)
@@ -299,11 +316,13 @@ def test_materials_of_the_demo_cover_the_invented_register():
     assert set(ProgrammeStudy.demo().material_names) == set(INVENTED_MATERIALS)
 
 
+@pytest.mark.reference
 def test_reasons_when_the_best_year_is_after_the_programme():
-    # one cast-iron main of 300 m, breaks growing 8 % a year (8 in the last 5 years: about 2 a
+    # one cast-iron main of 300 m, breaks growing 8 % a year (8 in the last 5 years: 1.94 a
     # year now), 2,000 a metre to replace: breaks alone make its best year about a decade
-    # away (Shamir & Howard 1979 give 8.4 years; the residual credit at the horizon adds a
-    # little); a programme of two years renews it in its second year, before its best year
+    # away (Shamir & Howard 1979 give 8.8 years; yearly steps and the residual credit at the
+    # horizon add a little); a programme of two years renews it in its second year, before its
+    # best year
     data = demo_dict(**{"breaks.growth_from": "material", "programme.years": 2,
                         "programme.budget": 1e7, "breaks.repair_cost": 6000.0,
                         "economics.discount_rate": 0.04})
@@ -315,6 +334,14 @@ def test_reasons_when_the_best_year_is_after_the_programme():
     r = ProgrammeStudy.from_dict(data).run(pd.DataFrame([row]))
     m = r.mains.iloc[0]
     assert 8 <= m["best_year"] <= 12
+    # by hand: the best year of the explicit discounted sums, by exhaustive search, and
+    # Shamir & Howard's continuous optimum t* = ln(ln(1+R) C_r / (C_b N0)) / A just before it
+    main = hand_main(pd.Series(row), {"cast-iron": (0.26e-3, 0.0, 0.08)})
+    hand = hand_economics(hand_scenario(break_cost=6000.0, discount_rate=0.04), main)
+    assert m["best_year"] == min(range(40), key=lambda a: hand["pv_replace"][a])
+    t_star = math.log(math.log(1.04) * 600000.0 / (6000.0 * main["breaks_now"])) / 0.08
+    assert t_star == pytest.approx(8.79, abs=0.01)           # N0 = 8 x 0.08 / (1 - e^-0.4)
+    assert t_star <= m["best_year"] <= t_star + 3
     assert m["status"] == "renew" and m["scheduled_year"] == 1
     assert m["reason"].startswith("renewed before its best year, which is after the "
                                   "programme's years")
@@ -725,3 +752,58 @@ def test_rank_is_npv_per_unit_of_capital_by_hand(tiny):
     ranked = r.mains.dropna(subset=["rank"]).sort_values("rank")
     assert ranked["main_id"].tolist() == order
     assert ranked["rank"].tolist() == list(range(1, len(order) + 1))
+
+
+@pytest.mark.reference
+def test_pooled_growth_fit_is_limited_and_needs_enough_breaks():
+    # pooled windows written here: cast-iron 300 then 100 breaks, A = ln(3)/5 = 0.2197, held at
+    # the study's limit 0.2; pvc 150 then 120, A = ln(1.25)/5 = 0.04463; pe 60 then 40, fewer
+    # than min_fit_breaks = 100: the study's rate (A = ln(r/p)/w, Shamir & Howard 1979's law
+    # over two windows, docs/references.md#renewal-programmes)
+    rows = []
+    for k, (mat, recent, prior) in enumerate([("cast-iron", 300, 100), ("pvc", 150, 120),
+                                              ("pe", 60, 40)]):
+        for j in range(10):
+            rows.append(dict(tiny_row(f"G{k}{j}", mat, 150, 200, 1970, recent // 10, 600),
+                             breaks_prior_5y=prior // 10))
+    study = ProgrammeStudy.demo()
+    ev = study.evaluate(pd.DataFrame(rows))
+    g = ev.growth
+    assert g.loc["cast-iron", "fitted_rate"] == pytest.approx(math.log(3.0) / 5.0, rel=1e-14)
+    assert g.loc["cast-iron", "break_growth_per_year"] == 0.2
+    assert g.loc["pvc", "break_growth_per_year"] == pytest.approx(math.log(1.25) / 5.0,
+                                                                  rel=1e-14)
+    assert g.loc["pe", "break_growth_per_year"] == 0.01            # the demo file's pe rate
+    assert np.isnan(g.loc["pe", "fitted_rate"])
+    # the held rate is the one the mains use: N0 = n A / (1 - e^{-5 A}) with A = 0.2
+    first = ev.table.iloc[0]
+    assert first["breaks_per_year_now"] == pytest.approx(30 * 0.2 / (1 - math.exp(-1.0)),
+                                                         rel=1e-14)
+
+
+@pytest.mark.reference
+def test_pooled_growth_fit_lies_in_the_binomial_interval_of_poisson_counts():
+    # 400 mains of one class with breaks drawn as Poisson counts of the exponential law
+    # (A = 0.06) over two 5-year windows. Given the pooled total n, the recent count is
+    # binomial with p = 1 / (1 + e^{-5 A}) (sum of independent Poisson counts with means in a
+    # fixed ratio: common practice); scipy.stats gives the maximum-likelihood p and its exact
+    # Clopper-Pearson interval, which must hold the fitted and the true rates, through
+    # A = logit(p) / 5
+    from scipy import stats
+
+    a, w = 0.06, 5.0
+    rng = np.random.default_rng(2027)
+    n0 = rng.lognormal(np.log(0.6), 0.7, 400)
+    window = (1.0 - math.exp(-a * w)) / a
+    recent = rng.poisson(n0 * window)
+    prior = rng.poisson(n0 * math.exp(-a * w) * window)
+    rows = [dict(tiny_row(f"B{k}", "ductile-iron", 150, 300, 1990, int(recent[k]), 600),
+                 breaks_prior_5y=int(prior[k])) for k in range(400)]
+    fitted = ProgrammeStudy.demo().evaluate(pd.DataFrame(rows)).growth.loc[
+        "ductile-iron", "fitted_rate"]
+    test = stats.binomtest(int(recent.sum()), int(recent.sum() + prior.sum()))
+    def logit(p):
+        return math.log(p / (1.0 - p)) / w
+    assert fitted == pytest.approx(logit(test.statistic), rel=1e-12)
+    low, high = test.proportion_ci(0.999)
+    assert logit(low) < a < logit(high)
