@@ -274,6 +274,12 @@ def test_validate_agrees_with_a_row_by_row_check_written_here(tmp_path, seed):
                     strict=True):
         frame.loc[r, columns[c]] = junk[rng.integers(0, len(junk))]
     frame.loc[rng.integers(0, 1500, 3), "main_id"] = " "
+    # and the rules that apply only to pumped mains, on pumped rows
+    pumped = frame.index[pd.to_numeric(frame["pumped_flow_m3_h"], errors="coerce") > 0]
+    for k, (column, value) in enumerate([("hours_per_year", "9000"), ("hours_per_year", ""),
+                                         ("static_head_m", "-3"), ("static_head_m", "1200"),
+                                         ("pumped_flow_m3_h", "5000")]):
+        frame.loc[pumped[k], column] = value
     frame.to_csv(tmp_path / "r.csv", index=False)
     reg = read_register(tmp_path / "r.csv", materials=list(INVENTED_MATERIALS),
                         first_year=2027)
