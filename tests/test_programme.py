@@ -30,7 +30,7 @@ import pytest
 
 from pipeopt import plots
 from pipeopt.cli import main
-from pipeopt.programme import STATUS, ProgrammeStudy, evaluate_rows
+from pipeopt.programme import STATUS, ProgrammeStudy, evaluate_rows, pooled_breaks
 from pipeopt.register import INVENTED_MATERIALS, invented_register
 from pipeopt.results import CAUTION
 from pipeopt.studyfile import StudyFileError, read_toml
@@ -807,3 +807,159 @@ def test_pooled_growth_fit_lies_in_the_binomial_interval_of_poisson_counts():
     assert fitted == pytest.approx(logit(test.statistic), rel=1e-12)
     low, high = test.proportion_ci(0.999)
     assert logit(low) < a < logit(high)
+
+
+def tiny_study_data(**changes) -> dict:
+    data = demo_dict(**{"breaks.growth_from": "material", "programme.budget": TINY_BUDGET,
+                        "programme.years": 3, **changes})
+    data["material"] = [{"name": "cast-iron", "roughness": "0.26 mm", "aging": "0.04 mm/yr",
+                         "break_growth": 0.06},
+                        {"name": "pvc", "roughness": "0.007 mm", "aging": "0 mm/yr",
+                         "break_growth": 0.02}]
+    return data
+
+
+@pytest.mark.reference
+def test_a_budget_list_by_year_against_enumeration(tiny):
+    # budgets of 900,000, nothing, then 400,000: the programme is the best of every choice
+    # tried by brute force, with the hand-summed NPVs of the tiny register
+    _, _, npv, capital = tiny
+    budget = np.array([9.0e5, 0.0, 4.0e5])
+    data = tiny_study_data(**{"programme.budget": budget.tolist(), "programme.years": None})
+    r = ProgrammeStudy.from_dict(data).run(TINY)
+    fits = np.flatnonzero(capital <= budget.max())
+    choices, totals = enumerate_programmes(npv[fits], capital[fits], budget)
+    order = np.argsort(-totals)
+    assert totals[order[0]] > totals[order[1]] + 1.0            # a unique optimum
+    best = np.full(len(TINY), -1)
+    best[fits] = choices[order[0]]
+    np.testing.assert_array_equal(r.mains["scheduled_year"].fillna(-1).to_numpy(dtype=int),
+                                  best)
+    assert r.schedule["mains"].iloc[1] == 0 and r.schedule["capital"].iloc[1] == 0.0
+    assert r.plan.objective == pytest.approx(totals[order[0]], rel=1e-9)
+
+
+@pytest.mark.reference
+def test_the_heuristic_on_the_tiny_register_is_bounded_by_enumeration(tiny):
+    # the Lagrangian heuristic: within every budget, no better than the enumerated optimum,
+    # and its bound no lower than it (Fisher 1981: the Lagrangian dual bounds the optimum)
+    _, _, npv, capital = tiny
+    r = ProgrammeStudy.from_dict(tiny_study_data(**{"solver.method": "heuristic"})).run(TINY)
+    fits = np.flatnonzero(capital <= TINY_BUDGET)
+    _, totals = enumerate_programmes(npv[fits], capital[fits], TINY_BUDGET)
+    year = r.mains["scheduled_year"].fillna(-1).to_numpy(dtype=int)
+    for a in range(3):
+        assert capital[year == a].sum() <= TINY_BUDGET
+    value = sum(npv[k, year[k]] for k in range(len(TINY)) if year[k] >= 0)
+    assert r.plan.method == "heuristic"
+    assert r.plan.objective == pytest.approx(value, rel=1e-9)
+    assert value <= totals.max() * (1 + 1e-12)
+    assert r.plan.bound >= totals.max() * (1 - 1e-9)
+
+
+@pytest.mark.reference
+def test_scheduled_npv_and_running_totals_by_hand(tiny):
+    # each renewed main's NPV at its scheduled year from the hand sums, and the programme's
+    # running totals of capital and NPV added up year by year here
+    r, _, npv, capital = tiny
+    year = r.mains["scheduled_year"].fillna(-1).to_numpy(dtype=int)
+    for k in range(len(TINY)):
+        expected = npv[k, year[k]] if year[k] >= 0 else 0.0
+        assert r.mains["npv_scheduled"].iloc[k] == pytest.approx(expected, rel=1e-9, abs=1e-6)
+    capital_run, npv_run = 0.0, 0.0
+    for a in range(3):
+        capital_run += capital[year == a].sum()
+        npv_run += npv[year == a, a].sum()
+        assert r.schedule["cumulative_capital"].iloc[a] == pytest.approx(capital_run, rel=1e-12)
+        assert r.schedule["cumulative_npv"].iloc[a] == pytest.approx(npv_run, rel=1e-9)
+
+
+@pytest.mark.reference
+def test_reasons_of_the_tiny_register_by_hand(tiny):
+    # the reason of each renewed main compares its scheduled year with its best year found by
+    # exhaustive search of the hand sums; its saving's driver is the share of the breaks in the
+    # PV saved there (at least 2/3: mostly from fewer breaks)
+    r, hand, _, _ = tiny
+    for k, h in enumerate(hand):
+        m = r.mains.iloc[k]
+        best = min(range(40), key=lambda a: h["pv_replace"][a])
+        p = h["parts"][best]
+        saved = p["breaks_saved"] + max(p["energy_saved"], 0.0)
+        if m["status"] == "renew":
+            year = int(m["scheduled_year"])
+            start = ("renewed in its best year" if year == best else
+                     "renewed after its best year (budget)" if year > best else
+                     "renewed before its best year")
+            assert m["reason"].startswith(start), m["main_id"]
+        if m["status"] != "keep" and saved > 0:
+            share = p["breaks_saved"] / saved
+            driver = ("saving mostly from fewer breaks" if share >= 2 / 3 else
+                      "saving mostly from energy" if share <= 1 / 3 else
+                      "saving from fewer breaks and energy")
+            assert m["reason"].endswith(driver), m["main_id"]
+
+
+@pytest.mark.reference
+def test_pooled_breaks_are_the_sums_of_the_raw_register():
+    # the two windows summed by class with pandas on the raw register, over the rows that give
+    # both counts (a few prior counts blanked here)
+    frame = invented_register(2000, seed=31, defects=False)
+    frame.loc[::7, "breaks_prior_5y"] = np.nan
+    study = ProgrammeStudy.demo()
+    got = pooled_breaks(frame, study)
+    both = frame[frame["breaks_prior_5y"].notna()]
+    sums = both.groupby("material").agg(breaks_last_5y=("breaks_last_5y", "sum"),
+                                        breaks_prior_5y=("breaks_prior_5y", "sum"),
+                                        mains=("main_id", "count"))
+    for name in study.material_names:
+        for column in ("breaks_last_5y", "breaks_prior_5y", "mains"):
+            assert got.loc[name, column] == sums.loc[name, column], (name, column)
+
+
+@pytest.mark.reference
+def test_history_rates_reach_every_main_by_hand():
+    # growth_from = "history": each class's rate is ln(recent / prior) / 5 of its pooled counts
+    # (pandas here), held within +-0.2, or the study's rate under 100 breaks a window; every
+    # main's rate now is then N0 = n A / (1 - e^{-5 A}) with its class's rate
+    study = ProgrammeStudy.demo()
+    frame = invented_register(2500, seed=32, defects=False)
+    table, _, _ = evaluate_rows(frame, study, pooled=pooled_breaks(frame, study))
+    sums = frame.groupby("material")[["breaks_last_5y", "breaks_prior_5y"]].sum()
+    rate = {}
+    for name, (recent, prior) in sums.iterrows():
+        if min(recent, prior) >= 100:
+            rate[name] = max(-0.2, min(0.2, math.log(recent / prior) / 5.0))
+        else:
+            rate[name] = DEMO_MATERIALS[name][2]
+    for k, row in frame.iterrows():
+        a = rate[row["material"]]
+        assert table["break_growth_per_year"].iloc[k] == pytest.approx(a, rel=1e-13)
+        n0 = row["breaks_last_5y"] * a / (1.0 - math.exp(-5.0 * a))
+        assert table["breaks_per_year_now"].iloc[k] == pytest.approx(n0, rel=1e-12, abs=1e-15)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("changes", "hand_changes"), [
+    ({"energy.price": 0.12, "energy.escalation": 0.02, "energy.demand_charge": 40.0,
+      "pumping.efficiency": 0.74},
+     {"tariff": SimpleNamespace(price=0.12, escalation=0.02, demand_charge=40.0),
+      "efficiency": 0.74}),
+    ({"fluid.temperature": "25 degC"}, {"water_celsius": 25.0}),
+    ({"replacement.aging": "0.01 mm/yr", "replacement.roughness": "0.05 mm",
+      "economics.horizon": 16},
+     {"new_aging": 0.01e-3, "new_roughness": 0.05e-3, "horizon": 16}),
+])
+def test_shared_sections_reach_a_pumped_main_by_hand(changes, hand_changes):
+    # the tariff and pumping, the water's temperature, and the new main's roughness and aging,
+    # from the study file to the PV of keeping the rising main and of renewing it, by hand
+    celsius = hand_changes.pop("water_celsius", 10.0)
+    water = iapws.IAPWS95(T=273.15 + celsius, P=0.101325)
+    s = hand_scenario(density=water.rho, viscosity=water.mu, **hand_changes)
+    study = ProgrammeStudy.from_dict(demo_dict(**{"breaks.growth_from": "material", **changes}))
+    r = study.run(pd.DataFrame([PUMPED_ROW]))
+    hand = hand_economics(s, hand_main(PUMPED_ROW, DEMO_MATERIALS))
+    assert r.mains["energy_kwh_year1"].iloc[0] == pytest.approx(hand["energy1"], rel=1e-11)
+    assert r.mains["pv_keep"].iloc[0] == pytest.approx(hand["pv_keep"], rel=1e-11)
+    npv = [hand["pv_keep"] - pv for pv in hand["pv_replace"][:10]]
+    np.testing.assert_allclose(r.npv_by_year.iloc[0, 1:].to_numpy(dtype=float), npv, rtol=1e-9,
+                               atol=1e-9 * hand["pv_keep"])
