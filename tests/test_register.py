@@ -327,11 +327,11 @@ def test_repeated_ids_are_those_pandas_finds(ids):
 @pytest.mark.reference
 def test_invented_material_shares_are_within_binomial_intervals():
     # the share of each class in INVENTED_MATERIALS (the documented first field) against the
-    # counts of a 12,000-main register (pandas value_counts here): each count lies within the
+    # counts of an 8,000-main register (pandas value_counts here): each count lies within the
     # exact two-sided 99.99 % binomial interval of scipy.stats
     from scipy import stats
 
-    n = 12_000
+    n = 8_000
     frame = invented_register(n, seed=17, defects=False)
     counts = frame["material"].value_counts()
     total = sum(spec[0] for spec in INVENTED_MATERIALS.values())
@@ -355,3 +355,33 @@ def test_invented_years_laid_are_uniform_within_each_class():
         counts = years.value_counts().reindex(range(spec[1], spec[2] + 1), fill_value=0)
         if len(years) / len(counts) >= 10:                # enough mains a year for chi-square
             assert stats.chisquare(counts.to_numpy()).pvalue > 1e-3, name
+
+
+@pytest.mark.reference
+@settings(max_examples=25, deadline=None)
+@given(st.lists(st.tuples(st.floats(0.1, 99_999.0),
+                          st.sampled_from(["{!r}", "{:.17g}", "{:.6e}", " {:.3f}", "{:.15E} ",
+                                           "{:.1f}"])), min_size=1, max_size=40))
+def test_csv_numbers_read_as_python_reads_them(tmp_path_factory, cells):
+    # lengths written in any decimal form read as Python's own float() reads each cell (a
+    # correctly rounded decimal-to-binary conversion, IEEE 754-2008 section 5.12)
+    header = GOOD.splitlines()[0]
+    texts = [form.format(value) for value, form in cells]
+    lines = [f"L{k},pvc,100,{text},1990,0,0,,,310" for k, text in enumerate(texts)]
+    path = tmp_path_factory.mktemp("csv") / "register.csv"
+    path.write_text("\n".join([header, *lines]) + "\n")
+    reg = read_register(path)
+    assert reg.rejected.empty
+    assert reg.mains["length_m"].tolist() == [float(text) for text in texts]
+
+
+@pytest.mark.reference
+def test_invented_costs_grow_with_the_bore():
+    # the documented rule "a replacement cost per metre growing with the bore", within each
+    # class: Spearman's rank correlation of scipy.stats is positive and significant
+    from scipy import stats
+
+    frame = invented_register(6000, seed=29, defects=False)
+    for name, mains in frame.groupby("material"):
+        rho, p = stats.spearmanr(mains["inner_diameter_mm"], mains["replacement_cost_per_m"])
+        assert rho > 0.5 and p < 1e-6, name
