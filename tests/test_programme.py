@@ -535,7 +535,8 @@ DEMO_MATERIALS = {"cast-iron": (0.26e-3, 0.04e-3, 0.05), "asbestos-cement": (0.1
 def hand_main(row, materials: dict, first_year: int = 2027) -> dict:
     """A register row as the model's SI inputs, by hand: the rate now N0 from the breaks of the
     last 5 years, n = int_{-5}^{0} N0 e^{A s} ds (Shamir & Howard 1979's law), so
-    N0 = n A / (1 - e^{-5 A}); the roughness now, new + aging x age; capital = cost x length."""
+    N0 = n A / (1 - e^{-5 A}) (n / 5 when A = 0); the roughness now, new + aging x age;
+    capital = cost x length."""
     rough, aging, a = materials[row["material"]]
     age = first_year - int(row["year_laid"])
     bore = row["inner_diameter_mm"] / 1000.0
@@ -545,7 +546,8 @@ def hand_main(row, materials: dict, first_year: int = 2027) -> dict:
             "aging": aging, "flow": flow,
             "hours": row["hours_per_year"] if flow > 0 else 0.0,
             "static_head": row["static_head_m"] if flow > 0 else 0.0,
-            "breaks_now": row["breaks_last_5y"] * a / (1.0 - math.exp(-5.0 * a)),
+            "breaks_now": (row["breaks_last_5y"] * a / (1.0 - math.exp(-5.0 * a)) if a
+                           else row["breaks_last_5y"] / 5.0),
             "break_growth": a, "capital": row["replacement_cost_per_m"] * row["length_m"],
             "new_diameter": bore if pd.isna(new) else new / 1000.0}
 
@@ -963,3 +965,67 @@ def test_shared_sections_reach_a_pumped_main_by_hand(changes, hand_changes):
     npv = [hand["pv_keep"] - pv for pv in hand["pv_replace"][:10]]
     np.testing.assert_allclose(r.npv_by_year.iloc[0, 1:].to_numpy(dtype=float), npv, rtol=1e-9,
                                atol=1e-9 * hand["pv_keep"])
+
+
+@pytest.mark.reference
+def test_transitional_flow_is_flagged_by_its_reynolds_number():
+    # Re = rho v D / mu by hand with the iapws water: 1.1 m3/h in a 100 mm bore is Re ~ 3,000,
+    # between 2,000 and 4,000 (the laminar and turbulent limits, common practice), flagged, and
+    # its head loss is Colebrook-White's turbulent value (mpmath root in hand_economics);
+    # 5 m3/h is turbulent and not flagged
+    water = iapws.IAPWS95(T=283.15, P=0.101325)
+    rows = [tiny_row(f"R{k}", "pvc", 100, 900, 2000, 0, 300, flow, 4000.0, 15.0)
+            for k, flow in enumerate((1.1, 5.0))]
+    study = ProgrammeStudy.from_dict(tiny_study_data())
+    r = study.run(pd.DataFrame(rows))
+    for k, row in enumerate(rows):
+        q = row["pumped_flow_m3_h"] / 3600.0
+        re = water.rho * (q / (math.pi * 0.1 ** 2 / 4)) * 0.1 / water.mu
+        assert r.mains["transitional_flow"].iloc[k] == (2000 <= re < 4000)
+        hand = hand_economics(hand_scenario(horizon=4), hand_main(pd.Series(row),
+                                                                  TINY_MATERIALS))
+        assert r.mains["head_loss_year1_m"].iloc[k] == pytest.approx(hand["head_loss1"],
+                                                                     rel=1e-11)
+    assert r.mains["transitional_flow"].tolist() == [True, False]
+
+
+@pytest.mark.reference
+def test_roughness_capped_at_the_edge_of_the_moody_chart_by_hand():
+    # a 100 mm cast-iron main laid in 1927 is 4.26 mm rough now (0.26 mm + 0.04 mm/yr x 100
+    # years) and passes eps/D = 0.05, the largest relative roughness of Moody's chart (L. F.
+    # Moody, Trans. ASME 66, 671-684, 1944), in year 20 of 40; a 300 mm main laid in 1990
+    # never does. The PV of keeping each, with the friction held at 0.05, by hand.
+    rows = [tiny_row("C1", "cast-iron", 100, 700, 1927, 2, 400, 20.0, 3000.0, 12.0),
+            tiny_row("C2", "cast-iron", 300, 700, 1990, 2, 700, 150.0, 3000.0, 12.0)]
+    r = ProgrammeStudy.from_dict(tiny_study_data()).run(pd.DataFrame(rows))
+    for k, row in enumerate(rows):
+        main = hand_main(pd.Series(row), TINY_MATERIALS)
+        capped = any((main["roughness"] + main["aging"] * (t - 1)) / main["diameter"] > 0.05
+                     for t in range(1, 41))
+        assert r.mains["roughness_capped"].iloc[k] == capped
+        hand = hand_economics(hand_scenario(), main)
+        assert r.mains["pv_keep"].iloc[k] == pytest.approx(hand["pv_keep"], rel=1e-11)
+    assert r.mains["roughness_capped"].tolist() == [True, False]
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("recent", "prior"), [(120, 150), (130, 130)])
+def test_falling_and_steady_break_rates_by_hand(recent, prior):
+    # pooled windows of 120 then 150 breaks give A = ln(0.8)/5 < 0 (fewer breaks each year),
+    # 130 and 130 give A = 0, where the rate now is the mean count n / 5 (the limit of
+    # n A / (1 - e^{-5A})); the mains' rates now and PVs of keeping by hand
+    rows = [dict(tiny_row(f"F{j}", "pvc", 150, 300, 1980, recent // 10, 500),
+                 breaks_prior_5y=prior // 10) for j in range(10)]
+    r = ProgrammeStudy.from_dict(tiny_study_data(**{"breaks.growth_from": "history"})).run(
+        pd.DataFrame(rows))
+    a = math.log(recent / prior) / 5.0
+    assert r.growth.loc["pvc", "break_growth_per_year"] == pytest.approx(a, abs=1e-15)
+    n0 = recent // 10 / 5.0 if a == 0 else recent // 10 * a / (1.0 - math.exp(-5.0 * a))
+    main = hand_main(pd.Series(rows[0]), {"pvc": (0.007e-3, 0.0, a)})
+    hand = hand_economics(hand_scenario(), main)
+    m = r.mains.iloc[0]
+    assert m["breaks_per_year_now"] == pytest.approx(n0, rel=1e-12)
+    assert m["pv_keep"] == pytest.approx(hand["pv_keep"], rel=1e-11)
+    np.testing.assert_allclose(r.npv_by_year.iloc[0, 1:].to_numpy(dtype=float),
+                               [hand["pv_keep"] - pv for pv in hand["pv_replace"][:3]],
+                               rtol=1e-9, atol=1e-9 * hand["pv_keep"])
