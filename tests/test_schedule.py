@@ -57,6 +57,7 @@ def lp_relaxation(npv, capital, budget) -> float:
 @pytest.mark.reference
 @pytest.mark.parametrize("seed", range(12))
 def test_milp_equals_exhaustive_enumeration(seed):
+    # brute force: enumerate_best tries every one of the 4^7 programmes (written here)
     npv, capital, budget = instance(seed, 7, 3)
     best = enumerate_best(npv, capital, budget)
     s = schedule_renewals(npv, capital, budget, method="milp", mip_gap=0.0)
@@ -72,6 +73,8 @@ def test_milp_equals_exhaustive_enumeration(seed):
 @pytest.mark.reference
 @pytest.mark.parametrize("seed", range(12))
 def test_heuristic_is_feasible_and_its_bound_holds(seed):
+    # the optimum by exhaustive enumeration (written here) and the LP relaxation solved by
+    # scipy.optimize.linprog, which bounds every programme (common practice)
     npv, capital, budget = instance(seed, 7, 3)
     best = enumerate_best(npv, capital, budget)
     lp = lp_relaxation(npv, capital, budget)
