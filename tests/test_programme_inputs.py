@@ -1,11 +1,21 @@
-"""Tests of pipeopt.programme_inputs: the programme file's own sections and its reader."""
+"""Tests of pipeopt.programme_inputs: the programme file's own sections and its reader.
+
+Reference checks name their source beside the value: the exact definitions of the units
+(NIST Special Publication 811, 2008, appendix B: 1 in = 0.0254 m, 1 ft = 0.3048 m exactly;
+the SI prefixes of the SI Brochure, 9th edition, 2019, table 7), compound growth written out,
+and the water of the [fluid] section against the iapws package (IAPWS-95 density, IAPWS 2008
+viscosity; docs/references.md#water-properties).
+"""
 
 from __future__ import annotations
 
 from pathlib import Path
 
+import iapws
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from pipeopt.errors import InputError
 from pipeopt.inputs import Economics, FluidSpec, Pumping, StudyInfo
@@ -81,8 +91,10 @@ def test_solver_options_rules():
         SolverOptions(time_limit=0)
 
 
+@pytest.mark.reference
 def test_flow_growth_has_the_rules_of_a_sizing_study():
-    # flow multipliers (1 + g)^(min(t, T_d) - 1), worked here for g = 10 %, T_d = 3
+    # flow multipliers (1 + g)^(min(t, T_d) - 1), compound growth (common practice), worked
+    # here by hand for g = 10 %, T_d = 3
     grown = flow_growth({"growth": 0.1, "design_year": 3})
     np.testing.assert_allclose(grown.multipliers(5), [1.0, 1.1, 1.21, 1.21, 1.21],
                                rtol=1e-14)
@@ -120,3 +132,85 @@ def test_read_programme_refuses_before_any_physics():
     with pytest.raises(StudyFileError, match=r"programme\.year: unknown key; did you mean "
                                              r"'programme\.years'\?"):
         read_programme(data, ROOT)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("text", "metres"), [
+    ("0.26 mm", 0.26e-3),                  # SI Brochure table 7: milli = 1e-3
+    ("260 um", 260e-6),                    # micro = 1e-6
+    ("0.026 cm", 0.026e-2),                # centi = 1e-2
+    ("0.0102 in", 0.0102 * 0.0254),        # NIST SP 811: 1 in = 0.0254 m exactly
+    ("0.001 ft", 0.001 * 0.3048),          # NIST SP 811: 1 ft = 0.3048 m exactly
+    ("26 thou", 26 * 0.001 * 0.0254),      # NIST SP 811: 1 mil (thou) = 0.001 in
+])
+def test_roughness_of_a_class_and_of_the_new_main_in_any_length_unit(text, metres):
+    assert MaterialClass("cast-iron", text, "0 mm/yr", 0.05).roughness == pytest.approx(
+        metres, rel=1e-14)
+    assert NewMain(text).roughness == pytest.approx(metres, rel=1e-14)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("text", "metres_per_year"), [
+    ("0.04 mm/yr", 0.04e-3),               # SI Brochure table 7: milli = 1e-3
+    ("40 um/yr", 40e-6),                   # micro = 1e-6
+    ("0.0016 in/yr", 0.0016 * 0.0254),     # NIST SP 811: 1 in = 0.0254 m exactly
+    ("4 cm/century", 4e-2 / 100.0),        # a century is 100 years
+])
+def test_aging_of_a_class_and_of_the_new_main_in_any_rate_unit(text, metres_per_year):
+    assert MaterialClass("cast-iron", "0.26 mm", text, 0.05).aging == pytest.approx(
+        metres_per_year, rel=1e-14)
+    assert NewMain("0.03 mm", text).aging == pytest.approx(metres_per_year, rel=1e-14)
+
+
+@pytest.mark.reference
+@settings(max_examples=60, deadline=None)
+@given(st.floats(-0.2, 0.3), st.one_of(st.none(), st.integers(1, 60)), st.integers(1, 80))
+def test_flow_multipliers_are_compound_growth_to_the_design_year(growth, design_year, years):
+    # (1 + g)^(min(t, T_d) - 1) for t = 1..N, written out in plain Python (common practice)
+    spec = {"growth": growth} if design_year is None else {"growth": growth,
+                                                          "design_year": design_year}
+    got = flow_growth(spec).multipliers(years)
+    top = years if design_year is None else design_year
+    expected = [(1.0 + growth) ** (min(t, top) - 1) for t in range(1, years + 1)]
+    np.testing.assert_allclose(got, expected, rtol=1e-13)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize("celsius", [4.0, 10.0, 25.0])
+def test_the_water_of_a_programme_file_is_iapws_water(celsius):
+    # [fluid] kind = "water" at 1 atm: IAPWS-95 density and IAPWS 2008 viscosity by the iapws
+    # package, an implementation independent of pipeopt.water
+    data = dict(DEMO, fluid={"kind": "water", "temperature": f"{celsius} degC"})
+    fluid = read_programme(data, ROOT)["fluid"].build()
+    water = iapws.IAPWS95(T=273.15 + celsius, P=0.101325)
+    assert fluid.density == pytest.approx(water.rho, rel=1e-12)
+    assert fluid.viscosity == pytest.approx(water.mu, rel=1e-12)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("temperature", "pressure", "kelvin", "megapascal"), [
+    ("50 degF", None, (50.0 + 459.67) / 1.8, 0.101325),      # NIST SP 811: T/K = (t/F + 459.67)/1.8
+    ("300 K", "10 bar", 300.0, 1.0),                          # SI Brochure table 8: 1 bar = 1e5 Pa
+    # NIST SP 811: 1 lbf/in2 = 0.45359237 kg x 9.80665 m/s2 / (0.0254 m)^2 exactly
+    ("50 degF", "30 psi", (50.0 + 459.67) / 1.8, 30 * 0.45359237 * 9.80665 / 0.0254 ** 2 / 1e6),
+])
+def test_the_fluid_state_in_any_units_is_the_iapws_state(temperature, pressure, kelvin,
+                                                         megapascal):
+    # the state converted by the units' exact definitions, then water from the iapws package
+    fluid_section = {"kind": "water", "temperature": temperature}
+    if pressure is not None:
+        fluid_section["pressure"] = pressure
+    fluid = read_programme(dict(DEMO, fluid=fluid_section), ROOT)["fluid"].build()
+    water = iapws.IAPWS95(T=kelvin, P=megapascal)
+    assert fluid.density == pytest.approx(water.rho, rel=1e-12)
+    assert fluid.viscosity == pytest.approx(water.mu, rel=1e-12)
+
+
+@pytest.mark.reference
+def test_a_custom_fluid_in_us_units():
+    # 62.4 lb/ft3 and 1.2 cP: NIST SP 811, 1 lb = 0.45359237 kg and 1 ft = 0.3048 m exactly;
+    # 1 P = 0.1 Pa s (CGS unit of dynamic viscosity), so 1 cP = 1e-3 Pa s
+    data = dict(DEMO, fluid={"kind": "custom", "density": "62.4 lb/ft^3", "viscosity": "1.2 cP"})
+    fluid = read_programme(data, ROOT)["fluid"].build()
+    assert fluid.density == pytest.approx(62.4 * 0.45359237 / 0.3048 ** 3, rel=1e-14)
+    assert fluid.viscosity == pytest.approx(1.2e-3, rel=1e-14)

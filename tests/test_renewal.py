@@ -9,6 +9,7 @@ docs/references.md#renewal).
 import math
 
 import mpmath as mp
+import numpy as np
 import pytest
 
 from pipeopt.errors import InputError
@@ -61,6 +62,7 @@ def test_errors():
         shamir_howard_replacement_time(0.0, 0.05, 1.0, 1.0, 0.05)
 
 
+@pytest.mark.reference
 def test_break_rate_from_a_window_count():
     # the count of the last w years is the integral of N0 e^{A s} over (-w, 0) (Shamir & Howard
     # 1979's law); scipy's quad integrates it independently
@@ -75,8 +77,10 @@ def test_break_rate_from_a_window_count():
     assert out.tolist()[1] == 0.0
 
 
+@pytest.mark.reference
 def test_break_growth_from_two_windows():
-    # the counts of two successive windows under N0 e^{A s} are in the ratio e^{A w}
+    # the counts of two successive windows under N0 e^{A s} (Shamir & Howard 1979's law) are in
+    # the ratio e^{A w}; scipy's quad integrates the rate over each window independently
     from scipy.integrate import quad
 
     from pipeopt.renewal import break_growth_from_counts
@@ -87,3 +91,25 @@ def test_break_growth_from_two_windows():
     assert break_growth_from_counts(recent, prior, 5.0) == pytest.approx(a, rel=1e-12)
     with pytest.raises(InputError, match="must be positive to fit a growth rate"):
         break_growth_from_counts(3.0, 0.0, 5.0)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("n0", "a"), [(0.7, 0.05), (2.4, -0.03), (1.5, 0.0)])
+def test_rate_from_a_poisson_count_is_unbiased(n0, a):
+    # breaks of a window counted as a Poisson variable of mean mu = int_{-5}^{0} N0 e^{A s} ds
+    # (Shamir & Howard 1979's law); the expectation of the rate inferred from the count,
+    # summed over scipy.stats.poisson's probabilities, is the true rate N0, and its variance
+    # is N0^2 / mu (the Poisson variance mu times (N0 / mu)^2)
+    from scipy import stats
+    from scipy.integrate import quad
+
+    from pipeopt.renewal import break_rate_from_count
+
+    mu = quad(lambda s: n0 * math.exp(a * s), -5.0, 0.0)[0]
+    k = np.arange(0, 120)
+    p = stats.poisson.pmf(k, mu)
+    rate = break_rate_from_count(k.astype(float), 5.0, a)
+    assert p.sum() == pytest.approx(1.0, abs=1e-14)
+    assert float(p @ rate) == pytest.approx(n0, rel=1e-12)
+    mean = float(p @ rate)
+    assert float(p @ (rate - mean) ** 2) == pytest.approx(n0 * n0 / mu, rel=1e-10)

@@ -8,7 +8,12 @@ Checks, each with its source:
 - Shamir & Howard (1979), "An analytic approach to scheduling pipe replacement", J. AWWA
   71(5):248-258: for breaks only, the optimal replacement time
   t* = (1/A) ln(ln(1+R) C_r / (C_b N0)), written out here, within one year of the yearly scan;
-- a three-year case computed by hand from the module's conventions.
+- a three-year case computed by hand from the module's conventions;
+- the whole model written out in this file (hand_economics: velocity, Darcy-Weisbach head loss
+  with a Colebrook-White root found by mpmath, energy, tariff, Shamir & Howard's breaks, and
+  every present value as an explicit year-by-year discounted sum): pumped and unpumped mains,
+  an aging new main, the benefit-cost ratio, the edge of Moody's chart, and the best year by
+  exhaustive search over the years of action.
 """
 
 from __future__ import annotations
@@ -16,6 +21,7 @@ from __future__ import annotations
 import dataclasses
 import math
 
+import mpmath as mp
 import numpy as np
 import pytest
 
@@ -110,6 +116,7 @@ def test_benefit_cost_ratio_agrees_with_the_upgrade_summary():
                                                  abs=1e-9 * row["pv_cost"])
 
 
+@pytest.mark.reference
 @pytest.mark.parametrize(
     ("n0", "a", "cb", "cr", "rate"),
     [(2.0, 0.08, 1e4, 1.5e6, 0.05), (5.0, 0.05, 8e3, 2e6, 0.04), (1.0, 0.12, 1.5e4, 3e6, 0.06),
@@ -132,9 +139,12 @@ def test_breaks_only_best_year_is_shamir_howard(n0, a, cb, cr, rate):
     assert e.npv_best[0] > 0
 
 
+@pytest.mark.reference
 def test_three_years_by_hand():
     # breaks 2 a year now growing 10 %, 1,000 a repair; capital 5,000, life 10 years,
     # maintenance 1 % a year, 5 % real; year t costs b_t = 2 (e^0.1 - 1)/0.1 e^{0.1 (t-1)} 1000
+    # (Shamir & Howard 1979's rate integrated over the year), every amount discounted by
+    # 1.05^-t and summed by hand (docs/references.md#economics, #renewal-programmes)
     s = RenewalScenario(density=WATER.density, viscosity=WATER.viscosity, efficiency=0.7,
                         tariff=EnergyTariff(0.1), discount_rate=0.05, horizon=3,
                         break_cost=1000.0, new_roughness=1e-4, life=10.0, maintenance=0.01)
@@ -171,6 +181,7 @@ def test_results_do_not_depend_on_how_mains_are_split():
             assert np.array_equal(getattr(whole, name), joined), name
 
 
+@pytest.mark.reference
 def test_a_main_that_is_not_pumped_has_no_energy_and_pumping_costs_energy():
     s = scenario(0.0, 0.0)
     m = Mains(length=[500.0, 500.0], diameter=[0.2, 0.2], roughness=[2e-3, 2e-3],
@@ -181,6 +192,13 @@ def test_a_main_that_is_not_pumped_has_no_energy_and_pumping_costs_energy():
     assert e.energy_kwh_year1[0] == 0.0 and e.pv_keep[0] == 0.0
     # 0.02 m3/s lifted 20 m plus friction at 70 %: more than rho g Q z / eta x hours
     assert e.energy_kwh_year1[1] > WATER.density * 9.80665 * 0.02 * 20.0 / 0.7 * 6000 / 1000
+    # and exactly rho g Q (z + h) / eta x hours with h by Darcy-Weisbach and a Colebrook-White
+    # root in mpmath (hand_line below)
+    v, h = hand_line(s, 0.02, 0.2, 2e-3, 500.0)
+    assert e.velocity_year1[1] == pytest.approx(v, rel=1e-14)
+    assert e.head_loss_year1[1] == pytest.approx(h, rel=1e-11)
+    assert e.energy_kwh_year1[1] == pytest.approx(
+        WATER.density * G * 0.02 * (20.0 + h) / 0.7 * 6000 / 1000, rel=1e-11)
     # the rough old main costs more to pump through than the smooth new one
     assert e.pv_saving_energy[1] > 0
 
@@ -199,3 +217,187 @@ def test_errors_name_the_input():
         Mains(**{**good, "hours": [9000.0]})
     with pytest.raises(InputError, match="discount_rate is out of range"):
         RenewalScenario(998.0, 1e-3, 0.7, EnergyTariff(0.1), -0.01, 40, 1000.0, 1e-5)
+
+
+# ----- the model written out by hand: Colebrook-White root in mpmath, explicit discounted sums -
+G = 9.80665          # standard gravity, m/s2 (CGPM 1901; common practice)
+
+
+def colebrook_root(re: float, rr: float) -> float:
+    """Darcy friction factor: the root of Colebrook-White (Colebrook 1939, J. Inst. Civil Eng.
+    11(4), 133-156), 1/sqrt(f) = -2 log10(rr/3.7 + 2.51/(Re sqrt(f))), by mpmath at 30 digits."""
+    with mp.workdps(30):
+        x = mp.findroot(lambda x: x + 2 * mp.log10(mp.mpf(rr) / mp.mpf("3.7")
+                                                   + mp.mpf("2.51") * x / mp.mpf(re)), 7)
+        return float(1 / x ** 2)
+
+
+def hand_line(s: RenewalScenario, q: float, d: float, eps: float, length: float):
+    """Velocity and Darcy-Weisbach head loss h = (f L/D + K) v^2/2g, f at eps/D (at most 0.05,
+    the largest relative roughness of Moody's 1944 chart)."""
+    v = q / (math.pi * d * d / 4.0)
+    f = colebrook_root(s.density * v * d / s.viscosity, min(eps / d, 0.05))
+    return v, (f * length / d + s.minor_loss_k) * v * v / (2.0 * G)
+
+
+def hand_economics(s: RenewalScenario, main: dict) -> dict:
+    """PV of keeping one main and of replacing it in each year a = 0..N-1, summed year by year.
+
+    Breaks: the rate N0 e^{A s} integrated over year t, times a repair (Shamir & Howard 1979);
+    energy: P = rho g Q (z + h)/eta, E = P hours, cost E p (1+e)^(t-1) + d P; each year
+    discounted by (1+i)^-t; the capital at a, the new main's upkeep m C after it, its
+    straight-line residual C max(0, 1 - (N-a)/T) credited at N (docs/references.md#economics).
+    """
+    n, i = s.horizon, s.discount_rate
+    disc = [(1.0 + i) ** -t for t in range(n + 1)]
+    n0, a_br, c = main["breaks_now"], main["break_growth"], main["capital"]
+
+    def flow(t):
+        top = t if s.design_year is None else min(t, s.design_year)
+        return main["flow"] * (1.0 + s.flow_growth) ** (top - 1)
+
+    memo: dict = {}
+
+    def energy(t, d, eps):
+        if main["flow"] == 0:
+            return 0.0, 0.0, 0.0, 0.0
+        if (t, d, eps) not in memo:
+            memo[t, d, eps] = pumped_year(t, d, eps)
+        return memo[t, d, eps]
+
+    def pumped_year(t, d, eps):
+        q = flow(t)
+        v, h = hand_line(s, q, d, eps, main["length"])
+        power = s.density * G * q * (main["static_head"] + h) / s.efficiency
+        kwh = power * main["hours"] / 1000.0
+        cost = (kwh * s.tariff.price * (1.0 + s.tariff.escalation) ** (t - 1)
+                + s.tariff.demand_charge * power / 1000.0)
+        return cost, kwh, h, v
+
+    years = range(1, n + 1)
+    breaks = {t: s.break_cost * n0 * (math.exp(a_br * t) - math.exp(a_br * (t - 1))) / a_br
+              if a_br else s.break_cost * n0 for t in years}
+    old = {t: energy(t, main["diameter"], main["roughness"] + main["aging"] * (t - 1))
+           for t in years}
+    keep = {t: breaks[t] + old[t][0] for t in years}
+    pv_keep = math.fsum(keep[t] * disc[t] for t in years)
+    out = {"pv_keep": pv_keep, "pv_replace": [], "parts": [], "energy1": old[1][1],
+           "head_loss1": old[1][2], "velocity1": old[1][3]}
+    for a in range(n):
+        after = [t for t in years if t > a]
+        new_energy = math.fsum(energy(t, main["new_diameter"],
+                                      s.new_roughness + s.new_aging * (t - a - 1))[0] * disc[t]
+                               for t in after)
+        upkeep = math.fsum(s.maintenance * c * disc[t] for t in after)
+        go_on = math.fsum(s.break_factor * breaks[t] * disc[t] for t in after)
+        net_capital = c * disc[a] - c * max(0.0, 1.0 - (n - a) / s.life) * disc[n]
+        before = math.fsum(keep[t] * disc[t] for t in years if t <= a)
+        out["pv_replace"].append(before + net_capital + new_energy + upkeep + go_on)
+        out["parts"].append({
+            "breaks_saved": math.fsum((1.0 - s.break_factor) * breaks[t] * disc[t]
+                                      for t in after),
+            "energy_saved": math.fsum(old[t][0] * disc[t] for t in after) - new_energy,
+            "upkeep": upkeep, "net_capital": net_capital})
+    return out
+
+
+def one_main(**values) -> Mains:
+    return Mains(**{k: [v] for k, v in values.items()})
+
+
+@pytest.mark.reference
+def test_best_year_is_the_least_of_an_explicit_discounted_sum():
+    # exhaustive search over every year of action of the present value written out above
+    # (explicit sums: Shamir & Howard's breaks, capital, upkeep, a quarter of the breaks going
+    # on after renewal, the straight-line residual)
+    s = RenewalScenario(density=WATER.density, viscosity=WATER.viscosity, efficiency=0.7,
+                        tariff=EnergyTariff(0.1), discount_rate=0.045, horizon=30,
+                        break_cost=9000.0, new_roughness=1e-4, life=50.0, maintenance=0.004,
+                        break_factor=0.25)
+    main = {"length": 600.0, "diameter": 0.25, "roughness": 1e-3, "aging": 0.0, "flow": 0.0,
+            "hours": 0.0, "static_head": 0.0, "breaks_now": 1.6, "break_growth": 0.09,
+            "capital": 540000.0, "new_diameter": 0.25}
+    hand = hand_economics(s, main)
+    best = min(range(30), key=lambda a: hand["pv_replace"][a])
+    e = evaluate_mains(s, one_main(**main))
+    assert 0 < best < 29                       # an interior optimum, not the horizon's edge
+    assert int(e.best_year[0]) == best
+    assert e.pv_keep[0] == pytest.approx(hand["pv_keep"], rel=1e-12)
+    np.testing.assert_allclose(e.pv_replace[0], hand["pv_replace"], rtol=1e-12)
+    assert e.npv_best[0] == pytest.approx(hand["pv_keep"] - hand["pv_replace"][best], rel=1e-11)
+
+
+PUMPED = {"length": 2400.0, "diameter": 0.28, "roughness": 1.2e-3, "aging": 3e-5,
+          "flow": 0.055, "hours": 5200.0, "static_head": 18.0, "breaks_now": 0.8,
+          "break_growth": 0.05, "capital": 1.3e6, "new_diameter": 0.3}
+
+
+def pumped_scenario(**changes) -> RenewalScenario:
+    base = {"density": WATER.density, "viscosity": WATER.viscosity, "efficiency": 0.72,
+            "tariff": EnergyTariff(0.14, 0.012, 35.0), "discount_rate": 0.035, "horizon": 20,
+            "break_cost": 6500.0, "new_roughness": 3e-5, "life": 70.0, "maintenance": 0.003,
+            "minor_loss_k": 4.0, "flow_growth": 0.012, "design_year": 9}
+    return RenewalScenario(**{**base, **changes})
+
+
+@pytest.mark.reference
+def test_a_pumped_main_by_hand():
+    # velocity, Darcy-Weisbach head loss with a Colebrook-White root found by mpmath, energy,
+    # tariff and every discounted sum written out in hand_economics; the old main ages, flows
+    # grow 1.2 % a year until year 9
+    s = pumped_scenario()
+    hand = hand_economics(s, PUMPED)
+    e = evaluate_mains(s, one_main(**PUMPED))
+    assert e.velocity_year1[0] == pytest.approx(0.055 / (math.pi * 0.28 ** 2 / 4), rel=1e-14)
+    assert e.head_loss_year1[0] == pytest.approx(hand["head_loss1"], rel=1e-11)
+    assert e.energy_kwh_year1[0] == pytest.approx(hand["energy1"], rel=1e-11)
+    assert e.pv_keep[0] == pytest.approx(hand["pv_keep"], rel=1e-11)
+    np.testing.assert_allclose(e.pv_replace[0], hand["pv_replace"], rtol=1e-11)
+    assert int(e.best_year[0]) == int(np.argmin(hand["pv_replace"]))
+    assert not e.roughness_capped[0] and not e.transitional[0]
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize("flow_growth", [0.0, 0.012])
+def test_an_aging_new_main_by_hand(flow_growth):
+    # the new main roughens by 0.02 mm a year from its year of laying: its energy depends on
+    # the year (flow) and on its age t - a - 1, summed by hand for every year of action
+    s = pumped_scenario(new_aging=2e-5, flow_growth=flow_growth, horizon=14)
+    hand = hand_economics(s, PUMPED)
+    e = evaluate_mains(s, one_main(**PUMPED))
+    assert e.pv_keep[0] == pytest.approx(hand["pv_keep"], rel=1e-11)
+    np.testing.assert_allclose(e.pv_replace[0], hand["pv_replace"], rtol=1e-11)
+
+
+@pytest.mark.reference
+def test_benefit_cost_ratio_and_savings_by_hand():
+    # at the best year a: B/C = (PV breaks avoided + PV energy saved - PV upkeep) / (capital at
+    # a less its discounted residual), each PV summed year by year in hand_economics
+    s = pumped_scenario(break_factor=0.1)
+    main = dict(PUMPED, breaks_now=2.5, break_growth=0.07)
+    hand = hand_economics(s, main)
+    e = evaluate_mains(s, one_main(**main))
+    a = int(np.argmin(hand["pv_replace"]))
+    assert int(e.best_year[0]) == a
+    p = hand["parts"][a]
+    assert e.pv_saving_breaks[0] == pytest.approx(p["breaks_saved"], rel=1e-11)
+    assert e.pv_saving_energy[0] == pytest.approx(p["energy_saved"], rel=1e-9)
+    assert e.pv_maintenance_new[0] == pytest.approx(p["upkeep"], rel=1e-12)
+    assert e.pv_net_capital[0] == pytest.approx(p["net_capital"], rel=1e-12)
+    ratio = (p["breaks_saved"] + p["energy_saved"] - p["upkeep"]) / p["net_capital"]
+    assert e.benefit_cost_ratio[0] == pytest.approx(ratio, rel=1e-10)
+
+
+@pytest.mark.reference
+def test_relative_roughness_is_held_at_the_edge_of_the_moody_chart():
+    # a 100 mm main whose roughness grows 0.2 mm a year from 4.5 mm passes eps/D = 0.05 in its
+    # fourth year; from then on the friction factor is Colebrook-White's at 0.05, the largest
+    # relative roughness of Moody's chart (L. F. Moody, Trans. ASME 66, 671-684, 1944)
+    s = pumped_scenario(horizon=8, flow_growth=0.0, design_year=None)
+    main = dict(PUMPED, diameter=0.1, new_diameter=0.1, roughness=4.5e-3, aging=2e-4,
+                flow=0.012, length=800.0)
+    hand = hand_economics(s, main)
+    e = evaluate_mains(s, one_main(**main))
+    assert e.roughness_capped[0]
+    assert e.pv_keep[0] == pytest.approx(hand["pv_keep"], rel=1e-11)
+    np.testing.assert_allclose(e.pv_replace[0], hand["pv_replace"], rtol=1e-11)
