@@ -79,6 +79,7 @@ from .programme_inputs import (
     SolverOptions,
     flow_growth,
     read_programme,
+    wire_to_water,
 )
 from .register import (
     BREAK_WINDOW,
@@ -370,7 +371,7 @@ class ProgrammeStudy(FrozenStudy, StudyFileMixin):
         self.years = int(self.budget.size)
         self.scenario = RenewalScenario(
             density=fluid.density, viscosity=fluid.viscosity,
-            efficiency=self.pumping.efficiency, tariff=tariff,
+            efficiency=wire_to_water(self.pumping), tariff=tariff,
             discount_rate=economics.discount_rate, horizon=economics.horizon,
             break_cost=breaks.repair_cost, new_roughness=replacement.roughness,
             new_aging=replacement.aging, life=economics.pipe_life,

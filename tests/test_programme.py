@@ -1036,21 +1036,20 @@ def test_falling_and_steady_break_rates_by_hand(recent, prior):
                                rtol=1e-9, atol=1e-9 * hand["pv_keep"])
 
 
-@pytest.mark.xfail(strict=True, raises=TypeError,
-                   reason="known bug: [pumping] pump_efficiency and motor_efficiency (keys of "
-                          "the shared section) reach RenewalScenario as efficiency None and "
-                          "fail there with a TypeError (the CLI says 'internal error')")
 def test_pump_and_motor_efficiencies_are_taken_or_refused_by_name():
-    # either the wire-to-water product pump x motor (common practice) or a refusal that
-    # names the key; never an internal error
+    # the wire-to-water product pump x motor x drive (common practice: efficiencies of a pump
+    # train in series multiply); one station's pump curve or NPSH is refused by name, never an
+    # internal error
     data = demo_dict(**{"pumping.efficiency": None, "pumping.pump_efficiency": 0.8,
                         "pumping.motor_efficiency": 0.93})
-    try:
-        study = ProgrammeStudy.from_dict(data)
-    except StudyFileError as err:
-        assert str(err).startswith("pumping.")
-    else:
-        assert study.scenario.efficiency == pytest.approx(0.8 * 0.93, rel=1e-12)
+    study = ProgrammeStudy.from_dict(data)
+    assert study.scenario.efficiency == pytest.approx(0.8 * 0.93, rel=1e-12)
+    for key, value in (("bep_efficiency", 0.8), ("npsh_required", "3 m")):
+        bad = demo_dict(**{"pumping.efficiency": None, f"pumping.{key}": value})
+        with pytest.raises(StudyFileError, match=rf"^pumping\.{key}: a renewal programme"):
+            ProgrammeStudy.from_dict(bad)
+    with pytest.raises(StudyFileError, match=r"^pumping\.efficiency: required key is missing"):
+        ProgrammeStudy.from_dict(demo_dict(**{"pumping.efficiency": None}))
 
 
 @pytest.mark.reference
