@@ -224,6 +224,42 @@ class Pumping(InputSection):
         if self.npsh_margin is not None and self.npsh_required is None:
             raise InputError(f"{path}.npsh_margin: needs npsh_required")
 
+    #: Keys that describe one station's pump (a curve, its control, NPSH, its elevation).
+    ONE_STATION_KEYS = ("bep_efficiency", "bep_flow", "control", "shutoff_head_ratio",
+                        "npsh_required", "npsh_margin", "elevation")
+
+    def wire_to_water(self, study: str) -> float:
+        """One wire-to-water efficiency, for studies that price pumping with a single one.
+
+        ``efficiency`` as given, or ``pump_efficiency`` × ``motor_efficiency`` ×
+        ``drive_efficiency`` (each 1 when not given: the efficiencies of a pump train in series
+        multiply, common practice).
+
+        Parameters
+        ----------
+        study : str
+            What prices the pumping this way (for the message), e.g. "a renewal programme".
+
+        Raises
+        ------
+        InputError
+            For a key of one station's pump (:data:`ONE_STATION_KEYS`), and when no efficiency
+            is given.
+        """
+        for key in self.ONE_STATION_KEYS:
+            if getattr(self, key) is not None:
+                raise InputError(f"pumping.{key}: {study} prices its pumping with one "
+                                 f"wire-to-water efficiency; give efficiency, or pump_efficiency "
+                                 f"(with motor_efficiency, drive_efficiency)")
+        if self.efficiency is not None:
+            return float(self.efficiency)
+        if self.pump_efficiency is not None:
+            return float(self.pump_efficiency
+                         * (1.0 if self.motor_efficiency is None else self.motor_efficiency)
+                         * (1.0 if self.drive_efficiency is None else self.drive_efficiency))
+        raise InputError("pumping.efficiency: required key is missing (e.g. efficiency = 0.70, "
+                         "or pump_efficiency with motor_efficiency)")
+
     def pump_set(self, duty: DutyProfile) -> PumpSet:
         """The :class:`~pipeopt.pumpset.PumpSet` of these settings and the duty's efficiencies.
 

@@ -285,37 +285,10 @@ MOVED = {("pumping", "minor_loss_k"): "pumped_mains.minor_loss_k",
          ("replacement", "maintenance"): "economics.pipe_maintenance, as in a sizing study"}
 
 
-#: Keys of the shared [pumping] section that describe one station's pump, not a register's mains.
-_ONE_STATION_KEYS = ("bep_efficiency", "bep_flow", "control", "shutoff_head_ratio",
-                     "npsh_required", "npsh_margin", "elevation")
-
-
 def wire_to_water(pumping: Pumping) -> float:
-    """The one wire-to-water efficiency a programme prices every pumped main's energy with.
-
-    ``efficiency`` as given, or ``pump_efficiency`` × ``motor_efficiency`` ×
-    ``drive_efficiency`` (each 1 when not given: common practice, the efficiencies of a pump
-    train in series multiply).
-
-    Raises
-    ------
-    StudyFileError
-        For a key of one station's pump (a curve, NPSH, an elevation), which a register's mains
-        do not have, and when no efficiency is given.
-    """
-    for key in _ONE_STATION_KEYS:
-        if getattr(pumping, key) is not None:
-            raise StudyFileError(f"pumping.{key}: a renewal programme prices the pumping of every "
-                                 f"main with one wire-to-water efficiency; give efficiency, or "
-                                 f"pump_efficiency (with motor_efficiency, drive_efficiency)")
-    if pumping.efficiency is not None:
-        return float(pumping.efficiency)
-    if pumping.pump_efficiency is not None:
-        return float(pumping.pump_efficiency
-                     * (1.0 if pumping.motor_efficiency is None else pumping.motor_efficiency)
-                     * (1.0 if pumping.drive_efficiency is None else pumping.drive_efficiency))
-    raise StudyFileError("pumping.efficiency: required key is missing (e.g. efficiency = 0.70, "
-                         "or pump_efficiency with motor_efficiency)")
+    """The one wire-to-water efficiency a programme prices every pumped main's energy with
+    (:meth:`pipeopt.inputs.Pumping.wire_to_water`; a register's mains have no pump curve)."""
+    return pumping.wire_to_water("a renewal programme")
 
 
 def read_programme(mapping: dict, base: Path) -> dict[str, Any]:

@@ -166,7 +166,7 @@ class UpgradeStudy(FrozenStudy, StudyFileMixin):
         self.scenario = Scenario(
             density=fluid.density, viscosity=fluid.viscosity, length=existing.length,
             static_head=existing.static_head, minor_loss_k=existing.minor_loss_k, parallel=1,
-            duty=duty, efficiency=self.pumping.efficiency, tariff=tariff,
+            duty=duty, efficiency=self.pumping.wire_to_water("an upgrade study"), tariff=tariff,
             pump_station=pump_station, discount_rate=economics.discount_rate, horizon=n,
             pipe_life=economics.pipe_life, pipe_maintenance=economics.pipe_maintenance)
         self.bore, self.bore_as_laid = self._bore()

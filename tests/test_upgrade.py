@@ -281,6 +281,25 @@ def test_upgrade_study_file_errors():
         UpgradeStudy.from_dict(bad)
 
 
+def test_upgrade_pumping_takes_pump_times_motor_or_refuses_one_pump_keys_by_name():
+    # one wire-to-water efficiency: pump x motor x drive (common practice: efficiencies of a
+    # pump train in series multiply); a pump curve or NPSH names its key (from Python these
+    # used to reach the model as None and end in a TypeError; a study file's [pumping] takes
+    # efficiency only)
+    from pipeopt.inputs import Pumping
+
+    demo = UpgradeStudy.demo()
+    study = demo.replace(efficiency=Pumping(pump_efficiency=0.8, motor_efficiency=0.93,
+                                            drive_efficiency=0.97))
+    assert study.scenario.efficiency == pytest.approx(0.8 * 0.93 * 0.97, rel=1e-15)
+    assert study.run().summary.shape[0] == len(study.options) + 1
+    for pumping in (Pumping(bep_efficiency=0.8), Pumping(pump_efficiency=0.8,
+                                                         npsh_required="3 m")):
+        key = "bep_efficiency" if pumping.bep_efficiency else "npsh_required"
+        with pytest.raises(InputError, match=rf"^pumping\.{key}: an upgrade study prices"):
+            demo.replace(efficiency=pumping)
+
+
 def test_upgrade_from_toml_file_and_cli(tmp_path):
     from pipeopt.cli import main
 
