@@ -717,3 +717,47 @@ def test_demo_case_table_by_hand(demo_result):
         assert row["power_kw"] == pytest.approx(rho_g * q * row["pump_head_m"] / 0.72 / 1e3,
                                                 rel=1e-9)
         assert row["least_margin_m"] == pytest.approx(0.0, abs=1e-6)
+
+
+@pytest.mark.reference
+def test_hazen_williams_network_node_heads_equal_an_independent_solution():
+    # the gravity network with Hazen-Williams, h = omega L Q^1.852 / (C^1.852 D^4.871) with
+    # omega 10.667 (SI form of the Hazen-Williams formula, from memory), C 140 for new lined
+    # ductile iron (common practice, docs/references.md#materials), 90 for the old main as the
+    # file says ([network] C 120 is for pipes that give none), K 6 x V^2/2g on the rising
+    # main: heads
+    # and flows of the peak hour (x 1.9) by tests.network_reference.pipe_flows_and_heads
+    # (MINPACK's hybrid Powell method, scipy.optimize.root)
+    from tests.network_reference import pipe_flows_and_heads
+
+    d = gravity_dict()
+    d["network"].update({"head_loss": "hazen-williams", "hazen_williams_coefficient": 10.667,
+                         "hazen_williams_flow_exponent": 1.852,
+                         "hazen_williams_diameter_exponent": 4.871, "hazen_williams_c": 120})
+    d["pipe"][3].pop("roughness")
+    d["pipe"][3]["hazen_williams_c"] = 90
+    r = NetworkStudy.from_dict(d).run(progress=False)
+    names = [n["name"] for n in d["node"]] + [s["name"] for s in d["source"]]
+    idx = {n: i for i, n in enumerate(names)}
+    pipes = r.pipes
+    start = np.array([idx[n] for n in pipes["from"]])
+    end = np.array([idx[n] for n in pipes["to"]])
+    length = pipes["length_m"].to_numpy()
+    diam = pipes["inner_diameter_m"].to_numpy()
+    c = np.where(pipes["status"] == "new", 140.0, 90.0)
+    k = np.where(pipes["pipe"] == "rising main", 6.0, 0.0)
+
+    def loss(q):
+        v = q / (np.pi * diam**2 / 4)
+        return (hw_head_loss(q, length, diam, c, 10.667, 1.852, 4.871)
+                + k * v * np.abs(v) / (2 * 9.80665))
+
+    demand = 1.9 * np.array([float(n["demand"].split()[0]) / 1000.0 for n in d["node"]])
+    flows, heads = pipe_flows_and_heads(len(d["node"]), start, end, loss, demand, 120.0, 0.01,
+                                        115.0)
+    nodes = r.nodes[r.nodes["kind"] == "junction"]
+    assert (nodes["case"] == "peak hour").all()
+    np.testing.assert_allclose(nodes["head_m"], heads, rtol=1e-8)
+    np.testing.assert_allclose(pipes["flow_m3_s"], flows, rtol=1e-7, atol=1e-10)
+    np.testing.assert_allclose(pipes["head_loss_m"], loss(flows), rtol=1e-7, atol=1e-9)
+    assert nodes["feasible"].all()
