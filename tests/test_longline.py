@@ -577,3 +577,24 @@ def test_pressure_envelope_at_every_point_of_the_simple_line_by_hand():
     np.testing.assert_allclose(prof["pressure_max_bar"], rho_g * (head - axis) / 1e5,
                                rtol=1e-8, atol=1e-9)
     assert (prof["class"] == "C40").all()
+
+
+@pytest.mark.reference
+def test_sub_atmospheric_stretch_of_the_simple_line_by_hand():
+    # the hand grade line (hand_line) gives the gauge pressure rho g (head - axis) at every
+    # point; where it is below zero the pipe runs below atmospheric pressure: the stretch
+    # from the zero crossing before to the one after, the pressure linear in chainage between
+    # points (ground and grade line both linear there), printed to 0.1 km and the lowest
+    # pressure to 0.01 bar
+    res = SizingStudy.from_dict(simple_line()).run()
+    best = res.best
+    head, axis, rho_g = hand_line(best["nominal"], 1600.0 / 3600.0)
+    p = rho_g * (head - axis) / 1e5
+    x = np.array([float(q["chainage"].split()[0]) for q in DEMO["profile"]])
+    below = np.flatnonzero(p < 0)
+    assert below.size and np.all(np.diff(below) == 1)          # one stretch, at the ridge
+    i, j = below[0], below[-1]
+    start = x[i - 1] + (x[i] - x[i - 1]) * p[i - 1] / (p[i - 1] - p[i])
+    end = x[j] + (x[j + 1] - x[j]) * p[j] / (p[j] - p[j + 1])
+    assert f"sub-atmospheric at {start:.1f}-{end:.1f} km (lowest {p.min():.2f} bar)" \
+        in best["notes"]

@@ -539,3 +539,37 @@ def test_long_line_figure_draws_the_file_ground_and_the_published_limits():
         assert ys[3 * s] == pytest.approx(axis[s] + above, rel=1e-9)
         assert ys[3 * s + 1] == pytest.approx(axis[s + 1] + above, rel=1e-9)
     plt.close(ax.figure)
+
+
+@pytest.mark.reference
+def test_cost_curve_at_the_chosen_pipe_is_its_eac_by_hand(demo):
+    # at the chosen pipe's bore (EN 12201-2: 500 - 2 x 29.7 = 440.6 mm) each drawn part is
+    # its present value by hand (_hand_pv_of_the_chosen_pipe) times the capital recovery
+    # factor r(1+r)^n/((1+r)^n-1) at 5 % over 40 years; the chosen marker sits at the EAC
+    import numpy as np
+
+    _, result, _ = demo
+    hand = _hand_pv_of_the_chosen_pipe()
+    crf = 0.05 * 1.05**40 / (1.05**40 - 1)
+    ax = plots.cost_curves(result)
+    lines = {line.get_gid(): line for line in ax.get_lines() if line.get_gid()}
+
+    def at_bore(line):
+        x, y = (np.asarray(a, dtype=float) for a in line.get_data())
+        k = np.flatnonzero(np.isclose(x, 440.6, rtol=0, atol=1e-9))
+        assert k.size == 1
+        return y[k[0]]
+
+    want = {"eac_capital": (hand["capex_pipe"] + hand["pv_pump_station"]) * crf,
+            "eac_energy": hand["pv_energy"] * crf,
+            "eac_maintenance": hand["pv_maintenance"] * crf,
+            "eac_renewal": hand["pv_replacement"] * crf,
+            "eac_residual": -hand["pv_residual"] * crf}
+    for part, value in want.items():
+        assert at_bore(lines[f"part:{part}"]) == pytest.approx(value, rel=1e-7), part
+    assert at_bore(lines["total:pe100:SDR 17"]) == pytest.approx(hand["eac"], rel=1e-7)
+    chosen = [ln for ln in ax.get_lines() if "chosen" in ln.get_label()][0]
+    cx, cy = (np.asarray(a, dtype=float) for a in chosen.get_data())
+    assert cx[0] == pytest.approx(440.6, abs=1e-9)
+    assert cy[0] == pytest.approx(hand["eac"], rel=1e-7)
+    plt.close(ax.figure)

@@ -701,3 +701,26 @@ def test_printed_hydraulics_and_pressures_of_the_pe_rows_by_hand(sizing_report, 
             assert abs(_num(row[col]) - value) <= 0.5 * 10**-places + 1e-9, (row["size"], col)
         checked += 1
     assert checked == 5
+
+
+@pytest.mark.reference
+def test_printed_summary_of_the_chosen_pipe_by_hand(sizing_report):
+    # the summary's line "EAC ...; present value ... = pipe ..., pump station ..., energy ...,
+    # maintenance ..., station renewals ..., residual value ..." against the chosen pipe's
+    # present values written out by hand (tests/test_plots.py, _hand_pv_of_the_chosen_pipe:
+    # EN 12201-2 dimensions, iapws water, mpmath Colebrook, explicit discounted sums, the
+    # capital recovery factor), each printed to the unit
+    from .test_plots import _hand_pv_of_the_chosen_pipe
+
+    md = (sizing_report / "report.md").read_text(encoding="utf-8")
+    m = re.search(r"EAC ([\d,]+) EUR/yr; present value ([\d,]+) EUR = pipe ([\d,]+), pump "
+                  r"station ([\d,]+), energy ([\d,]+), maintenance ([\d,]+), station renewals "
+                  r"([\d,]+), residual value (-[\d,]+)", md)
+    assert m is not None
+    hand = _hand_pv_of_the_chosen_pipe()
+    want = [hand["eac"], hand["pv_total"], hand["capex_pipe"], hand["pv_pump_station"],
+            hand["pv_energy"], hand["pv_maintenance"], hand["pv_replacement"],
+            -hand["pv_residual"]]
+    for printed, value in zip(m.groups(), want, strict=True):
+        assert abs(float(printed.replace(",", "")) - value) <= 0.5 + 1e-7 * abs(value)
+    assert "Best: pe100 500 SDR 17 (inner diameter 440.6 mm)" in md
