@@ -655,3 +655,31 @@ def test_staged_pump_station_present_value_by_hand():
     assert best["pv_maintenance"] == pytest.approx(pv_maint, rel=1e-5)   # no pipe maintenance
     assert best["pv_residual"] == pytest.approx(pv_resid, rel=1e-5)      # pipe life = horizon
     assert best["pv_replacement"] == 0.0
+
+
+@pytest.mark.reference
+def test_growth_capped_by_the_flow_cap_by_hand():
+    # flows grow 5 %/yr and never exceed the cap 0.25 m3/s (multiplier min(1.05^(t-1), 1.25):
+    # the cap binds from year 6, 1.05^5 = 1.276 > 1.25); each year's energy by hand
+    # (Darcy-Weisbach, mpmath Colebrook, P = rho g Q H / eta), the largest velocity and pump
+    # head of any year at the cap (continuity Q / (pi D^2 / 4))
+    res = study_from(growth={"flow_per_year": 0.05, "flow_cap": "0.25 m^3/s"},
+                     economics={"discount_rate": 0.06, "horizon": 10, "pipe_life": 10}).run()
+    y = res.yearly().set_index("year")
+    best = res.best
+    d = best["inner_diameter_m"]
+
+    def head_loss(q):
+        v = q / (math.pi * d * d / 4)
+        f = colebrook_mpmath(RHO_15 * v * d / MU_15, PE_ROUGHNESS / d)
+        return f * 2000.0 / d * v * v / (2 * 9.80665)
+
+    for t in range(1, 11):
+        m = min(1.05 ** (t - 1), 1.25)
+        assert y.loc[t, "flow_multiplier"] == pytest.approx(m, rel=1e-14)
+        q = 0.2 * m
+        e_kwh = RHO_15 * 9.80665 * q * head_loss(q) / 0.75 * 8000.0 / 1000.0
+        assert y.loc[t, "energy_kwh"] == pytest.approx(e_kwh, rel=1e-5)
+    assert (y.loc[6:, "flow_multiplier"] == 1.25).all()
+    assert best["velocity_peak_m_s"] == pytest.approx(0.25 / (math.pi * d * d / 4), rel=1e-12)
+    assert best["pump_head_max_m"] == pytest.approx(head_loss(0.25), rel=1e-5)
