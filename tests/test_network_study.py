@@ -617,3 +617,147 @@ def test_the_result_follows_the_result_protocol(demo_result):
     assert "study aid" not in text.lower()
     assert repr(demo_result).startswith("<NetworkResult: Quillmere ring main")
     assert set(demo_result.tables()) == {"Pipes", "Nodes", "Demand cases", "Cash flows"}
+
+
+# ----- node heads and the case table against an independent solution ------------------------
+def _independent_heads(result, d, source_head, factor):
+    """(pipe flows, junction heads) of the chosen design at one demand case, by
+    tests.network_reference.pipe_flows_and_heads: flows and heads as unknowns, mass balance at
+    every junction and Darcy-Weisbach with Colebrook-White (Colebrook 1939) along every pipe,
+    K 6 on the rising main, new pipe 0.1 mm (the bundled ductile-iron lining), the old main
+    1.5 mm as the file says, water at 12 degC from iapws (IAPWS-95), solved by MINPACK's
+    hybrid Powell method (scipy.optimize.root)."""
+    import iapws
+
+    from tests.network_reference import pipe_flows_and_heads
+
+    w = iapws.IAPWS95(T=285.15, P=0.101325)
+    names = [n["name"] for n in d["node"]] + [s["name"] for s in d["source"]]
+    idx = {n: i for i, n in enumerate(names)}
+    pipes = result.pipes
+    start = np.array([idx[n] for n in pipes["from"]])
+    end = np.array([idx[n] for n in pipes["to"]])
+    length = pipes["length_m"].to_numpy()
+    diam = pipes["inner_diameter_m"].to_numpy()
+    rough = np.where(pipes["status"] == "new", 1e-4, 1.5e-3)
+    k = np.where(pipes["pipe"] == "rising main", 6.0, 0.0)
+    demand = factor * np.array([float(n["demand"].split()[0]) / 1000.0 for n in d["node"]])
+    return pipe_flows_and_heads(
+        len(d["node"]), start, end,
+        lambda q: dw_head_loss(q, length, diam, rough, w.mu / w.rho, k), demand,
+        source_head, 0.01, source_head - 5.0)
+
+
+@pytest.mark.reference
+def test_demo_node_table_equals_an_independent_solution_of_its_case(demo_result):
+    # each node's row reports its critical case: its head there equals the independent
+    # solution of that case with the works at 31 m + the case's pump head; pressure head =
+    # head - elevation and margin = pressure head - the node's minimum (25 m, 20 m at
+    # Glimmerhythe, as the file says); the pipe table (the peak hour, x 1.9) has that case's
+    # flows
+    r, d = demo_result, demo_dict()
+    nodes = r.nodes[r.nodes["kind"] == "junction"].set_index("node")
+    elevation = {n["name"]: float(n["elevation"].split()[0]) for n in d["node"]}
+    minimum = {n["name"]: float(n.get("min_pressure_head", "25 m").split()[0])
+               for n in d["node"]}
+    seen = set()
+    for case, duty in enumerate(d["duty"]):
+        source = 31.0 + float(r.cases["pump_head_m"].iloc[case])
+        flows, heads = _independent_heads(r, d, source, duty["demand_factor"])
+        for j, node in enumerate(n["name"] for n in d["node"]):
+            if nodes.loc[node, "case"] != duty["name"]:
+                continue
+            seen.add(node)
+            assert nodes.loc[node, "head_m"] == pytest.approx(heads[j], rel=1e-8)
+            assert nodes.loc[node, "pressure_head_m"] == pytest.approx(
+                heads[j] - elevation[node], rel=1e-7)
+            assert nodes.loc[node, "margin_m"] == pytest.approx(
+                heads[j] - elevation[node] - minimum[node], abs=1e-6)
+        if duty["name"] == "peak hour":
+            np.testing.assert_allclose(r.pipes["flow_m3_s"], flows, rtol=1e-7, atol=1e-10)
+    assert seen == set(nodes.index)
+
+
+@pytest.mark.reference
+def test_gravity_network_node_heads_equal_an_independent_solution():
+    # fed by gravity from 120 m: at the peak hour (x 1.9) every node's head, pressure head and
+    # every pipe's flow equal the independent solution (_independent_heads); at the average
+    # day every node's head is higher (less friction), so the peak hour is each node's case
+    d = gravity_dict()
+    r = NetworkStudy.from_dict(d).run(progress=False)
+    nodes = r.nodes[r.nodes["kind"] == "junction"]
+    flows, heads = _independent_heads(r, d, 120.0, 1.9)
+    np.testing.assert_allclose(nodes["head_m"], heads, rtol=1e-8)
+    elevation = np.array([float(n["elevation"].split()[0]) for n in d["node"]])
+    np.testing.assert_allclose(nodes["pressure_head_m"], heads - elevation, rtol=1e-7)
+    np.testing.assert_allclose(r.pipes["flow_m3_s"], flows, rtol=1e-7, atol=1e-10)
+    assert (nodes["case"] == "peak hour").all()
+    _, average = _independent_heads(r, d, 120.0, 1.0)
+    assert np.all(average > heads)
+
+
+@pytest.mark.reference
+def test_demo_case_table_by_hand(demo_result):
+    # total demand of a case = the factor x the sum of the nodes' demands (conservation of
+    # mass); power = rho g Q H / eta with the file's wire-to-water efficiency 0.72 and rho of
+    # water at 12 degC from iapws (IAPWS-95); the free pump lifts just enough, so the least
+    # margin of every case is 0 (checked against an independent solution above)
+    import iapws
+
+    d = demo_dict()
+    rho_g = iapws.IAPWS95(T=285.15, P=0.101325).rho * 9.80665
+    base = sum(float(n["demand"].split()[0]) / 1000.0 for n in d["node"])
+    assert base == pytest.approx(0.045, rel=1e-15)                      # 45 L/s
+    cases = demo_result.cases
+    for case, duty in enumerate(d["duty"]):
+        row = cases.iloc[case]
+        assert row["case"] == duty["name"]
+        q = duty["demand_factor"] * base
+        assert row["total_demand_m3_s"] == pytest.approx(q, rel=1e-14)
+        assert row["power_kw"] == pytest.approx(rho_g * q * row["pump_head_m"] / 0.72 / 1e3,
+                                                rel=1e-9)
+        assert row["least_margin_m"] == pytest.approx(0.0, abs=1e-6)
+
+
+@pytest.mark.reference
+def test_hazen_williams_network_node_heads_equal_an_independent_solution():
+    # the gravity network with Hazen-Williams, h = omega L Q^1.852 / (C^1.852 D^4.871) with
+    # omega 10.667 (SI form of the Hazen-Williams formula, from memory), C 140 for new lined
+    # ductile iron (common practice, docs/references.md#materials), 90 for the old main as the
+    # file says ([network] C 120 is for pipes that give none), K 6 x V^2/2g on the rising
+    # main: heads
+    # and flows of the peak hour (x 1.9) by tests.network_reference.pipe_flows_and_heads
+    # (MINPACK's hybrid Powell method, scipy.optimize.root)
+    from tests.network_reference import pipe_flows_and_heads
+
+    d = gravity_dict()
+    d["network"].update({"head_loss": "hazen-williams", "hazen_williams_coefficient": 10.667,
+                         "hazen_williams_flow_exponent": 1.852,
+                         "hazen_williams_diameter_exponent": 4.871, "hazen_williams_c": 120})
+    d["pipe"][3].pop("roughness")
+    d["pipe"][3]["hazen_williams_c"] = 90
+    r = NetworkStudy.from_dict(d).run(progress=False)
+    names = [n["name"] for n in d["node"]] + [s["name"] for s in d["source"]]
+    idx = {n: i for i, n in enumerate(names)}
+    pipes = r.pipes
+    start = np.array([idx[n] for n in pipes["from"]])
+    end = np.array([idx[n] for n in pipes["to"]])
+    length = pipes["length_m"].to_numpy()
+    diam = pipes["inner_diameter_m"].to_numpy()
+    c = np.where(pipes["status"] == "new", 140.0, 90.0)
+    k = np.where(pipes["pipe"] == "rising main", 6.0, 0.0)
+
+    def loss(q):
+        v = q / (np.pi * diam**2 / 4)
+        return (hw_head_loss(q, length, diam, c, 10.667, 1.852, 4.871)
+                + k * v * np.abs(v) / (2 * 9.80665))
+
+    demand = 1.9 * np.array([float(n["demand"].split()[0]) / 1000.0 for n in d["node"]])
+    flows, heads = pipe_flows_and_heads(len(d["node"]), start, end, loss, demand, 120.0, 0.01,
+                                        115.0)
+    nodes = r.nodes[r.nodes["kind"] == "junction"]
+    assert (nodes["case"] == "peak hour").all()
+    np.testing.assert_allclose(nodes["head_m"], heads, rtol=1e-8)
+    np.testing.assert_allclose(pipes["flow_m3_s"], flows, rtol=1e-7, atol=1e-10)
+    np.testing.assert_allclose(pipes["head_loss_m"], loss(flows), rtol=1e-7, atol=1e-9)
+    assert nodes["feasible"].all()

@@ -399,3 +399,177 @@ def test_probability_bars_are_counts_of_the_cheapest_feasible_draw(demo):
     np.testing.assert_allclose(heights, want, rtol=0, atol=1e-15)
     assert sum(heights) <= 1.0 + 1e-12 and max(heights) == pytest.approx(max(wins) / mc.n)
     plt.close(ax.figure)
+
+
+# ------------------------------------------------------------------------------------------
+# bars and lines against the demo's life-cycle cost written out by hand
+# ------------------------------------------------------------------------------------------
+def _hand_pv_of_the_chosen_pipe(price: float = 0.14, rate: float = 0.05) -> dict:
+    """Present value parts of the demo's chosen pipe, PE 100 500 SDR 17, by hand from the
+    inputs of pipeopt/data/demo_sizing.toml (4.6 km, 38 m static head, K 9, duties 310 m3/h
+    for 5200 h and 520 m3/h for 2400 h growing 1.2 %/yr, efficiency 0.72, price escalating
+    1 %/yr, 60 per kW of peak, station 9000 (1.5 P_max)^0.68 with life 20, maintenance 0.3 %
+    of the pipe and 1.5 % of the station, pipe life 80, 40 years):
+    EN 12201-2 dimensions (OD 500, wall 29.7 mm; from memory), PE 960 kg/m3 and 0.007 mm
+    (common practice), water at 12 degC from iapws (IAPWS-95), Darcy-Weisbach with the mpmath
+    Colebrook root (Colebrook 1939), present values as explicit discounted sums (common
+    practice) and EAC = PV r(1+r)^n/((1+r)^n - 1)."""
+    import math
+
+    import iapws
+
+    from .conftest import colebrook_mpmath
+
+    w = iapws.IAPWS95(T=285.15, P=0.101325)
+    d = 0.5 - 2 * 0.0297
+
+    def power_kw(q):
+        v = q / (math.pi * d * d / 4)
+        f = colebrook_mpmath(w.rho * v * d / w.mu, 0.007e-3 / d)
+        head = 38.0 + (f * 4600.0 / d + 9.0) * v * v / (2 * 9.80665)
+        return w.rho * 9.80665 * q * head / 0.72 / 1e3
+
+    grow = [1.012 ** (t - 1) for t in range(41)]
+    peak = {t: power_kw(520 / 3600 * grow[t]) for t in range(1, 41)}
+    energy = {t: power_kw(310 / 3600 * grow[t]) * 5200 + peak[t] * 2400 for t in range(1, 41)}
+    pipe = 4600.0 * (2.6 * math.pi / 4 * (0.5**2 - d**2) * 960.0 + 380.0 * 0.5**1.05)
+    station = 9000.0 * (1.5 * max(peak.values())) ** 0.68
+    disc = [(1 + rate) ** -t for t in range(41)]
+    pv = {"capex_pipe": pipe, "pv_pump_station": station,
+          "pv_energy": sum((energy[t] * price * 1.01 ** (t - 1) + 60.0 * peak[t]) * disc[t]
+                           for t in range(1, 41)),
+          "pv_maintenance": sum((0.003 * pipe + 0.015 * station) * disc[t]
+                                for t in range(1, 41)),
+          "pv_replacement": station * disc[20],
+          "pv_residual": pipe * (1 - 40 / 80) * disc[40]}
+    pv["pv_total"] = sum(v for k, v in pv.items() if k != "pv_residual") - pv["pv_residual"]
+    pv["eac"] = pv["pv_total"] * rate * (1 + rate) ** 40 / ((1 + rate) ** 40 - 1)
+    return pv
+
+
+@pytest.mark.reference
+def test_breakdown_bars_of_the_chosen_pipe_are_its_present_values_by_hand(demo):
+    # the first stack is the chosen pipe; each part's bar height, the residual credit drawn
+    # below zero and the net marker equal the present values written out by hand
+    import numpy as np
+
+    _, result, _ = demo
+    assert result.best["size"] == "500 SDR 17"
+    hand = _hand_pv_of_the_chosen_pipe()
+    ax = plots.cost_breakdown(result)
+    first = [p for p in ax.patches if abs(p.get_x() + p.get_width() / 2) < 1e-9]
+    by_label = {}
+    for name, patch in zip([c.get_label() for c in ax.containers], first, strict=True):
+        by_label[name] = patch
+    for label, key in (("pipe", "capex_pipe"), ("pump station", "pv_pump_station"),
+                       ("energy", "pv_energy"), ("maintenance", "pv_maintenance"),
+                       ("station renewal", "pv_replacement")):
+        assert by_label[label].get_height() == pytest.approx(hand[key], rel=1e-7), label
+    assert by_label["residual value (credit)"].get_height() == pytest.approx(
+        -hand["pv_residual"], rel=1e-7)
+    stacked = sum(by_label[k].get_height() for k in ("pipe", "pump station", "energy",
+                                                      "maintenance", "station renewal"))
+    assert stacked == pytest.approx(hand["pv_total"] + hand["pv_residual"], rel=1e-7)
+    net = [ln for ln in ax.get_lines() if ln.get_marker() == "_"][0]
+    assert np.asarray(net.get_ydata(), dtype=float)[0] == pytest.approx(hand["pv_total"],
+                                                                         rel=1e-7)
+    plt.close(ax.figure)
+
+
+@pytest.mark.reference
+def test_tornado_bars_are_the_eac_by_hand_at_each_low_and_high_value(demo):
+    # the chosen pipe's EAC by hand (_hand_pv_of_the_chosen_pipe) at the energy price 0.10
+    # and 0.20 EUR/kWh and at the discount rates 3 % and 7 %, the others at base
+    study, _, _ = demo
+    t = study.tornado({"energy_price": (0.1, 0.2), "discount_rate": (0.03, 0.07)})
+    ax = plots.tornado_chart(t)
+    base = _hand_pv_of_the_chosen_pipe()["eac"]
+    assert t.base_value == pytest.approx(base, rel=1e-7)
+    want = {"energy_price": (_hand_pv_of_the_chosen_pipe(price=0.1)["eac"],
+                             _hand_pv_of_the_chosen_pipe(price=0.2)["eac"]),
+            "discount_rate": (_hand_pv_of_the_chosen_pipe(rate=0.03)["eac"],
+                              _hand_pv_of_the_chosen_pipe(rate=0.07)["eac"])}
+    low, high = ax.containers[0], ax.containers[1]
+    labels = [tick.get_text() for tick in ax.get_yticklabels()]
+    for i, label in enumerate(labels):
+        name = label.split(" (")[0]
+        for bars, value in ((low, want[name][0]), (high, want[name][1])):
+            bar = bars[i]
+            assert bar.get_x() == pytest.approx(base, rel=1e-7)
+            assert bar.get_x() + bar.get_width() == pytest.approx(value, rel=1e-7), name
+    assert sorted(label.split(" (")[0] for label in labels) == ["discount_rate",
+                                                                "energy_price"]
+    plt.close(ax.figure)
+
+
+@pytest.mark.reference
+def test_long_line_figure_draws_the_file_ground_and_the_published_limits():
+    # the demo long line (pipeopt/data/demo_longline.toml): the ground drawn through the
+    # file's elevations (19 km, a booster site, interpolated: (232 + 289) / 2 = 260.5 m); the
+    # PFA line the class's PFA (EN 545: the class number in bar, from memory) as a head
+    # p / (rho g) above the pipe axis; the least head the vapour pressure + the default
+    # constraints.vapour_margin 3 m (DEVELOPERS.md, long lines) in absolute terms, p_atm by
+    # ISO 2533 at the ground (from memory), water at 12 degC from iapws (IAPWS-95)
+    import iapws
+    import numpy as np
+
+    result = SizingStudy.demo("longline").run()
+    ax = plots.profile(result)
+    lines = {line.get_label(): line for line in ax.get_lines()}
+    x, axis = (np.asarray(a, dtype=float) for a in lines["pipe axis"].get_data())
+    ground = {0: 45, 4: 52, 8: 58, 12: 70, 14: 126, 16: 175, 18: 232, 19: 260.5, 20: 289,
+              21: 310, 22: 320, 23: 312, 24: 297, 28: 258, 32: 245, 36: 270, 39.6: 282}
+    z = np.array([ground[round(k, 1) if k % 1 else int(k)] for k in x])
+    od = np.array([0.738 if s.startswith("DN 700") else np.nan for s in result.profile["size"]])
+    assert not np.isnan(od).any()                     # DN 700 throughout (EN 545 OD 738 mm)
+    np.testing.assert_allclose(axis, z - 1.2 - od / 2, rtol=1e-12)   # 1.2 m cover to crown
+    w = iapws.IAPWS95(T=285.15, P=0.101325)
+    rho_g = w.rho * 9.80665
+    pv = iapws.IAPWS95(T=285.15, x=0).P * 1e6
+    p_atm = 101325.0 * (1 - 0.0065 * z / 288.15) ** (9.80665 * 0.0289644 / (8.3144598 * 0.0065))
+    xl, least = (np.asarray(a, dtype=float) for a in lines["least head allowed"].get_data())
+    np.testing.assert_allclose(least, axis + (pv + 3.0 * rho_g - p_atm) / rho_g, rtol=1e-9)
+    xs, ys = (np.asarray(a, dtype=float) for a in
+              lines["PFA of the class laid (as head)"].get_data())
+    cls = result.profile["class"].to_numpy()
+    for s in range(len(x) - 1):
+        if x[s] == x[s + 1]:
+            continue                                    # a station's two rows
+        above = float(cls[s][1:]) * 1e5 / rho_g
+        assert ys[3 * s] == pytest.approx(axis[s] + above, rel=1e-9)
+        assert ys[3 * s + 1] == pytest.approx(axis[s + 1] + above, rel=1e-9)
+    plt.close(ax.figure)
+
+
+@pytest.mark.reference
+def test_cost_curve_at_the_chosen_pipe_is_its_eac_by_hand(demo):
+    # at the chosen pipe's bore (EN 12201-2: 500 - 2 x 29.7 = 440.6 mm) each drawn part is
+    # its present value by hand (_hand_pv_of_the_chosen_pipe) times the capital recovery
+    # factor r(1+r)^n/((1+r)^n-1) at 5 % over 40 years; the chosen marker sits at the EAC
+    import numpy as np
+
+    _, result, _ = demo
+    hand = _hand_pv_of_the_chosen_pipe()
+    crf = 0.05 * 1.05**40 / (1.05**40 - 1)
+    ax = plots.cost_curves(result)
+    lines = {line.get_gid(): line for line in ax.get_lines() if line.get_gid()}
+
+    def at_bore(line):
+        x, y = (np.asarray(a, dtype=float) for a in line.get_data())
+        k = np.flatnonzero(np.isclose(x, 440.6, rtol=0, atol=1e-9))
+        assert k.size == 1
+        return y[k[0]]
+
+    want = {"eac_capital": (hand["capex_pipe"] + hand["pv_pump_station"]) * crf,
+            "eac_energy": hand["pv_energy"] * crf,
+            "eac_maintenance": hand["pv_maintenance"] * crf,
+            "eac_renewal": hand["pv_replacement"] * crf,
+            "eac_residual": -hand["pv_residual"] * crf}
+    for part, value in want.items():
+        assert at_bore(lines[f"part:{part}"]) == pytest.approx(value, rel=1e-7), part
+    assert at_bore(lines["total:pe100:SDR 17"]) == pytest.approx(hand["eac"], rel=1e-7)
+    chosen = [ln for ln in ax.get_lines() if "chosen" in ln.get_label()][0]
+    cx, cy = (np.asarray(a, dtype=float) for a in chosen.get_data())
+    assert cx[0] == pytest.approx(440.6, abs=1e-9)
+    assert cy[0] == pytest.approx(hand["eac"], rel=1e-7)
+    plt.close(ax.figure)

@@ -385,3 +385,61 @@ def test_invented_costs_grow_with_the_bore():
     for name, mains in frame.groupby("material"):
         rho, p = stats.spearmanr(mains["inner_diameter_mm"], mains["replacement_cost_per_m"])
         assert rho > 0.5 and p < 1e-6, name
+
+
+@pytest.mark.reference
+def test_invented_break_windows_follow_the_exponential_break_law():
+    # Shamir & Howard (1979): N(s) = N0 e^{A s}; the breaks of the window [-5, 0] and of the
+    # window before it [-10, -5] have expectations N0 (1 - e^{-5A}) / A and that times e^{-5A}.
+    # The rate N0 of a main is independent of its A (the class's documented growth, last field
+    # of INVENTED_MATERIALS, scattered between mains by a lognormal factor of sigma 0.3, the
+    # generator's stated scatter), so the class's ratio sum(prior) / sum(recent) has the
+    # expectation E[e^{-5A} w(A)] / E[w(A)], w(A) = (1 - e^{-5A}) / A, integrated here with
+    # scipy.integrate.quad over scipy.stats.lognorm; the register's ratio must lie within four
+    # standard errors (delta method on the per-main pairs)
+    from scipy import integrate, stats
+
+    frame = invented_register(200_000, seed=11, defects=False)
+    checked = 0
+    for name, spec in INVENTED_MATERIALS.items():
+        g0 = spec[5]
+
+        def window(x, g0=g0):
+            return -math.expm1(-5.0 * g0 * x) / (g0 * x)
+
+        def pdf(x):
+            return stats.lognorm.pdf(x, 0.3)
+
+        num = integrate.quad(lambda x, g0=g0: math.exp(-5 * g0 * x) * window(x) * pdf(x),
+                             0, np.inf)[0]
+        den = integrate.quad(lambda x: window(x) * pdf(x), 0, np.inf)[0]
+        sub = frame[frame["material"] == name]
+        prior = sub["breaks_prior_5y"].to_numpy(dtype=float)
+        recent = sub["breaks_last_5y"].to_numpy(dtype=float)
+        ratio = prior.sum() / recent.sum()
+        se = math.sqrt(((prior - ratio * recent) ** 2).sum()) / recent.sum()
+        assert abs(ratio - num / den) < 4 * se, name
+        # where the counts are many, sharp enough to tell the law from no growth (ratio 1)
+        checked += (1 - num / den) > 4 * se
+    assert checked >= 4
+
+
+@pytest.mark.reference
+def test_invented_pumped_flows_are_continuity_of_a_uniform_velocity():
+    # the flow of a pumped main is its velocity times the bore area, Q = V pi D^2 / 4
+    # (continuity), V drawn uniformly between 0.5 and 1.4 m/s (the generator's stated range)
+    # and Q rounded to 0.1 m3/h: the velocities back from the flow and bore fit that uniform
+    # law by scipy.stats.kstest (not rejected at the 0.1 % level) and lie within its bounds
+    # up to the rounding
+    from scipy import stats
+
+    frame = invented_register(60_000, seed=5, defects=False)
+    pumped = frame[frame["pumped_flow_m3_h"] > 0]
+    area = math.pi * (pumped["inner_diameter_mm"] / 1000.0) ** 2 / 4
+    v = pumped["pumped_flow_m3_h"] / 3600.0 / area
+    slack = 0.05 / 3600.0 / area                        # half of 0.1 m3/h, as a velocity
+    assert ((v >= 0.5 - slack - 1e-12) & (v <= 1.4 + slack + 1e-12)).all()
+    assert len(pumped) > 2000
+    assert stats.kstest(v, stats.uniform(0.5, 0.9).cdf).pvalue > 1e-3
+    # a velocity law off by 10 % is rejected by the same test (the check has power)
+    assert stats.kstest(v, stats.uniform(0.55, 0.99).cdf).pvalue < 1e-6

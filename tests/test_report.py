@@ -588,3 +588,139 @@ def test_report_surge_and_pressures_of_the_chosen_pipe_by_hand(chosen, water_12c
         water_12c.rho * G_N * (chosen["pump_head_max_m"] + surge) / 1e5, rel=1e-7)
     assert chosen["pressure_rating_bar"] == pytest.approx(20 * 10 / (1.25 * (17 - 1)),
                                                           rel=1e-12)
+
+
+# ------------------------------------------------------------------------------------------
+# the tables printed in report.md, recomputed by hand from the study's inputs (the demo file
+# pipeopt/data/demo_sizing.toml, listed above) and the published dimension tables
+# ------------------------------------------------------------------------------------------
+def _md_table(md: str, heading: str) -> list[dict]:
+    """The rows of the first Markdown table under ``heading`` (cells as text)."""
+    lines = md.split(heading, 1)[1].splitlines()
+    first = next(i for i, ln in enumerate(lines) if ln.startswith("|"))
+    table = []
+    for ln in lines[first:]:                       # the contiguous run of table lines
+        if not ln.startswith("|"):
+            break
+        table.append([c.strip() for c in ln.strip("|").split("|")])
+    header = table[0]
+    return [dict(zip(header, cells, strict=True)) for cells in table[2:]]
+
+
+def _num(cell: str) -> float:
+    return float(cell.replace(",", ""))
+
+
+def _pe_power_kw(q, od_mm, wall_mm, water):
+    """(head loss, pump head, electrical power) of PE at flow q: static 38 m, Darcy-Weisbach
+    with the fittings' K 9 (_head_loss), P = rho g Q H / 0.72."""
+    d = (od_mm - 2 * wall_mm) / 1000.0
+    h = _head_loss(q, d, 0.007e-3, water)[3]       # PE 0.007 mm (Moody range, from memory)
+    return h, 38.0 + h, water.rho * G_N * q * (38.0 + h) / 0.72 / 1e3
+
+
+@pytest.mark.reference
+def test_printed_cash_flows_of_the_chosen_pipe_by_hand(sizing_report, water_12c):
+    # the chosen PE 100 500 SDR 17 (EN 12201-2: OD 500 mm, wall 29.7 mm; PE 960 kg/m3, common
+    # practice): pipe 4600 m x (2.6 EUR/kg x mass + 380 OD^1.05); the station 9000 (1.5
+    # P_max)^0.68 for the largest peak of the 40 years, bought again at year 20 (life 20);
+    # flows 1.012^(t-1); energy cost E_t 0.14 x 1.01^(t-1) + 60 x peak; maintenance 0.3 % of
+    # the pipe and 1.5 % of the station; residual of the pipe 1 - 40/80 at year 40; discount
+    # factor 1.05^-t. Every printed cell within half its last printed unit.
+    md = (sizing_report / "report.md").read_text(encoding="utf-8")
+    assert "### Cash flows by year: pe100 500 SDR 17" in md
+    rows = _md_table(md, "### Cash flows by year: pe100 500 SDR 17")
+    assert [r["year"] for r in rows[:41]] == [str(t) for t in range(41)]
+    mass = math.pi / 4 * (0.5**2 - 0.4406**2) * 960.0
+    pipe = 4600.0 * (2.6 * mass + 380.0 * 0.5**1.05)
+    peak = {t: _pe_power_kw(520 / 3600 * 1.012 ** (t - 1), 500, 29.7, water_12c)[2]
+            for t in range(1, 41)}
+    station = 9000.0 * (1.5 * max(peak.values())) ** 0.68
+    pv = 0.0
+    for t, row in enumerate(rows[:41]):
+        energy = cost = 0.0
+        if t:
+            energy = sum(_pe_power_kw(q / 3600 * 1.012 ** (t - 1), 500, 29.7, water_12c)[2] * h
+                         for q, h in ((310, 5200), (520, 2400)))
+            cost = 0.14 * 1.01 ** (t - 1) * energy + 60.0 * peak[t]
+        hand = {"energy \\[MWh\\]": energy / 1e3,
+                "capital pipe \\[EUR\\]": pipe if t == 0 else 0.0,
+                "capital station \\[EUR\\]": station if t == 0 else 0.0,
+                "station renewal \\[EUR\\]": station if t == 20 else 0.0,
+                "energy cost \\[EUR\\]": cost,
+                "maintenance \\[EUR\\]": (0.003 * pipe + 0.015 * station) if t else 0.0,
+                "residual \\[EUR\\]": -pipe * (1 - 40 / 80) if t == 40 else 0.0}
+        hand["total \\[EUR\\]"] = sum(hand.values()) - energy / 1e3
+        hand["discounted \\[EUR\\]"] = hand["total \\[EUR\\]"] / 1.05**t
+        pv += hand["discounted \\[EUR\\]"]
+        for col, value in hand.items():
+            assert abs(_num(row[col]) - value) <= 0.5 + 1e-7 * abs(value), (t, col)
+        assert abs(_num(row["discount factor"]) - 1.05**-t) <= 0.5e-4
+    assert abs(_num(rows[41]["discounted \\[EUR\\]"]) - pv) <= 0.5 + 1e-7 * pv   # the sum row
+
+
+@pytest.mark.reference
+def test_printed_hydraulics_and_pressures_of_the_pe_rows_by_hand(sizing_report, water_12c):
+    # the PE rows of "hydraulics and pressure" (EN 12201-2 walls, from memory: 500 SDR 17
+    # 29.7, 560 SDR 17 33.2, 630 SDR 17 37.4, 500 SDR 11 45.4, 560 SDR 11 50.8 mm):
+    # V = Q / (pi D^2/4) at 520 m3/h and, peak, at 520 x 1.012^39; head loss and pump head by
+    # Darcy-Weisbach (mpmath Colebrook); power rho g Q H / 0.72; operating = rho g x the
+    # largest pump head; MDP adds rho g a V_peak / g with Korteweg's a (thick wall, anchored
+    # throughout, E 1.1 GPa, nu 0.45, K = rho w^2 of iapws; docs/references.md#surge);
+    # PFA = PN = 20 x 10 / (1.25 (SDR - 1)) rounded down to the R10 series: 10 and 16 bar
+    # (ISO 4427-1), PMA = PFA for PE (no surge allowance above PN, conservative)
+    md = (sizing_report / "report.md").read_text(encoding="utf-8")
+    rows = _md_table(md, "### Best feasible candidates: hydraulics and pressure")
+    walls = {"500 SDR 17": 29.7, "560 SDR 17": 33.2, "630 SDR 17": 37.4, "500 SDR 11": 45.4,
+             "560 SDR 11": 50.8}
+    rho_g = water_12c.rho * G_N
+    bulk = water_12c.rho * water_12c.w ** 2
+    checked = 0
+    for row in rows:
+        if row["material"] != "pe100":
+            continue
+        od, e = float(row["size"].split()[0]), walls[row["size"]]
+        sdr = int(row["size"].split()[-1])
+        d = (od - 2 * e) / 1000.0
+        q, q_peak = 520 / 3600, 520 / 3600 * 1.012 ** 39
+        h, head, power = _pe_power_kw(q, od, e, water_12c)
+        head_max = _pe_power_kw(q_peak, od, e, water_12c)[1]
+        v_peak = q_peak / (math.pi * d * d / 4)
+        ee, dd, nu = e / 1000.0, d, 0.45
+        c1 = 2 * ee / dd * (1 + nu) + (1 - nu * nu) * dd / (dd + ee)
+        a = math.sqrt(bulk / water_12c.rho) / math.sqrt(1 + c1 * bulk * dd / (1.1e9 * ee))
+        pn = {17: 20 * 10 / (1.25 * 16), 11: 20 * 10 / (1.25 * 10)}[sdr]   # 10.0, 16.0
+        hand = {"velocity \\[m/s\\]": (q / (math.pi * d * d / 4), 2),
+                "peak velocity \\[m/s\\]": (v_peak, 2), "head loss \\[m\\]": (h, 2),
+                "pump head \\[m\\]": (head, 1), "electrical power \\[kW\\]": (power, 1),
+                "operating \\[bar\\]": (rho_g * head_max / 1e5, 1),
+                "PFA \\[bar\\]": (pn, 1),
+                "MDP \\[bar\\]": (rho_g * (head_max + a * v_peak / G_N) / 1e5, 1),
+                "PMA \\[bar\\]": (pn, 1)}
+        for col, (value, places) in hand.items():
+            assert abs(_num(row[col]) - value) <= 0.5 * 10**-places + 1e-9, (row["size"], col)
+        checked += 1
+    assert checked == 5
+
+
+@pytest.mark.reference
+def test_printed_summary_of_the_chosen_pipe_by_hand(sizing_report):
+    # the summary's line "EAC ...; present value ... = pipe ..., pump station ..., energy ...,
+    # maintenance ..., station renewals ..., residual value ..." against the chosen pipe's
+    # present values written out by hand (tests/test_plots.py, _hand_pv_of_the_chosen_pipe:
+    # EN 12201-2 dimensions, iapws water, mpmath Colebrook, explicit discounted sums, the
+    # capital recovery factor), each printed to the unit
+    from .test_plots import _hand_pv_of_the_chosen_pipe
+
+    md = (sizing_report / "report.md").read_text(encoding="utf-8")
+    m = re.search(r"EAC ([\d,]+) EUR/yr; present value ([\d,]+) EUR = pipe ([\d,]+), pump "
+                  r"station ([\d,]+), energy ([\d,]+), maintenance ([\d,]+), station renewals "
+                  r"([\d,]+), residual value (-[\d,]+)", md)
+    assert m is not None
+    hand = _hand_pv_of_the_chosen_pipe()
+    want = [hand["eac"], hand["pv_total"], hand["capex_pipe"], hand["pv_pump_station"],
+            hand["pv_energy"], hand["pv_maintenance"], hand["pv_replacement"],
+            -hand["pv_residual"]]
+    for printed, value in zip(m.groups(), want, strict=True):
+        assert abs(float(printed.replace(",", "")) - value) <= 0.5 + 1e-7 * abs(value)
+    assert "Best: pe100 500 SDR 17 (inner diameter 440.6 mm)" in md

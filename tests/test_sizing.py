@@ -535,3 +535,151 @@ def test_yearly_table_of_a_growing_study_by_hand():
     # negative in the table)
     assert y.loc[8, "residual"] == pytest.approx(-res.best["capex_pipe"] * (1 - 8 / 30),
                                                  rel=1e-12)
+
+
+# ------------------------------------------------------------------------------------------
+# feasibility rules, derating and a staged station, by hand
+# ------------------------------------------------------------------------------------------
+@pytest.mark.reference
+@pytest.mark.parametrize(("temperature", "factor"),
+                         [(15.0, 1.0), (25.0, 0.935), (30.0, 0.87), (35.0, 0.805)])
+def test_pe_ratings_derated_per_iso_4427_annex_a(temperature, factor):
+    # ISO 4427-1:2019 / EN 12201-1 Annex A, Table A.1 (from memory): PE factors 1.00 at 20,
+    # 0.87 at 30 and 0.74 at 40 degC, linear between (25 degC: (1.00 + 0.87) / 2 = 0.935,
+    # 35 degC: (0.87 + 0.74) / 2 = 0.805), 1.00 below 20 degC; PN of PE 100 SDR 17 =
+    # 20 MRS / (C (SDR - 1)) = 20 x 10 / (1.25 x 16) = 10 bar (ISO 4427-1); PFA = f PN
+    c = study_from(fluid={"kind": "water", "temperature": f"{temperature} degC"}).run().candidates
+    np.testing.assert_allclose(c["pressure_rating_bar"], 20 * 10 / (1.25 * 16), rtol=1e-12)
+    np.testing.assert_allclose(c["temperature_factor"], factor, rtol=1e-12)
+    np.testing.assert_allclose(c["pfa_bar"], 10.0 * factor, rtol=1e-12)
+
+
+@pytest.mark.reference
+def test_pe_above_its_40_degc_rating_is_refused_with_the_reason():
+    # ISO 4427-1 / EN 12201-1 give PE ratings for water from 0 to 40 degC only (from memory):
+    # at 45 degC no candidate is rated, each says why
+    c = study_from(fluid={"kind": "water", "temperature": "45 degC"}).run().candidates
+    assert not c["feasible"].any()
+    assert c["reasons"].str.contains("service temperature 45.0 degC").all()
+
+
+def wave_speed_pe100(od: float, e: float, bulk: float, rho: float) -> float:
+    """Korteweg's wave speed with Wylie & Streeter's thick-wall factor, anchored throughout
+    (docs/references.md#surge), for PE 100 (E = 1.1 GPa short-term, nu = 0.45, the values of
+    docs/references.md#surge) of outside diameter ``od`` and wall ``e``: D = OD - 2 e."""
+    nu = 0.45
+    d = od - 2 * e
+    c1 = 2 * e / d * (1 + nu) + (1 - nu * nu) * d / (d + e)
+    return math.sqrt(bulk / rho) / math.sqrt(1 + c1 * bulk * d / (1.1e9 * e))
+
+
+@pytest.mark.reference
+def test_feasibility_reasons_of_every_candidate_by_hand():
+    # a 60 m lift with limits 0.6-2.0 m/s, PE 100 SDR 17 (PN 10, ISO 4427-1) at 15 degC:
+    # - V = Q / (pi D^2 / 4) (continuity): too fast above 2.0, too slow below 0.6 m/s;
+    # - operating pressure rho g (60 m + Darcy-Weisbach loss, mpmath Colebrook root) above the
+    #   PFA 10 bar;
+    # - MDP = operating pressure + rho g a V / g (EN 805 from memory; Joukowsky 1900 with
+    #   Korteweg's a, K = rho w^2 of iapws at 15 degC) above the PMA, taken equal to PN 10
+    #   for PE (no surge allowance above PN: the conservative basis the catalog states)
+    import iapws
+
+    res = study_from(line={"length": "2 km", "static_head": "60 m"},
+                     constraints={"velocity_min": "0.6 m/s", "velocity_max": "2.0 m/s"}).run()
+    w = iapws.IAPWS95(T=288.15, P=0.101325)
+    bulk = w.rho * w.w ** 2
+    cat = res.study.candidates.set_index("size").loc[res.candidates["size"]]
+    kinds = set()
+    for (_, row), o, e in zip(res.candidates.iterrows(), cat["outside_diameter_m"],
+                              cat["wall_m"], strict=True):
+        d = row["inner_diameter_m"]
+        assert d == pytest.approx(o - 2 * e, rel=1e-12)      # the wall of the size table
+        assert 0.95 <= o / 17 / e <= 1.0 or e == 0.002         # OD / SDR rounded up, >= 2 mm
+        v = 0.2 / (math.pi * d * d / 4)
+        f = colebrook_mpmath(RHO_15 * v * d / MU_15, PE_ROUGHNESS / d)
+        p_op = RHO_15 * 9.80665 * (60.0 + f * 2000.0 / d * v * v / (2 * 9.80665))
+        surge = wave_speed_pe100(o, e, bulk, RHO_15) * v / 9.80665
+        mdp = p_op + RHO_15 * 9.80665 * surge
+        assert row["velocity_peak_m_s"] == pytest.approx(v, rel=1e-12)
+        assert row["surge_head_m"] == pytest.approx(surge, rel=1e-5)
+        assert row["mdp_bar"] == pytest.approx(mdp / 1e5, rel=1e-5)
+        want = {"exceeds velocity_max": v > 2.0, "below velocity_min": v < 0.6,
+                "exceeds PFA": p_op > 10e5, "exceeds PMA": mdp > 10e5}
+        got = {k: k in row["reasons"] for k in want}
+        assert got == want, row["size"]
+        assert row["feasible"] == (not any(want.values()))
+        if v > 2.0 or v < 0.6:
+            assert f"velocity {v:.2f} m/s" in row["reasons"]
+        kinds |= {k for k, on in want.items() if on}
+    assert kinds == {"exceeds velocity_max", "below velocity_min", "exceeds PFA",
+                     "exceeds PMA"}
+    assert res.candidates["feasible"].sum() >= 2
+
+
+@pytest.mark.reference
+def test_staged_pump_station_present_value_by_hand():
+    # flows grow 3 %/yr to the design year 20; the station (9000 (1.5 P)^0.68, standby 50 %)
+    # is built at year 0 for the peak of years 1-10 and extended at year 10 for the rest;
+    # each stage's capital discounted at 6 % (present value, common practice); maintenance
+    # 1.5 %/yr of the stages in service (the second from year 11); life 30: the year-10 stage
+    # is worth 1 - 20/30 of its capital at the horizon 30 (straight-line residual, common
+    # practice); peak P = rho g Q H / eta with H = 20 m + Darcy-Weisbach (mpmath Colebrook)
+    res = study_from(line={"length": "2 km", "static_head": "20 m"},
+                     growth={"flow_per_year": 0.03, "design_year": 20},
+                     economics={"discount_rate": 0.06, "horizon": 30, "pipe_life": 30},
+                     pump_station={"cost_coefficient": 9000.0, "cost_exponent": 0.68,
+                                   "standby_fraction": 0.5, "life": 30, "maintenance": 0.015,
+                                   "stages": [0, 10]}).run()
+    best = res.best
+    d = best["inner_diameter_m"]
+
+    def peak_kw(t):
+        q = 0.2 * 1.03 ** (min(t, 20) - 1)
+        v = q / (math.pi * d * d / 4)
+        f = colebrook_mpmath(RHO_15 * v * d / MU_15, PE_ROUGHNESS / d)
+        return RHO_15 * 9.80665 * q * (20.0 + f * 2000.0 / d * v * v / 19.6133) / 0.75 / 1e3
+
+    p_first = max(peak_kw(t) for t in range(1, 11))
+    p_all = max(peak_kw(t) for t in range(1, 31))
+    c0 = 9000.0 * (1.5 * p_first) ** 0.68
+    c1 = 9000.0 * (1.5 * (p_all - p_first)) ** 0.68
+    with mp.workdps(30):
+        disc = [mp.mpf(1) / mp.mpf("1.06") ** t for t in range(31)]
+        pv_capital = float(c0 + c1 * disc[10])
+        pv_maint = float(mp.fsum(0.015 * (c0 + (c1 if t > 10 else 0.0)) * disc[t]
+                                 for t in range(1, 31)))
+        pv_resid = float(c1 * (1 - mp.mpf(20) / 30) * disc[30])
+    assert best["installed_power_kw"] == pytest.approx(1.5 * p_all, rel=1e-5)
+    assert best["capex_pump_station"] == pytest.approx(c0 + c1, rel=1e-5)
+    assert best["pv_pump_station"] == pytest.approx(pv_capital, rel=1e-5)
+    assert best["pv_maintenance"] == pytest.approx(pv_maint, rel=1e-5)   # no pipe maintenance
+    assert best["pv_residual"] == pytest.approx(pv_resid, rel=1e-5)      # pipe life = horizon
+    assert best["pv_replacement"] == 0.0
+
+
+@pytest.mark.reference
+def test_growth_capped_by_the_flow_cap_by_hand():
+    # flows grow 5 %/yr and never exceed the cap 0.25 m3/s (multiplier min(1.05^(t-1), 1.25):
+    # the cap binds from year 6, 1.05^5 = 1.276 > 1.25); each year's energy by hand
+    # (Darcy-Weisbach, mpmath Colebrook, P = rho g Q H / eta), the largest velocity and pump
+    # head of any year at the cap (continuity Q / (pi D^2 / 4))
+    res = study_from(growth={"flow_per_year": 0.05, "flow_cap": "0.25 m^3/s"},
+                     economics={"discount_rate": 0.06, "horizon": 10, "pipe_life": 10}).run()
+    y = res.yearly().set_index("year")
+    best = res.best
+    d = best["inner_diameter_m"]
+
+    def head_loss(q):
+        v = q / (math.pi * d * d / 4)
+        f = colebrook_mpmath(RHO_15 * v * d / MU_15, PE_ROUGHNESS / d)
+        return f * 2000.0 / d * v * v / (2 * 9.80665)
+
+    for t in range(1, 11):
+        m = min(1.05 ** (t - 1), 1.25)
+        assert y.loc[t, "flow_multiplier"] == pytest.approx(m, rel=1e-14)
+        q = 0.2 * m
+        e_kwh = RHO_15 * 9.80665 * q * head_loss(q) / 0.75 * 8000.0 / 1000.0
+        assert y.loc[t, "energy_kwh"] == pytest.approx(e_kwh, rel=1e-5)
+    assert (y.loc[6:, "flow_multiplier"] == 1.25).all()
+    assert best["velocity_peak_m_s"] == pytest.approx(0.25 / (math.pi * d * d / 4), rel=1e-12)
+    assert best["pump_head_max_m"] == pytest.approx(head_loss(0.25), rel=1e-5)
