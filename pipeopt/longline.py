@@ -401,7 +401,8 @@ class LongLine:
 
         lengths = m.lengths
         total = lengths.sum()
-        gov = self._governing(extra["stretch_pressure"], pipe, cls)
+        gov = self._governing(np.asarray(extra["stretch_pressure"]),
+                              np.asarray(extra["stretch_velocity"]))
         rows = np.arange(pipe.size)
         lab = self._labels()
         prov = []
@@ -442,14 +443,22 @@ class LongLine:
             out[sel] = rows[np.minimum(cls[sel], rows.size - 1)]
         return out
 
-    def _governing(self, pressure: np.ndarray, pipe: np.ndarray, cls: np.ndarray) -> np.ndarray:
-        """The stretch with the least margin to its PFA (or the highest pressure where none
-        is rated), (D,) from pressures (D, P − 1)."""
-        pfa = self.model.pick("pfa", pipe, cls)
-        rated = self.model.pick("rated", pipe, cls)
-        margin = np.where(rated, pfa - pressure, np.inf)
-        return np.where(np.isfinite(margin).any(axis=1), np.argmin(margin, axis=1),
-                        np.argmax(pressure, axis=1))
+    def _governing(self, pressure: np.ndarray, velocity: np.ndarray) -> np.ndarray:
+        """The governing stretch of each design: the least margin to its PFA (operating
+        pressure) or to its PMA (with surge), the EN 805 checks; the highest pressure where no
+        stretch is rated. From pressures [Pa] and velocities [m/s] ([S,] D, P − 1); the same
+        stretch gives the table's rating and the checks' PFA, PMA and MDP."""
+        m, con = self.model, self.constraints
+        pipe, cls = self.design_pipe, self.design_classes
+        pfa, pma = m.pick("pfa", pipe, cls), m.pick("pma", pipe, cls)
+        rated = m.pick("rated", pipe, cls)
+        surge = (np.full(np.shape(velocity), float(con.surge_allowance))
+                 if con.surge_allowance is not None
+                 else m.pick("wave", pipe, cls) * velocity / GRAVITY)
+        mdp = pressure + self.scenario.density * GRAVITY * surge
+        margin = np.where(rated, np.minimum(pfa - pressure, pma - mdp), np.inf)
+        return np.where(np.isfinite(margin).any(axis=-1), np.argmin(margin, axis=-1),
+                        np.argmax(pressure, axis=-1))
 
     # ----- evaluation -------------------------------------------------------------------------
     def evaluate(self, variations: Variations | None = None, yearly: bool = True
@@ -498,7 +507,7 @@ class LongLine:
         mdp = p + rho_g * surge
         over_pfa_z = rated & usable & (p > pfa * (1 + 1e-12))
         over_pma_z = rated & usable & (mdp > pma * (1 + 1e-12))
-        gov = np.argmin(np.where(rated, np.minimum(pfa - p, pma - mdp), np.inf), axis=-1)
+        gov = self._governing(p, vel)
         def pick(a: np.ndarray) -> np.ndarray:  # the governing stretch's figure
             return np.take_along_axis(np.broadcast_to(a, p.shape), gov[..., None],
                                       axis=-1)[..., 0]

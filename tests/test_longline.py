@@ -476,13 +476,10 @@ def test_classes_telescope_to_the_lightest_en545_class_that_holds(demo):
 
 
 @pytest.mark.reference
-@pytest.mark.xfail(strict=True, reason="package bug: for a long line, pressure_rating_bar is "
-                   "taken at the stretch with the least margin to PFA, while pfa_bar and "
-                   "pma_bar are taken at the stretch with the least margin to PFA or PMA, so "
-                   "the row can read 'PFA 25.0 of 30.0 bar' for a C25 pipe")
 def test_every_design_rating_is_the_pfa_of_its_governing_class(demo):
     # EN 545:2010 (from memory): the rating of a C class is its number in bar and is its PFA;
-    # at 12 degC no derating, so each row's rating equals its PFA and PMA = 1.2 x rating
+    # at 12 degC no derating, so each row's rating equals its PFA and PMA = 1.2 x rating (the
+    # rating and the PFA/PMA were once taken at different stretches: 'PFA 25.0 of 30.0 bar')
     _, res = demo
     c = res.candidates
     assert (c["temperature_factor"] == 1.0).all()
