@@ -392,3 +392,121 @@ def test_run_writes_every_candidate_as_the_hand_computation(hand_file, tmp_path)
         assert row["pv_total"] == pytest.approx(want["pv"], rel=1e-6)
         assert row["eac"] == pytest.approx(want["eac"], rel=1e-6)
     assert df.loc[df["eac"].idxmin(), "rank"] == 1
+
+
+def run_text(tmp_path, text: str, *args: str) -> str:
+    f = tmp_path / "study.toml"
+    f.write_text(text, encoding="utf-8")
+    with contextlib.redirect_stdout(io.StringIO()) as buffer:
+        assert main(["run", str(f), *args]) == 0
+    return buffer.getvalue()
+
+
+@pytest.mark.reference
+def test_run_with_swamee_jain_prints_its_explicit_friction(tmp_path):
+    # Swamee & Jain (1976): f = 0.25 / log10(k/(3.7 D) + 5.74 / Re^0.9)^2 (docs/references.md
+    # #friction), h = f L/D V^2/2g; water at 15 degC from the iapws package (IAPWS-95)
+    from iapws import IAPWS95
+
+    text = HAND_STUDY.replace("[economics]", "[hydraulics]\nfriction_method = \"swamee-jain\"\n"
+                              "[economics]")
+    stdout = run_text(tmp_path, text)
+    od = int(re.search(r"Best: pe100 (\d+) SDR 17", stdout).group(1))
+    water = IAPWS95(T=288.15, P=0.101325)
+    d = (od - 2 * SDR17_WALLS[od]) / 1000
+    v = 0.2 / (math.pi * d * d / 4)
+    re_ = water.rho * v * d / water.mu
+    f = 0.25 / math.log10(PE_ROUGHNESS / (3.7 * d) + 5.74 / re_**0.9) ** 2
+    h = f * 2000.0 / d * v * v / (2 * G)
+    assert _number(r"head loss ([\d.]+) m", stdout) == pytest.approx(h, abs=0.005 + 1e-9)
+    assert _number(r"pump head ([\d.]+) m, elec", stdout) == pytest.approx(10 + h, abs=0.05)
+
+
+@pytest.mark.reference
+def test_run_with_two_duty_points_prints_the_energy_by_hand(tmp_path):
+    # two duty points, 0.2 m^3/s for 5000 h and 0.12 m^3/s for 3000 h, and a demand charge of
+    # 40 a kW of the year's peak: E = sum P_k h_k, bill_t = E p (1 + e)^(t - 1) + 40 P_peak,
+    # the year-by-year mpmath sum as hand_figures (docs/references.md#economics)
+    from iapws import IAPWS95
+
+    from tests.conftest import colebrook_mpmath
+
+    text = (HAND_STUDY.replace("flow = \"0.2 m^3/s\"\nhours = 8000",
+                               "flow = \"0.2 m^3/s\"\nhours = 5000\n[[duty]]\n"
+                               "flow = \"0.12 m^3/s\"\nhours = 3000")
+            .replace("escalation = 0.01", "escalation = 0.01\ndemand_charge = 40.0"))
+    stdout = run_text(tmp_path, text)
+    od = int(re.search(r"Best: pe100 (\d+) SDR 17", stdout).group(1))
+    water = IAPWS95(T=288.15, P=0.101325)
+    d = (od - 2 * SDR17_WALLS[od]) / 1000
+
+    def kw(q):
+        v = q / (math.pi * d * d / 4)
+        f = colebrook_mpmath(water.rho * v * d / water.mu, PE_ROUGHNESS / d)
+        return water.rho * G * q * (10.0 + f * 2000.0 / d * v * v / (2 * G)) / 0.75 / 1000
+
+    energy_kwh = kw(0.2) * 5000 + kw(0.12) * 3000
+    with mp.workdps(30):
+        pv = sum((energy_kwh * mp.mpf("0.1") * mp.mpf("1.01") ** (t - 1) + 40 * kw(0.2))
+                 / mp.mpf("1.06") ** t for t in range(1, 31))
+    assert _number(r"energy ([\d,]+), resid", stdout) == pytest.approx(float(pv), abs=0.5 + 1e-3)
+    assert _number(r"electrical power ([\d.]+) kW", stdout) == pytest.approx(kw(0.2), abs=0.05)
+
+
+@pytest.mark.reference
+def test_run_prints_genereaux_continuous_optimum(tmp_path):
+    # constant friction f = 0.015 and a cost a D^m per metre of the bore (a table by
+    # designation, a = 1500, m = 1.4, over the EN 12201-2 bores): the optimum of
+    # C(D) = A D^m + B D^-5, A = a CRF, B = 8 f rho Q^3 tau p / (pi^2 eta), is
+    # D* = (5B/(mA))^(1/(m+5)) (Genereaux 1937; docs/references.md#economics); no lift, no
+    # escalation, pipe life = horizon
+    from iapws import IAPWS95
+
+    bores = {od: (od - 2 * w) / 1000 for od, w in SDR17_WALLS.items()}
+    table = ", ".join(f'"{od} SDR 17" = {1500.0 * b**1.4!r}' for od, b in bores.items())
+    text = (HAND_STUDY.replace("static_head = \"10 m\"", "static_head = \"0 m\"")
+            .replace("escalation = 0.01\n", "")
+            .replace("pipe_life = 50", "pipe_life = 30")
+            .replace("[economics]", "[hydraulics]\nfriction_method = \"constant\"\n"
+                     "friction_factor = 0.015\n[economics]")
+            .replace("cost = { coefficient = 1500.0, exponent = 1.4 }",
+                     f"cost = {{ table = {{ {table} }} }}"))
+    stdout = run_text(tmp_path, text)
+    rho = IAPWS95(T=288.15, P=0.101325).rho
+    i, n = 0.06, 30
+    crf = i * (1 + i) ** n / ((1 + i) ** n - 1)
+    big_a = 1500.0 * crf
+    big_b = 8 * 0.015 * rho * 0.2**3 * 8000 * 0.1 / (math.pi**2 * 0.75 * 1000)
+    d_star = (5 * big_b / (1.4 * big_a)) ** (1 / 6.4)
+    line = stdout[stdout.index("Continuous optimum"):].splitlines()[1]
+    assert "between 450 SDR 17 and 500 SDR 17" in line       # inside the sizes, not at an end
+    assert float(re.search(r"SDR 17\s+([\d.]+) mm", line).group(1)) == pytest.approx(
+        d_star * 1000, abs=0.05 + 1e-9)
+    eac = big_a * d_star**1.4 * 2000.0 + big_b * d_star**-5 * 2000.0
+    assert float(re.search(r"EAC\s+([\d,]+) EUR", line).group(1).replace(",", "")) == \
+        pytest.approx(eac, abs=0.5 + 1e-3)
+
+
+@pytest.mark.reference
+def test_catalog_pe80_ratings_round_down_to_r10(capsys):
+    # ISO 4427-1: PN = 20 MRS / (C (SDR - 1)), MRS 8 MPa for PE 80, C = 1.25, rounded down to
+    # the R10 series (ISO 3, preferred numbers): SDR 11 gives 12.8 -> PN 12.5; SDR 17 gives 8.0
+    # -> PN 8; walls as the ISO 4065 table (EN 12201-2 Table 2)
+    sdr11 = catalog_rows(capsys, "pe80", "--class", "SDR 11")
+    assert {r[4] for r in sdr11.values()} == {12.5}
+    check_walls_and_bores(sdr11, {"160 SDR 11": (160, 14.6), "250 SDR 11": (250, 22.7)})
+    sdr17 = catalog_rows(capsys, "pe80", "--class", "SDR 17")
+    assert {r[4] for r in sdr17.values()} == {20 * 8 / (1.25 * 16)}
+    check_walls_and_bores(sdr17, {"200 SDR 17": (200, 11.9), "315 SDR 17": (315, 18.7)})
+
+
+@pytest.mark.reference
+def test_catalog_diameter_filter_in_inches(capsys):
+    # --min-diameter "12 in" is 304.8 mm (NIST SP 811 (2008), B.9: 1 in = 0.0254 m exactly):
+    # every listed bore reaches it, and the largest bore below it, NPS 12 STD's 304.74 mm
+    # (ASME B36.10M: OD 323.8, wall 9.53, from memory), is left out
+    rows = catalog_rows(capsys, "steel", "--min-diameter", "12 in", "--max-diameter", "20 in")
+    bores = [r[3] for r in rows.values()]
+    assert bores and min(bores) >= 12 * 25.4 and max(bores) <= 20 * 25.4
+    assert not [k for k in rows if k.startswith("NPS 12 STD ")]
+    assert 323.8 - 2 * 9.53 < 12 * 25.4
