@@ -9,6 +9,7 @@ import sys
 import tomllib
 from importlib import resources
 
+import numpy as np
 import pytest
 
 from pipeopt.cli import main
@@ -120,7 +121,8 @@ def cli_run(tmp_path_factory):
     f = quick_file(folder)
     with contextlib.redirect_stdout(io.StringIO()) as buffer:
         assert main(["network", str(f), "--out", str(folder / "res")]) == 0
-    tables = {n: pd.read_csv(folder / "res" / f"{n}.csv") for n in ("pipes", "nodes", "cases")}
+    tables = {n: pd.read_csv(folder / "res" / f"{n}.csv") for n in ("pipes", "nodes", "cases",
+                                                                 "cash_flows")}
     sizes = dict(zip(tables["pipes"]["pipe"], tables["pipes"]["size"], strict=True))
     return buffer.getvalue(), tables, quillmere_reference(sizes)
 
@@ -241,3 +243,119 @@ def test_printed_pipe_capital_and_energy_present_value_by_hand(cli_run):
                      * mp.mpf("0.14") * mp.mpf("1.01") ** (t - 1) / mp.mpf("1.05") ** t
                      + 60 * mp.mpf(kw["peak hour"]) / mp.mpf("1.05") ** t for t in range(1, 41))
     assert energy_pv == pytest.approx(float(energy), abs=0.5 + float(energy) * 1e-6)
+
+
+def _powers(ref) -> dict[str, float]:
+    """Electrical power of each case [kW], rho g Q H / 0.72 from the independent solution
+    (water at 12 degC, IAPWS-95 by the iapws package)."""
+    from iapws import IAPWS95
+
+    rho = IAPWS95(T=285.15, P=0.101325).rho
+    return {k: rho * 9.80665 * sum(v["demand"].values()) * (v["source_head"] - 31.0) / 0.72
+            / 1000 for k, v in ref.items()}
+
+
+def _pipe_capital(pipes) -> float:
+    from tests.test_network_report import EN545
+
+    new = pipes[pipes["status"] == "new"]
+    return sum(2100.0 * (EN545[s][0] / 1000) ** 1.3 * n
+               for s, n in zip(new["size"], new["length_m"], strict=True))
+
+
+@pytest.mark.reference
+def test_pump_station_installed_power_and_stages_by_hand(cli_run):
+    # installed = peak power x (1 + standby 0.5); capital 9000 x installed^0.68 at year 0, bought
+    # again at the end of its 20-year life (the file's [pump_station]; DEVELOPERS.md, the sizing
+    # model, step 3), with the peak power of the independent solution
+    stdout, tables, ref = cli_run
+    installed = 1.5 * max(_powers(ref).values())
+    assert _number_in(r"installed ([\d.]+) kW", stdout) == pytest.approx(installed,
+                                                                         abs=0.05 + 1e-9)
+    cash = tables["cash_flows"].set_index("year")
+    station = 9000.0 * installed**0.68
+    assert cash.loc[0, "capital_station"] == pytest.approx(station, rel=1e-6)
+    assert cash.loc[20, "station_renewal"] == pytest.approx(station, rel=1e-6)
+    assert (cash["station_renewal"].drop(20) == 0).all()
+    assert _number_in(r"pump station ([\d,]+), energy", stdout) == pytest.approx(station,
+                                                                                 abs=0.5 + 1)
+
+
+def _number_in(pattern: str, text: str) -> float:
+    return float(re.search(pattern, text).group(1).replace(",", ""))
+
+
+@pytest.mark.reference
+def test_cash_flows_file_energy_maintenance_and_residual_by_hand(cli_run):
+    # every year t = 1..40: energy (P_avg 7300 h + P_peak 1460 h) x 0.14 x 1.01^(t-1) + 60 P_peak;
+    # maintenance 0.003 of the pipe capital + 0.015 of the station's; at year 40 the pipes,
+    # half-way through their 80-year life, are credited 1 - 40/80 of their capital
+    # (straight line; the file's [economics] and [pump_station]); discount factor 1.05^-t
+    _, tables, ref = cli_run
+    kw = _powers(ref)
+    pipes = _pipe_capital(tables["pipes"])
+    station = 9000.0 * (1.5 * kw["peak hour"]) ** 0.68
+    cash = tables["cash_flows"].set_index("year")
+    assert list(cash.index) == list(range(41))
+    for t in range(1, 41):
+        energy = ((kw["average day"] * 7300 + kw["peak hour"] * 1460) * 0.14 * 1.01 ** (t - 1)
+                  + 60 * kw["peak hour"])
+        assert cash.loc[t, "energy"] == pytest.approx(energy, rel=1e-6), t
+        assert cash.loc[t, "maintenance"] == pytest.approx(0.003 * pipes + 0.015 * station,
+                                                           rel=1e-6), t
+        assert cash.loc[t, "discount_factor"] == pytest.approx(1.05**-t, rel=1e-9), t
+    assert cash.loc[40, "residual"] == pytest.approx(-(1 - 40 / 80) * pipes, rel=1e-9)
+    assert (cash["residual"].drop(40) == 0).all()
+    assert cash.loc[0, "capital_pipe"] == pytest.approx(pipes, rel=1e-9)
+
+
+@pytest.mark.slow
+@pytest.mark.reference
+def test_hazen_williams_network_heads_against_an_independent_solution(tmp_path):
+    # the demo network with head_loss = "hazen-williams": h = 10.67 L Q^1.852 / (C^1.852
+    # D^4.87) (SI form, common water-engineering texts; docs/references.md#friction), C 140 for
+    # the new cement-lined ductile iron (common practice, from memory) and 80 given to the old
+    # main; the ring's junction heads by scipy.optimize.root (tests/network_reference.py), the
+    # rising main (the whole demand) by hand with its K V^2/2g, the pumps lifting just enough
+    import pandas as pd
+
+    from tests.network_reference import hw_flow_from_drop, hw_head_loss, node_heads
+    from tests.test_network_report import _length, demo_network, en545_bore
+
+    f = quick_file(tmp_path, evaluations=500)      # any design will do: the check is of its heads
+    f.write_text(f.read_text(encoding="utf-8")
+                 .replace('head_loss = "darcy-weisbach"',
+                          'head_loss = "hazen-williams"\nhazen_williams_coefficient = 10.67')
+                 .replace('roughness = "1.5 mm"', "hazen_williams_c = 80.0"), encoding="utf-8")
+    assert main(["network", str(f), "--out", str(tmp_path / "res"), "--quiet"]) == 0
+    nodes = pd.read_csv(tmp_path / "res" / "nodes.csv")
+    pipes = pd.read_csv(tmp_path / "res" / "pipes.csv")
+    sizes = dict(zip(pipes["pipe"], pipes["size"], strict=True))
+    d = demo_network()
+    names = [n["name"] for n in d["node"]]
+    z = np.array([_length(n["elevation"]) for n in d["node"]])
+    pmin = np.array([_length(n.get("min_pressure_head", "25 m")) for n in d["node"]])
+    demand = np.array([float(n["demand"].split()[0]) / 1000 for n in d["node"]])
+    main_pipe, *ring = d["pipe"]
+    idx = {n: k - 1 for k, n in enumerate(names)}
+    idx[names[0]] = len(names) - 1                          # Quillmere Cross held fixed
+    start = np.array([idx[p["from"]] for p in ring])
+    end = np.array([idx[p["to"]] for p in ring])
+    length = np.array([_length(p["length"]) for p in ring])
+    bore = np.array([0.15 if "inner_diameter" in p else en545_bore(sizes[p["name"]])
+                     for p in ring])
+    c = np.array([80.0 if "inner_diameter" in p else 140.0 for p in ring])
+    d_main = en545_bore(sizes[main_pipe["name"]])
+    for duty in d["duty"]:
+        q = demand * duty["demand_factor"]
+        v = q.sum() / (math.pi * d_main**2 / 4)
+        loss = hw_head_loss(q.sum(), 1600.0, d_main, 140.0, 10.67) + 6.0 * v * v / (2 * 9.80665)
+        rel = node_heads(len(names) - 1, start, end,
+                         lambda x: hw_flow_from_drop(x, length, bore, c, 10.67), q[1:], [0.0],
+                         np.full(len(names) - 1, -5.0))
+        drop = np.concatenate([[loss], loss - rel])
+        source = float(np.max(z + pmin + drop))
+        heads = dict(zip(names, source - drop, strict=True))
+        for _, row in nodes[nodes["case"] == duty["name"]].iterrows():
+            want = source if row["kind"] == "source" else heads[row["node"]]
+            assert row["head_m"] == pytest.approx(want, abs=1e-6), row["node"]
