@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import math
 import tomllib
+from fractions import Fraction
 from importlib import resources
 
 import mpmath as mp
@@ -104,14 +106,43 @@ def test_hostile_names_are_inert_in_every_file(tmp_path):
 # from the published equations only; used here and by the network CLI and plot tests
 # ------------------------------------------------------------------------------------------
 G = 9.80665                  # standard gravity (CGPM 1901)
-# EN 545:2010 outside diameter DE, nominal wall of class C40 (C30 from DN 350) and the
+
+
+def en545_c_wall(dn: int, de: int, pfa: int) -> float:
+    """Nominal wall [mm] of class C<PFA> by the EN 545:2010 design rule (from memory;
+    docs/references.md#pipe-dimensions): e_min = PFA SF DE / (20 Rm + PFA SF), SF = 3,
+    Rm = 420 MPa, at least 3.0 mm; e = e_min + 1.3 + 0.001 DN, rounded up to 0.1 mm (exact
+    rational arithmetic)."""
+    e_min = max(Fraction(pfa * 3 * de, 20 * 420 + pfa * 3), Fraction(3))
+    return math.ceil((e_min + Fraction(13, 10) + Fraction(dn, 1000)) * 10) / 10
+
+
+# EN 545:2010 outside diameter DE, nominal wall of class C40 (the demo's class) and the
 # cement-mortar lining of EN 545 / ISO 4179 (all from memory; docs/references.md#pipe-
-# dimensions, pipeopt/data/standard_tables.csv): DE, wall, lining [mm]
+# dimensions, pipeopt/data/standard_tables.csv): DE, wall, lining [mm]. To DN 300 C40 is the
+# preferred class and its table wall is recorded; DN 350 and 400 C40 by the design rule.
 EN545 = {"DN 100": (118, 4.4, 3), "DN 125": (144, 4.5, 3), "DN 150": (170, 4.5, 3),
          "DN 200": (222, 4.7, 3), "DN 250": (274, 5.5, 3), "DN 300": (326, 6.2, 3),
-         "DN 350": (378, 6.3, 5), "DN 400": (429, 6.5, 5)}
+         "DN 350": (378, en545_c_wall(350, 378, 40), 5),
+         "DN 400": (429, en545_c_wall(400, 429, 40), 5)}
 DI_ROUGHNESS = 0.1e-3        # cement-mortar lined ductile iron (common practice, from memory)
 OLD_MAIN = (0.15, 1.5e-3)    # the existing main's bore and roughness, as the file gives them
+
+
+@pytest.mark.reference
+def test_the_en545_rule_reproduces_the_preferred_class_walls():
+    # the rule above against the remembered table walls of the C40 preferred class (EN 545:2010
+    # from memory; pipeopt/data/standard_tables.csv) from DN 150 to DN 300, where the two
+    # agree; then the bundled catalog's DN 350 and DN 400 C40 (no table wall recorded) against
+    # the rule
+    from pipeopt import catalog
+
+    for dn, de, wall in ((150, 170, 4.5), (200, 222, 4.7), (250, 274, 5.5), (300, 326, 6.2)):
+        assert en545_c_wall(dn, de, 40) == wall, dn
+    sizes = catalog.list_sizes("ductile-iron", classes="C40").set_index("designation")
+    for dn, de in ((350, 378), (400, 429)):
+        assert sizes.loc[f"DN {dn} C40", "wall_m"] * 1000 == pytest.approx(
+            en545_c_wall(dn, de, 40), abs=1e-9)
 
 
 def en545_bore(size: str) -> float:
