@@ -86,7 +86,8 @@ WALLS = {400: 23.7, 450: 26.7, 500: 29.7, 560: 33.2, 630: 37.4}
 G = 9.80665                         # standard gravity (CGPM 1901)
 
 
-def hand(od_mm, price=0.1, escalation=0.01, rate=0.06, horizon=30, eta=0.75, factor=1.0):
+def hand(od_mm, price=0.1, escalation=0.01, rate=0.06, horizon=30, eta=0.75, factor=1.0,
+         hours=8000.0, coefficient=1500.0, material="pe100"):
     """One size by hand: Darcy-Weisbach with a 40-digit mpmath Colebrook root (Colebrook
     1939; roughness 0.007 mm, PE on the Moody chart), water at 15 degC from the iapws package
     (IAPWS-95), P = rho g Q H / eta; PV = capital + the year-by-year sum of p (1 + e)^(t - 1)
@@ -103,15 +104,15 @@ def hand(od_mm, price=0.1, escalation=0.01, rate=0.06, horizon=30, eta=0.75, fac
     f = colebrook_mpmath(water.rho * v * d / water.mu, 0.007e-3 / d)
     h = f * 2000.0 / d * v * v / (2 * G)
     kw = water.rho * G * q * (10.0 + h) / eta / 1000
-    capital = 1500.0 * (od_mm / 1000) ** 1.4 * 2000.0
+    capital = coefficient * (od_mm / 1000) ** 1.4 * 2000.0
     with mp.workdps(30):
         i, e = mp.mpf(rate), mp.mpf(escalation)
-        energy = sum(kw * 8000 * mp.mpf(price) * (1 + e) ** (t - 1) / (1 + i) ** t
+        energy = sum(kw * hours * mp.mpf(price) * (1 + e) ** (t - 1) / (1 + i) ** t
                      for t in range(1, horizon + 1))
         pv = capital + energy - capital * (1 - mp.mpf(horizon) / 50) / (1 + i) ** horizon
         crf = i * (1 + i) ** horizon / ((1 + i) ** horizon - 1)
-        return {"size": f"{od_mm} SDR 17", "velocity": v, "head_loss": h, "kw": kw,
-                "eac": float(pv * crf)}
+        return {"material": material, "size": f"{od_mm} SDR 17", "velocity": v,
+                "head_loss": h, "kw": kw, "eac": float(pv * crf)}
 
 
 def _shown_rows(ex) -> dict[str, list[str]]:
@@ -124,7 +125,7 @@ def _shown_rows(ex) -> dict[str, list[str]]:
 def _check_against_hand(ex, **inputs):
     want = {od: hand(od, **inputs) for od in WALLS}
     best = min(want.values(), key=lambda r: r["eac"])          # brute force over the sizes
-    assert ex.best["size"] == best["size"]
+    assert (ex.best["material"], ex.best["size"]) == (best["material"], best["size"])
     assert ex.best["eac"] == pytest.approx(best["eac"], rel=1e-6)
     shown = _shown_rows(ex)
     for r in want.values():
@@ -167,3 +168,27 @@ def test_escalation_slider_by_hand():
     ex = pipeopt.explore(SizingStudy.from_dict(STUDY), debounce=0)
     ex.controls["escalation"].value = 0.03
     _check_against_hand(ex, escalation=0.03)
+
+
+@pytest.mark.reference
+def test_hours_slider_by_hand():
+    ex = pipeopt.explore(SizingStudy.from_dict(STUDY), debounce=0)
+    ex.controls["hours_factor"].value = 0.8                   # 6400 h a year
+    _check_against_hand(ex, hours=6400.0)
+
+
+@pytest.mark.reference
+def test_material_filter_shows_the_hand_best_of_the_material_kept():
+    # PE 80 beside PE 100 at a lower cost a metre (1300 OD^1.4, invented): the same SDR 17
+    # walls (ISO 4065, EN 12201-2 Table 2) and roughness; with both shown the cheaper PE 80
+    # is best by the hand figures, with PE 100 alone PE 100's hand best
+    both = dict(STUDY, material=[*STUDY["material"], {
+        "name": "pe80", "classes": ["SDR 17"], "min_diameter": "350 mm",
+        "max_diameter": "600 mm", "cost": {"coefficient": 1300.0, "exponent": 1.4}}])
+    ex = pipeopt.explore(SizingStudy.from_dict(both), debounce=0)
+    pe80 = min((hand(od, coefficient=1300.0, material="pe80") for od in WALLS),
+               key=lambda r: r["eac"])
+    assert (ex.best["material"], ex.best["size"]) == ("pe80", pe80["size"])
+    assert ex.best["eac"] == pytest.approx(pe80["eac"], rel=1e-6)
+    ex.controls["materials"].value = ("pe100",)
+    _check_against_hand(ex)
