@@ -262,3 +262,72 @@ def test_a_study_file_in_us_customary_units_reads_to_si(tmp_path):
                                                           rel=1e-15)
     assert fluid.quantity("temperature", "temperature") == pytest.approx(
         float(28 * Fraction(5, 9) + Fraction("273.15")), rel=1e-15)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("text", "exact"), [
+    ("1 ft/s", FOOT),                                # 0.3048 m/s
+    ("1 mph", 5280 * FOOT / 3600),                   # 0.44704 m/s exactly (NIST SP 811, B.9)
+    ("3.6 km/h", Fraction(1)),
+])
+def test_velocities_are_read_to_the_exact_definitions(text, exact):
+    assert _si(text, "velocity") == pytest.approx(float(exact), rel=1e-15, abs=0)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("text", "exact"), [
+    ("1 survey_foot", Fraction(1200, 3937)),         # U.S. survey foot (NIST SP 811, B.6)
+    ("1 nmi", Fraction(1852)),                       # nautical mile, 1852 m exactly
+    ("10 ft", 10 * FOOT),                            # a head of 3.048 m
+])
+def test_survey_and_nautical_lengths(text, exact):
+    assert _si(text, "length") == pytest.approx(float(exact), rel=1e-15, abs=0)
+    assert _si(text, "head") == pytest.approx(float(exact), rel=1e-15, abs=0)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("text", "kind", "exact"), [
+    ("1 lb/ft", "mass_per_length", POUND / FOOT),    # 1.488164 kg/m (NIST SP 811, B.8)
+    ("45 kg/m", "mass_per_length", Fraction(45)),
+    ("1 g/cm^3", "density", Fraction(1000)),
+])
+def test_masses_per_length_and_densities(text, kind, exact):
+    assert _si(text, kind) == pytest.approx(float(exact), rel=1e-15, abs=0)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("text", "exact"), [
+    # Btu_IT = 4.1868 J/g x 453.59237 g x 5/9 = 1055.05585262 J exactly (the IT calorie;
+    # NIST SP 811 (2008), B.8: Btu_IT per hour 2.930 711 E-01 W)
+    ("1 Btu_it/h", Fraction("4.1868") * Fraction("453.59237") * Fraction(5, 9) / 3600),
+    ("1 metric_horsepower", 75 * G_N),               # 75 kgf m/s = 735.49875 W (NIST SP 811)
+])
+def test_thermal_and_metric_power_units(text, exact):
+    assert _si(text, "power") == pytest.approx(float(exact), rel=1e-15, abs=0)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("text", "exact"), [
+    ("1 P", Fraction(1, 10)),                         # poise: 0.1 Pa s (NIST SP 811, B.8)
+    ("1 lb/(ft*s)", POUND / FOOT),                    # 1.488164 Pa s
+])
+def test_viscosity_in_poise_and_pound_units(text, exact):
+    assert _si(text, "viscosity") == pytest.approx(float(exact), rel=1e-15, abs=0)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("text", "exact", "rel"), [
+    ("1 torr", Fraction(101325, 760), 1e-15),         # 1/760 of the standard atmosphere
+    ("1 mmHg", Fraction("133.3224"), 5e-7),           # conventional: 1.333 224 E+02 Pa, NIST
+    ("25 mbar", Fraction(2500), 1e-15),               # SP 811 (2008), B.8, printed to 7 figures
+])
+def test_pressures_of_mercury_and_millibar(text, exact, rel):
+    assert _si(text, "pressure") == pytest.approx(float(exact), rel=rel, abs=0)
+
+
+@pytest.mark.reference
+def test_imperial_gallons_per_minute():
+    # 1 imperial gallon = 4.54609 L exactly (UK Weights and Measures Act 1985; NIST SP 811, B.9)
+    assert _si("1 imperial_gallon/min", "flow") == pytest.approx(
+        float(Fraction("4.54609") / 1000 / 60), rel=1e-15, abs=0)
+    assert _si("1 gal/min", "flow") < _si("1 imperial_gallon/min", "flow")   # 231 in^3 < 4.546 L
