@@ -194,3 +194,15 @@ def test_growth_read_from_a_programme_file_by_compound_growth():
     with mp.workdps(30):
         want = [float((1 + mp.mpf("0.025")) ** (min(t, 20) - 1)) for t in range(1, 41)]
     np.testing.assert_allclose(grown.multipliers(40), want, rtol=1e-14)
+
+
+@pytest.mark.reference
+def test_growth_without_a_design_year_compounds_every_year():
+    # [growth] flow_per_year = 2 % with no design year: (1 + g)^(t - 1) in every year t of the
+    # horizon (compound growth), against 30-digit mpmath; one year's step is exactly 1 + g
+    data = dict(DEMO, growth={"flow_per_year": 0.02})
+    grown = flow_growth(read_programme(data, ROOT)["growth"]).multipliers(40)
+    with mp.workdps(30):
+        want = [float(mp.mpf("1.02") ** (t - 1)) for t in range(1, 41)]
+    np.testing.assert_allclose(grown, want, rtol=1e-14)
+    np.testing.assert_allclose(grown[1:] / grown[:-1], 1.02, rtol=1e-14)
