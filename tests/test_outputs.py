@@ -786,3 +786,39 @@ def test_kill_during_in_place_replacement_never_passes_a_mixture(driver, tmp_pat
     _timed_run(d, args["A"], exchange=False)
     assert read_manifest(out).files == refs["A"]
     assert _listing(out) <= set(refs["A"]) | set(foreign) | {MANIFEST, "figures", "drafts"}
+
+
+@pytest.mark.reference
+def test_printable_removes_every_unicode_control_character():
+    # the Unicode Character Database, through the unicodedata module: every character of
+    # general category Cc (the C0 and C1 controls and DEL, 65 of them) is removed, but the tab
+    # and the newline; ESC and the one-byte CSI go with the sequence they start (ECMA-48, 5.4)
+    import unicodedata
+
+    controls = [chr(c) for c in range(sys.maxunicode + 1)
+                if unicodedata.category(chr(c)) == "Cc"]
+    assert len(controls) == 65
+    for ch in controls:
+        if ch in "\t\n":
+            assert printable(f"a{ch}b") == f"a{ch}b"
+        elif ch in "\x1b\x9b":
+            start = "\x1b[" if ch == "\x1b" else ch
+            assert printable(f"a{start}0;1mb") == "ab", hex(ord(ch))
+        else:
+            assert printable(f"a{ch}b") == "ab", hex(ord(ch))
+
+
+@pytest.mark.reference
+def test_printable_removes_the_bidirectional_embeddings_overrides_and_isolates():
+    # Boucher & Anderson, "Trojan Source" (USENIX Security 2023), Table 1: LRE, RLE, LRO, RLO,
+    # PDF, LRI, RLI, FSI, PDI. Found here by their bidirectional class in the Unicode Character
+    # Database (unicodedata), not by a list of code points
+    import unicodedata
+
+    classes = {"LRE", "RLE", "LRO", "RLO", "PDF", "LRI", "RLI", "FSI", "PDI"}
+    found = [chr(c) for c in range(sys.maxunicode + 1)
+             if unicodedata.bidirectional(chr(c)) in classes]
+    assert [hex(ord(c)) for c in found] == [hex(c) for c in (*range(0x202A, 0x202F),
+                                                               *range(0x2066, 0x206A))]
+    for ch in found:
+        assert printable(f"abc{ch}def") == "abcdef", hex(ord(ch))
