@@ -510,3 +510,34 @@ def test_catalog_diameter_filter_in_inches(capsys):
     assert bores and min(bores) >= 12 * 25.4 and max(bores) <= 20 * 25.4
     assert not [k for k in rows if k.startswith("NPS 12 STD ")]
     assert 323.8 - 2 * 9.53 < 12 * 25.4
+
+
+@pytest.mark.reference
+def test_run_with_growing_flow_prints_the_yearly_sum_by_hand(tmp_path):
+    # [growth] 2 % a year to the design year 10, then level: Q_t = 0.2 x 1.02^(min(t, 10) - 1)
+    # (DEVELOPERS.md, the sizing model, step 1); each year's energy by Darcy-Weisbach with the
+    # mpmath Colebrook root, discounted year by year in mpmath; the velocity printed is year 1's
+    from iapws import IAPWS95
+
+    from tests.conftest import colebrook_mpmath
+
+    text = HAND_STUDY.replace("[pumping]", "[growth]\nflow_per_year = 0.02\ndesign_year = 10\n"
+                              "[pumping]")
+    stdout = run_text(tmp_path, text)
+    od = int(re.search(r"Best: pe100 (\d+) SDR 17", stdout).group(1))
+    water = IAPWS95(T=288.15, P=0.101325)
+    d = (od - 2 * SDR17_WALLS[od]) / 1000
+
+    def kw(q):
+        v = q / (math.pi * d * d / 4)
+        f = colebrook_mpmath(water.rho * v * d / water.mu, PE_ROUGHNESS / d)
+        return water.rho * G * q * (10.0 + f * 2000.0 / d * v * v / (2 * G)) / 0.75 / 1000
+
+    power = {k: kw(0.2 * 1.02 ** (k - 1)) for k in range(1, 11)}
+    with mp.workdps(30):
+        pv = sum(power[min(t, 10)] * 8000 * mp.mpf("0.1") * mp.mpf("1.01") ** (t - 1)
+                 / mp.mpf("1.06") ** t for t in range(1, 31))
+    assert _number(r"energy ([\d,]+), resid", stdout) == pytest.approx(float(pv), abs=0.5 + 1e-3)
+    assert _number(r"velocity ([\d.]+) m/s, head", stdout) == pytest.approx(
+        0.2 / (math.pi * d * d / 4), abs=0.005)
+    assert _number(r"electrical power ([\d.]+) kW", stdout) == pytest.approx(power[1], abs=0.05)
