@@ -478,12 +478,104 @@ def test_sigterm_in_the_cli_while_writing_exits_143_and_keeps_the_old_set(tmp_pa
     assert sorted(p.name for p in tmp_path.iterdir()) == ["res"]
 
 
+@pytest.mark.reference
 def test_printable_removes_terminal_controls():
-    # ECMA-48 control functions: CSI (ESC [), OSC (ESC ]) ended by BEL or ST, C1 CSI (0x9B)
+    # ECMA-48 (5th ed., 1991) control functions: CSI (ESC [), OSC (ESC ]) ended by BEL or ST,
+    # C1 CSI (0x9B)
     assert printable("a\x1b[2J\x1b[31mb\x1b]0;title\x07c\x9b1;1Hd\x1b]8;;http://x\x1b\\e") \
         == "abcde"
     assert printable("tab\tand\nnewline\r\x00\x7f") == "tab\tand\nnewline"
     assert printable("left\u202eright") == "leftright"      # a bidirectional override
+    # (U+202E RIGHT-TO-LEFT OVERRIDE: Boucher & Anderson, "Trojan Source", USENIX Security 2023;
+    # docs/references.md#files-text-and-inputs-at-the-edge-outputs-report-studyfile-units)
+
+
+# ------------------------------------------------------------------------------------------
+# published values through a result set: digests, numbers in CSV, the free space shown
+# ------------------------------------------------------------------------------------------
+@pytest.mark.reference
+def test_manifest_digests_are_the_fips_sha256_test_vectors(tmp_path):
+    # FIPS 180-2, Appendix B.1 and B.2 (the one-block and two-block SHA-256 examples)
+    files = {"one.txt": "abc",
+             "two.txt": "abcdbcdecdefdefgefghfghighijhijkijkljklmklmnlmnomnopnopq"}
+    write_result_set(tmp_path, files)
+    doc = json.loads((tmp_path / MANIFEST).read_text())
+    assert {e["name"]: e["sha256"] for e in doc["files"]} == {
+        "one.txt": "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad",
+        "two.txt": "248d6a61d20638b8e5c026930c3e6039a33ce45964ff2167f6ecedd419db06c1"}
+    assert {e["name"]: e["size"] for e in doc["files"]} == {"one.txt": 3, "two.txt": 56}
+
+
+def _crf(i, n):
+    import mpmath as mp
+
+    with mp.workdps(40):
+        i = mp.mpf(i)
+        return i * (1 + i) ** n / ((1 + i) ** n - 1)
+
+
+@pytest.mark.reference
+def test_csv_numbers_round_trip_to_ten_figures_of_the_hand_values(tmp_path):
+    # CRF = i (1 + i)^n / ((1 + i)^n - 1) in 40-digit mpmath (DeGarmo et al.; the values printed
+    # to 7 decimals in docs/references.md#economics), written by csv_text into a result set and
+    # read back with the csv module: the ten significant figures csv_text promises
+    import csv
+
+    import mpmath as mp
+    import pandas as pd
+
+    from pipeopt.outputs import csv_text
+
+    cases = [("0.05", 20, "0.0802426"), ("0.08", 30, "0.0888274"), ("0.03", 50, "0.0388655")]
+    frame = pd.DataFrame({"rate": [float(i) for i, _, _ in cases],
+                          "years": [n for _, n, _ in cases],
+                          "crf": [float(_crf(i, n)) for i, n, _ in cases]})
+    write_result_set(tmp_path, {"crf.csv": csv_text(frame)})
+    with open(tmp_path / "crf.csv", newline="", encoding="utf-8") as fh:
+        rows = list(csv.DictReader(fh))
+    for row, (i, n, printed) in zip(rows, cases, strict=True):
+        exact = _crf(i, n)
+        got = mp.mpf(row["crf"])
+        assert abs(got - exact) <= 5e-10 * abs(exact)          # half a unit of the 10th figure
+        assert abs(got - mp.mpf(printed)) <= 5e-8              # the published 7 decimals
+        assert len(row["crf"].lstrip("0.").replace(".", "")) <= 10
+        assert (float(row["rate"]), int(row["years"])) == (float(i), n)
+
+
+@pytest.mark.reference
+def test_a_discounted_csv_table_sums_to_the_hand_present_value(tmp_path):
+    # a cash flow of 1000 a year escalating 2 %, discounted at 5 % over 25 years: the rows of the
+    # CSV, read back, sum to the closed-form present worth of a growing series A1 [1 - ((1 + g)/
+    # (1 + i))^n] / (i - g) (docs/references.md#economics) within the ten figures of each row
+    import csv
+
+    import pandas as pd
+
+    from pipeopt.outputs import csv_text
+
+    t = list(range(1, 26))
+    amount = [1000.0 * 1.02 ** (k - 1) for k in t]
+    frame = pd.DataFrame({"year": t, "amount": amount,
+                          "discounted": [a / 1.05**k for a, k in zip(amount, t, strict=True)]})
+    write_result_set(tmp_path, {"cash.csv": csv_text(frame)})
+    with open(tmp_path / "cash.csv", newline="", encoding="utf-8") as fh:
+        total = sum(float(r["discounted"]) for r in csv.DictReader(fh))
+    closed = 1000.0 * (1 - (1.02 / 1.05) ** 25) / (0.05 - 0.02)
+    assert total == pytest.approx(closed, rel=25 * 5e-10)
+
+
+@pytest.mark.reference
+def test_free_space_is_shown_in_decimal_megabytes(tmp_path, monkeypatch):
+    # 1 MB = 10^6 B (SI prefix mega; IEC 80000-13:2008 keeps MiB for 2^20): 123,456,789 bytes
+    # free is 123.5 MB, and 200 MiB needed is 200 x 1,048,576 B = 209.7 MB, shown as 210
+    from collections import namedtuple
+
+    usage = namedtuple("usage", "total used free")
+    monkeypatch.setattr(outputs.shutil, "disk_usage",
+                        lambda p: usage(10**12, 10**12 - 123_456_789, 123_456_789))
+    with pytest.raises(OutputError, match=r"only 123\.5 MB free on its disk; a result set "
+                                          r"needs about 210 MB"):
+        check_out(tmp_path / "new", False, expected_bytes=200 * 2**20)
 
 
 # ------------------------------------------------------------------------------------------
@@ -698,3 +790,39 @@ def test_kill_during_in_place_replacement_never_passes_a_mixture(driver, tmp_pat
     _timed_run(d, args["A"], exchange=False)
     assert read_manifest(out).files == refs["A"]
     assert _listing(out) <= set(refs["A"]) | set(foreign) | {MANIFEST, "figures", "drafts"}
+
+
+@pytest.mark.reference
+def test_printable_removes_every_unicode_control_character():
+    # the Unicode Character Database, through the unicodedata module: every character of
+    # general category Cc (the C0 and C1 controls and DEL, 65 of them) is removed, but the tab
+    # and the newline; ESC and the one-byte CSI go with the sequence they start (ECMA-48, 5.4)
+    import unicodedata
+
+    controls = [chr(c) for c in range(sys.maxunicode + 1)
+                if unicodedata.category(chr(c)) == "Cc"]
+    assert len(controls) == 65
+    for ch in controls:
+        if ch in "\t\n":
+            assert printable(f"a{ch}b") == f"a{ch}b"
+        elif ch in "\x1b\x9b":
+            start = "\x1b[" if ch == "\x1b" else ch
+            assert printable(f"a{start}0;1mb") == "ab", hex(ord(ch))
+        else:
+            assert printable(f"a{ch}b") == "ab", hex(ord(ch))
+
+
+@pytest.mark.reference
+def test_printable_removes_the_bidirectional_embeddings_overrides_and_isolates():
+    # Boucher & Anderson, "Trojan Source" (USENIX Security 2023), Table 1: LRE, RLE, LRO, RLO,
+    # PDF, LRI, RLI, FSI, PDI. Found here by their bidirectional class in the Unicode Character
+    # Database (unicodedata), not by a list of code points
+    import unicodedata
+
+    classes = {"LRE", "RLE", "LRO", "RLO", "PDF", "LRI", "RLI", "FSI", "PDI"}
+    found = [chr(c) for c in range(sys.maxunicode + 1)
+             if unicodedata.bidirectional(chr(c)) in classes]
+    assert [hex(ord(c)) for c in found] == [hex(c) for c in (*range(0x202A, 0x202F),
+                                                               *range(0x2066, 0x206A))]
+    for ch in found:
+        assert printable(f"abc{ch}def") == "abcdef", hex(ord(ch))

@@ -12,6 +12,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import iapws
+import mpmath as mp
 import numpy as np
 import pytest
 from hypothesis import given, settings
@@ -35,7 +36,9 @@ ROOT = Path(__file__).resolve().parents[1]
 DEMO = read_toml(ROOT / "pipeopt" / "data" / "demo_programme.toml")
 
 
+@pytest.mark.reference
 def test_sections_take_units_at_the_door():
+    # SI prefix milli = 1e-3 exactly (BIPM SI Brochure, 9th ed.; docs/references.md#units)
     m = MaterialClass("cast-iron", "0.26 mm", "0.04 mm/yr", 0.05)
     assert m.roughness == pytest.approx(2.6e-4, rel=1e-12)       # 0.26 mm in m
     assert m.aging == pytest.approx(4e-5, rel=1e-12)             # 0.04 mm/yr in m/yr
@@ -214,3 +217,85 @@ def test_a_custom_fluid_in_us_units():
     fluid = read_programme(data, ROOT)["fluid"].build()
     assert fluid.density == pytest.approx(62.4 * 0.45359237 / 0.3048 ** 3, rel=1e-14)
     assert fluid.viscosity == pytest.approx(1.2e-3, rel=1e-14)
+
+
+# ------------------------------------------------------------------------------------------
+# conversions and the programme's yearly figures against outside definitions
+# ------------------------------------------------------------------------------------------
+INCH = 0.0254                  # 1 in = 0.0254 m exactly (NIST SP 811 (2008), B.9)
+
+
+@pytest.mark.reference
+def test_material_classes_in_inches_read_to_the_exact_definition():
+    # NIST SP 811 (2008), B.9: 1 in = 0.0254 m exactly; the aging rate is kept in m per year
+    m = MaterialClass("cast-iron", "0.0102 in", "0.0016 in/yr", 0.05)
+    assert m.roughness == pytest.approx(0.0102 * INCH, rel=1e-14)      # 0.25908 mm
+    assert m.aging == pytest.approx(0.0016 * INCH, rel=1e-14)          # 0.04064 mm/yr
+    new = NewMain("0.0012 in", "0.0001 in/yr")
+    assert new.roughness == pytest.approx(3.048e-5, rel=1e-14)
+    assert new.aging == pytest.approx(2.54e-6, rel=1e-14)
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(("text", "kelvin"), [
+    ("10 degC", 283.15),       # T/K = t/degC + 273.15 (BIPM SI Brochure, 9th ed.)
+    ("50 degF", 283.15),       # (50 - 32) x 5/9 + 273.15 (NIST SP 811 (2008), B.9)
+    ("4 degC", 277.15),
+])
+def test_the_programme_fluid_temperature_in_kelvin(text, kelvin):
+    data = dict(DEMO, fluid={"kind": "water", "temperature": text})
+    assert read_programme(data, ROOT)["fluid"].temperature == pytest.approx(kelvin, rel=1e-15)
+
+
+@pytest.mark.reference
+def test_the_programme_water_against_iapws95():
+    # the demo programme's water at 10 degC and 1 atm, against the iapws package's IAPWS-95
+    # density and viscosity (IAPWS R6-95(2018), IAPWS R12-08; docs/references.md#water-
+    # properties); the IAPWS release tolerance of the fit, well inside 1e-5 here
+    from iapws import IAPWS95
+
+    fluid = read_programme(DEMO, ROOT)["fluid"].build()
+    ref = IAPWS95(T=283.15, P=0.101325)
+    assert fluid.density == pytest.approx(ref.rho, rel=1e-6)            # about 999.70 kg/m^3
+    assert fluid.viscosity == pytest.approx(ref.mu, rel=1e-5)           # about 1.306 mPa s
+
+
+@pytest.mark.reference
+def test_the_programme_energy_prices_by_year_by_hand():
+    # the demo's tariff: p_t = 0.16 (1 + 0.01)^(t - 1) in year t, the first year at the quoted
+    # price (escalation as compound growth; docs/references.md#economics), in 30-digit mpmath
+    tariff = read_programme(DEMO, ROOT)["energy"]
+    prices = tariff.price_by_year(40)
+    with mp.workdps(30):
+        want = [float(mp.mpf("0.16") * (1 + mp.mpf("0.01")) ** (t - 1)) for t in range(1, 41)]
+    np.testing.assert_allclose(prices, want, rtol=1e-14)
+    assert prices[-1] == pytest.approx(0.16 * 1.01**39, rel=1e-14)          # 0.2350... in year 40
+    # a yearly bill of an invented 250 MWh and a 40 kW peak, with a demand charge of 60 a kW:
+    # C_t = E_t p_t + d P_t (DEVELOPERS.md, the sizing model, step 2)
+    charged = type(tariff)(0.16, 0.01, 60.0)
+    bill = charged.yearly_cost(np.full(40, 250_000.0), np.full(40, 40.0))
+    np.testing.assert_allclose(bill, [250_000.0 * w + 60.0 * 40.0 for w in want], rtol=1e-14)
+
+
+@pytest.mark.reference
+def test_growth_read_from_a_programme_file_by_compound_growth():
+    # [growth] flow_per_year = 2.5 %, design_year 20: multiplier (1 + g)^(min(t, 20) - 1) in
+    # year t (compound growth, capped at the design year; DEVELOPERS.md, the sizing model,
+    # step 1), each year by mpmath, 40 years
+    data = dict(DEMO, growth={"flow_per_year": 0.025, "design_year": 20})
+    grown = flow_growth(read_programme(data, ROOT)["growth"])
+    with mp.workdps(30):
+        want = [float((1 + mp.mpf("0.025")) ** (min(t, 20) - 1)) for t in range(1, 41)]
+    np.testing.assert_allclose(grown.multipliers(40), want, rtol=1e-14)
+
+
+@pytest.mark.reference
+def test_growth_without_a_design_year_compounds_every_year():
+    # [growth] flow_per_year = 2 % with no design year: (1 + g)^(t - 1) in every year t of the
+    # horizon (compound growth), against 30-digit mpmath; one year's step is exactly 1 + g
+    data = dict(DEMO, growth={"flow_per_year": 0.02})
+    grown = flow_growth(read_programme(data, ROOT)["growth"]).multipliers(40)
+    with mp.workdps(30):
+        want = [float(mp.mpf("1.02") ** (t - 1)) for t in range(1, 41)]
+    np.testing.assert_allclose(grown, want, rtol=1e-14)
+    np.testing.assert_allclose(grown[1:] / grown[:-1], 1.02, rtol=1e-14)
