@@ -761,3 +761,16 @@ def test_hazen_williams_network_node_heads_equal_an_independent_solution():
     np.testing.assert_allclose(pipes["flow_m3_s"], flows, rtol=1e-7, atol=1e-10)
     np.testing.assert_allclose(pipes["head_loss_m"], loss(flows), rtol=1e-7, atol=1e-9)
     assert nodes["feasible"].all()
+
+
+def test_the_summary_line_lists_every_part_of_the_present_value():
+    # the printed parts add up to the printed total (each rounded to a unit: within 3 units);
+    # the line once left out maintenance, station renewals and the residual credit
+    import re
+
+    text = NetworkStudy.demo().run().text()
+    line = next(x for x in text.splitlines() if x.startswith("Life-cycle cost"))
+    total = float(re.search(r"Life-cycle cost ([\d,]+)", line).group(1).replace(",", ""))
+    parts = [float(v.replace(",", "")) for v in
+             re.findall(r"(?:pipes|station|energy|maintenance|renewals|value) (-?[\d,]+)", line)]
+    assert len(parts) == 6 and abs(sum(parts) - total) <= 3.0, (parts, total)

@@ -689,8 +689,10 @@ class NetworkResult(StudyResult):
         c = self.costs
         if "pv_total" in c:
             lines += [f"Life-cycle cost {c['pv_total']:,.0f}{cur} present value "
-                      f"(EAC {c['eac']:,.0f}{cur}/yr): pipes {c['capex_pipe']:,.0f}, pump "
-                      f"station {c['pv_pump_station']:,.0f}, energy {c['pv_energy']:,.0f}",
+                      f"(EAC {c['eac']:,.0f}{cur}/yr) = pipes {c['capex_pipe']:,.0f}, pump "
+                      f"station {c['pv_pump_station']:,.0f}, energy {c['pv_energy']:,.0f}, "
+                      f"maintenance {c['pv_maintenance']:,.0f}, station renewals "
+                      f"{c['pv_replacement']:,.0f}, residual value {-c['pv_residual']:,.0f}",
                       f"  pump head {self.cases['pump_head_m'].min():.1f}-"
                       f"{self.cases['pump_head_m'].max():.1f} m, peak power "
                       f"{self.cases['power_kw'].max():.1f} kW, installed "
