@@ -313,14 +313,21 @@ def test_split_pipes_and_milp_are_refused_for_a_looped_network():
         NetworkStudy.from_dict(gravity_dict()).run(method="milp")
 
 
-@pytest.mark.reference
-def test_hazen_williams_settings_are_read_and_used():
+def hazen_williams_gravity_dict() -> dict:
+    """The gravity network with Hazen-Williams: omega 10.667, exponents 1.852 and 4.871, C 120
+    for pipes that give none, C 90 for the old main."""
     d = gravity_dict()
     d["network"].update({"head_loss": "hazen-williams", "hazen_williams_coefficient": 10.667,
                          "hazen_williams_flow_exponent": 1.852,
                          "hazen_williams_diameter_exponent": 4.871, "hazen_williams_c": 120})
     d["pipe"][3].pop("roughness")
     d["pipe"][3]["hazen_williams_c"] = 90
+    return d
+
+
+@pytest.mark.reference
+def test_hazen_williams_settings_are_read_and_used():
+    d = hazen_williams_gravity_dict()
     r = NetworkStudy.from_dict(d).run(progress=False)
     pr = r.study.problem
     assert pr.hazen_williams == (10.667, 4.871, 1.852)
@@ -730,12 +737,7 @@ def test_hazen_williams_network_node_heads_equal_an_independent_solution():
     # (MINPACK's hybrid Powell method, scipy.optimize.root)
     from tests.network_reference import pipe_flows_and_heads
 
-    d = gravity_dict()
-    d["network"].update({"head_loss": "hazen-williams", "hazen_williams_coefficient": 10.667,
-                         "hazen_williams_flow_exponent": 1.852,
-                         "hazen_williams_diameter_exponent": 4.871, "hazen_williams_c": 120})
-    d["pipe"][3].pop("roughness")
-    d["pipe"][3]["hazen_williams_c"] = 90
+    d = hazen_williams_gravity_dict()
     r = NetworkStudy.from_dict(d).run(progress=False)
     names = [n["name"] for n in d["node"]] + [s["name"] for s in d["source"]]
     idx = {n: i for i, n in enumerate(names)}
