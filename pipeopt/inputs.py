@@ -784,7 +784,8 @@ def _read_catalog(top: Section, base: Path) -> Catalog:
                         materials=base / mats_path if mats_path else None)
 
 
-def read_common(top: Section, base: Path, kind: str = "sizing") -> dict[str, Any]:
+def read_common(top: Section, base: Path, kind: str = "sizing",
+                also: tuple[str, ...] = ()) -> dict[str, Any]:
     """The sections a sizing and an upgrade study share, checked, as input sections.
 
     ``[study]``, ``[fluid]`` (a :class:`FluidSpec`, not yet evaluated), ``[[duty]]`` and
@@ -792,10 +793,15 @@ def read_common(top: Section, base: Path, kind: str = "sizing") -> dict[str, Any
     ``[uncertainty]`` table. The ``[catalog]`` files are read last, by :func:`read_sizing` and
     :func:`read_upgrade`, once every other section has passed its checks. An upgrade study
     (``kind = "upgrade"``) takes the wire-to-water efficiency and one energy price only.
+    ``also`` names the study's own required sections, checked present with the shared ones
+    before any value is read.
     """
     station = top.table("pump_station", PumpStationCost.keys())
     sizing = kind == "sizing"
     info = StudyInfo.read(top.table("study", StudyInfo.keys()))
+    top.require_present(("fluid",))            # in the order the sections are read
+    top.require_present(arrays=("duty",))
+    top.require_present(("pumping", "energy", "economics", *also))
     fluid = FluidSpec.read(top.table("fluid", FluidSpec.keys(), required=True))
     def energy_section() -> EnergyTariff:
         return EnergyTariff.read(top.table("energy", EnergyTariff.keys(), required=True))
@@ -834,7 +840,7 @@ def read_sizing(mapping: dict, base: Path) -> dict[str, Any]:
 
     top = Section(mapping, "", (*_COMMON, "line", "material", "constraints", "carbon",
                                 "hydraulics", *ROUTE_KEYS))
-    out = read_common(top, base)
+    out = read_common(top, base, also=("line",))
     out.update(read_route(top, base))
     line = top.table("line", Line.keys(), required=True)
     given = {}
@@ -855,7 +861,7 @@ def read_sizing(mapping: dict, base: Path) -> dict[str, Any]:
 def read_upgrade(mapping: dict, base: Path) -> dict[str, Any]:
     """Every section of an upgrade study file, checked; the fluid not yet evaluated."""
     top = Section(mapping, "", (*_COMMON, "existing", "option"))
-    out = read_common(top, base, "upgrade")
+    out = read_common(top, base, "upgrade", also=("existing",))
     ex = top.table("existing", ExistingLine.keys(), required=True)
     out["existing"] = ExistingLine.read(ex)
     secs = top.tables("option", UpgradeOption.keys())

@@ -445,19 +445,36 @@ class Section:
     def table(self, name: str, allowed: tuple[str, ...], required: bool = False) -> Section | None:
         if name not in self.data:
             if required:
-                raise StudyFileError(f"{self.key(name)}: required section [{self.key(name)}] is "
-                                     f"missing")
+                raise self._missing_table(name)
             return None
         return Section(self.data[name], self.key(name), allowed)
 
     def tables(self, name: str, allowed: tuple[str, ...], required: bool = True) -> list[Section]:
         if name not in self.data:
             if required:
-                raise StudyFileError(f"{self.key(name)}: required; add at least one "
-                                     f"[[{self.key(name)}]] table")
+                raise self._missing_tables(name)
             return []
         value = self.data[name]
         if not isinstance(value, list) or not value:
             raise StudyFileError(f"{self.key(name)}: expected one or more [[{self.key(name)}]] "
                                  f"tables, got {_kind_word(value)}")
         return [Section(v, f"{self.key(name)}[{i}]", allowed) for i, v in enumerate(value)]
+
+    def require_present(self, tables: tuple[str, ...] = (), arrays: tuple[str, ...] = ()) -> None:
+        """Refuse a missing required ``[table]`` or ``[[array]]`` before any value is read (with
+        the messages of :meth:`table` and :meth:`tables`), so that a file without one is
+        answered before a value's units are parsed."""
+        for name in tables:
+            if name not in self.data:
+                raise self._missing_table(name)
+        for name in arrays:
+            if name not in self.data:
+                raise self._missing_tables(name)
+
+    def _missing_table(self, name: str) -> StudyFileError:
+        return StudyFileError(f"{self.key(name)}: required section [{self.key(name)}] is "
+                              f"missing")
+
+    def _missing_tables(self, name: str) -> StudyFileError:
+        return StudyFileError(f"{self.key(name)}: required; add at least one "
+                              f"[[{self.key(name)}]] table")

@@ -51,6 +51,20 @@ def test_an_invalid_study_file_is_answered_without_pandas_or_scipy(tmp_path):
     assert _loaded(modules, HEAVY + ("pandas", "scipy")) == []
 
 
+def test_a_study_file_missing_a_section_is_answered_before_any_unit_is_parsed(tmp_path):
+    # the required sections are checked present before any value is converted: no pint
+    bad = tmp_path / "no_duty.toml"
+    bad.write_text('[study]\nname = "x"\n[fluid]\nkind = "water"\ntemperature = "12 degC"\n'
+                   '[line]\nlength = "3.2 km"\n', encoding="utf-8")
+    modules = _modules_after("import contextlib, io, pipeopt.cli\n"
+                             "err = io.StringIO()\n"
+                             "with contextlib.redirect_stderr(err):\n"
+                             f"    code = pipeopt.cli.main(['run', {str(bad)!r}])\n"
+                             "assert code == 2, code\n"
+                             "assert 'duty: required' in err.getvalue(), err.getvalue()")
+    assert _loaded(modules, HEAVY + ("pandas", "scipy", "pint")) == []
+
+
 def test_a_water_study_loads_no_fluid_library_and_no_plotting():
     modules = _modules_after("from pipeopt import SizingStudy\n"
                              "assert SizingStudy.demo().run().best is not None")
