@@ -567,8 +567,8 @@ def _fit_margins(canvas: FigureCanvasAgg, everything: bool, pad: float = 4.0) ->
     for box in boxes:
         grow = [max(grow[0], pad - box.x0), max(grow[1], box.x1 - width + pad),
                 max(grow[2], pad - box.y0), max(grow[3], box.y1 - height + pad)]
-    if max(grow) <= 0.0:
-        return True
+    if max(grow) <= 0.5:  # within half a pixel: fitted (a margin widened to exactly the pad
+        return True       # can come back 1e-15 px short, and would be widened forever)
     p = figure.subplotpars
     left, right = p.left + grow[0] / width, p.right - grow[1] / width
     bottom, top = p.bottom + grow[2] / height, p.top - grow[3] / height
