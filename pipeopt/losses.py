@@ -43,11 +43,16 @@ __all__ = ["fittings_table", "fully_turbulent_friction_factor", "fitting_k", "Fi
 
 
 @functools.cache
+def _raw(name: str) -> str:
+    """The text of a bundled table."""
+    return resources.files("pipeopt").joinpath("catalog", name).read_text("utf-8")
+
+
+@functools.cache
 def _table(name: str) -> pd.DataFrame:
     import pandas as pd
 
-    raw = resources.files("pipeopt").joinpath("catalog", name).read_text("utf-8")
-    return pd.read_csv(io.StringIO(raw), comment="#", skipinitialspace=True)
+    return pd.read_csv(io.StringIO(_raw(name)), comment="#", skipinitialspace=True)
 
 
 def fittings_table() -> pd.DataFrame:
@@ -56,15 +61,14 @@ def fittings_table() -> pd.DataFrame:
     return _table("fittings.csv").copy()
 
 
-#: Names of the bundled fittings.
 def _fitting_names() -> tuple[str, ...]:
     """The names in the fittings table, in order (read with the csv module: no pandas when a
     study file is only being checked)."""
-    raw = resources.files("pipeopt").joinpath("catalog", "fittings.csv").read_text("utf-8")
-    rows = csv.DictReader(line for line in raw.splitlines() if not line.startswith("#"))
-    return tuple(dict.fromkeys(row["name"].strip() for row in rows))
+    lines = (line for line in _raw("fittings.csv").splitlines() if not line.startswith("#"))
+    return tuple(dict.fromkeys(row["name"].strip() for row in csv.DictReader(lines)))
 
 
+#: Names of the bundled fittings.
 FITTING_NAMES: tuple[str, ...] = _fitting_names()
 
 

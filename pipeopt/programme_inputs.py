@@ -324,11 +324,12 @@ def read_programme(mapping: dict, base: Path) -> dict[str, Any]:
     def read(cls: Any, required: bool = False) -> Any:
         return cls.read(top.table(cls.SECTION, cls.keys(), required=required))
 
+    fluid = read(FluidSpec, required=True)    # the sections in the order of the outline
     pumping = read(Pumping, required=True)
     wire_to_water(pumping)                    # one efficiency for every main, checked here
     return {
         "info": info,
-        "fluid": read(FluidSpec, required=True),
+        "fluid": fluid,
         "pumping": pumping,
         "energy": read(EnergyTariff, required=True),
         "economics": read(Economics, required=True),
