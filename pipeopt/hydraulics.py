@@ -21,6 +21,7 @@ from typing import Any
 import numpy as np
 
 from . import friction as fr
+from ._arrays import last_axis_max, last_axis_sum
 from .errors import InputError
 
 __all__ = ["pipe_hydraulics", "pumping", "parallel_split", "candidate_years", "running_max"]
@@ -91,8 +92,8 @@ def pumping(s: Any, head_loss: Any, flow_total: Any, efficiency: Any = None,
     head = s.static_head + np.asarray(head_loss, dtype=float)
     eta = s.efficiency if efficiency is None else efficiency
     power_w = s.density * fr.GRAVITY * np.asarray(flow_total, dtype=float) * head / eta
-    energy = (power_w * (s.duty.hours_array * hours_factor)).sum(axis=-1) / 1000.0
-    return head, energy, power_w.max(axis=-1) / 1000.0
+    energy = last_axis_sum(power_w * (s.duty.hours_array * hours_factor)) / 1000.0
+    return head, energy, last_axis_max(power_w) / 1000.0
 
 
 def running_max(x: Any, last: Any) -> np.ndarray:
@@ -186,10 +187,10 @@ def candidate_years(s: Any, diameter: np.ndarray, roughness: np.ndarray, aging: 
         else:
             power_w = s.density * fr.GRAVITY * q4 * head
         hours = s.duty.hours_array
-        energy = (power_w * hours).sum(axis=-1) / 1000.0
-        peak = power_w.max(axis=-1) / 1000.0
+        energy = last_axis_sum(power_w * hours) / 1000.0
+        peak = last_axis_max(power_w) / 1000.0
         if ratios is not None:
-            hyd["energy_priced"] = (power_w * (hours * ratios)).sum(axis=-1) / 1000.0
+            hyd["energy_priced"] = last_axis_sum(power_w * (hours * ratios)) / 1000.0
     hyd.update(flow_total=q4, pump_head=head, energy=energy, peak=peak)
     return hyd
 

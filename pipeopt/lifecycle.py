@@ -40,6 +40,7 @@ from typing import Any, Literal
 import numpy as np
 
 from . import friction as fr
+from ._arrays import last_axis_max
 from .cashflow import CashFlows, Timeline, station_stages
 from .costs import EnergyTariff, PumpStationCost
 from .duty import DutyProfile
@@ -253,8 +254,8 @@ def _direct_hydraulics(s: Scenario, d: np.ndarray, eps0: np.ndarray, alpha: np.n
         "head_loss_design": hyd["head_loss"][:, :, 0, k],
         "pump_head_design": hyd["pump_head"][:, :, 0, k],
         "peak_year1": peak0[:, :, 0], "energy_year1": energy0[:, :, 0],
-        "velocity_max": running_max(hyd["velocity"].max(axis=3), last),
-        "pump_head_max": running_max(hyd["pump_head"].max(axis=3), last),
+        "velocity_max": running_max(last_axis_max(hyd["velocity"]), last),
+        "pump_head_max": running_max(last_axis_max(hyd["pump_head"]), last),
         "energy_price": _weighted(priced0, weights["price"]),
         "energy_run": _weighted(energy0, weights["run"]),
         "peak_run": _weighted(peak0, weights["run"]),

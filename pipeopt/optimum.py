@@ -81,26 +81,66 @@ class _Classes:
             grp["log_d"] = np.log(grp["d"])
             grp["log_cost"] = np.log(np.maximum(grp["cost"], 1e-300))
             self.groups.append(grp)
+        # every class's curve end to end, for interpolating many classes in one pass: class g
+        # holds entries start[g] .. start[g] + size[g] - 1, keyed by g * _KEY + ln D
+        size = np.array([g["d"].size for g in self.groups])
+        self.start = np.concatenate([[0], np.cumsum(size)[:-1]]).astype(int)
+        self.last = self.start + size - 1
+        cat = lambda k: np.concatenate([g[k] for g in self.groups])  # noqa: E731
+        self.d, self.log_d, self.log_cost = cat("d"), cat("log_d"), cat("log_cost")
+        self.wave, self.pfa, self.pma = cat("wave"), cat("pfa"), cat("pma")
+        owner = np.repeat(np.arange(len(self.groups)), size)
+        self.key = owner * _KEY + self.log_d
+        has_co2 = np.array([bool(np.all(g["co2"] > 0)) for g in self.groups])
+        co2 = cat("co2")
+        self.log_co2 = np.log(np.where(has_co2[owner], co2, 1.0))
+        self.has_co2 = has_co2
 
-    def at(self, g: int, d: np.ndarray, keys: tuple[str, ...]) -> dict[str, np.ndarray]:
-        grp = self.groups[g]
-        x = grp["d"]
-        if x.size == 1:
-            one = np.ones_like(d)
-            return {k: grp[k][0] * one for k in keys}
-        ld = np.log(np.clip(d, x[0], x[-1]))
-        out = {"cost": np.exp(np.interp(ld, grp["log_d"], grp["log_cost"])),
-               "co2": (np.exp(np.interp(ld, grp["log_d"], np.log(grp["co2"])))
-                       if np.all(grp["co2"] > 0) else np.zeros_like(d))}
-        if "wave" in keys:
-            # the lower rating of the two neighbouring catalog sizes (conservative)
-            k = np.clip(np.searchsorted(x, d, side="right") - 1, 0, x.size - 2)
-            exact = np.isclose(d, x[k], rtol=1e-12)
-            nxt = np.where(exact, k, k + 1)
-            out.update(wave=np.interp(d, x, grp["wave"]),
-                       pfa=np.minimum(grp["pfa"][k], grp["pfa"][nxt]),
-                       pma=np.minimum(grp["pma"][k], grp["pma"][nxt]))
+    def at(self, groups: np.ndarray, d: np.ndarray, full: bool) -> dict[str, np.ndarray]:
+        """Cost, carbon (and with ``full`` wave speed, PFA, PMA) of class ``groups[i]`` at
+        inner diameter ``d[i]``, every point in one pass.
+
+        Cost and carbon are interpolated log-log between the class's neighbouring sizes (the
+        formula of :func:`numpy.interp`, with a class's end values outside its range), the wave
+        speed linearly in D, PFA and PMA are the lower of the two neighbours' (a catalog bore
+        itself: its own).
+        """
+        start, last = self.start[groups], self.last[groups]
+        ld = np.log(np.clip(d, self.d[start], self.d[last]))
+        # j: the entry at or below ld within the class, so that [j, j + 1] brackets it (the
+        # composite key rounds ln D to about 1e-13; one step each way puts j right again)
+        top = np.maximum(last - 1, start)
+        j = np.clip(np.searchsorted(self.key, groups * _KEY + ld, side="right") - 1, start, top)
+        j = np.where((ld < self.log_d[j]) & (j > start), j - 1, j)
+        k = np.minimum(j + 1, last)
+        j = np.minimum(np.where((ld >= self.log_d[k]) & (k > j), k, j), top)
+        k = np.minimum(j + 1, last)
+        dx = self.log_d[k] - self.log_d[j]
+        single = dx == 0.0
+        safe = np.where(single, 1.0, dx)
+
+        def interp(y: np.ndarray) -> np.ndarray:
+            # numpy.interp's formula, and a class's last value exactly at its end
+            out = np.where(single, 0.0, (y[k] - y[j]) / safe) * (ld - self.log_d[j]) + y[j]
+            return np.where(ld >= self.log_d[last], y[last], out)
+
+        out = {"cost": np.exp(interp(self.log_cost)),
+               "co2": np.where(self.has_co2[groups], np.exp(interp(self.log_co2)), 0.0)}
+        if full:
+            dd = np.clip(d, self.d[start], self.d[last])
+            wd = self.d[k] - self.d[j]
+            slope = np.where(single, 0.0, (self.wave[k] - self.wave[j]) / np.where(single, 1.0, wd))
+            wave = np.where(dd >= self.d[last], self.wave[last], slope * (dd - self.d[j])
+                            + self.wave[j])
+            exact = np.isclose(d, self.d[j], rtol=1e-12)
+            nxt = np.where(exact, j, k)
+            out.update(wave=wave, pfa=np.minimum(self.pfa[j], self.pfa[nxt]),
+                       pma=np.minimum(self.pma[j], self.pma[nxt]))
         return out
+
+
+#: Spacing of the classes' keys in :class:`_Classes`: wider than any span of ln D.
+_KEY = 1000.0
 
 
 def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFrame,
@@ -155,12 +195,7 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
     c_lo, c_hi = np.where(possible, c_lo, d_lo), np.where(possible, c_hi, d_hi)
 
     def curves(d: np.ndarray, groups: np.ndarray, full: bool) -> dict[str, np.ndarray]:
-        keys = ("cost", "co2", "wave", "pfa", "pma") if full else ("cost", "co2")
-        out = {k: np.empty_like(d) for k in keys}
-        for g in np.unique(groups):
-            sel = groups == g
-            for k, x in cl.at(int(g), d[sel], keys).items():
-                out[k][sel] = x
+        out = cl.at(groups, d, full)
         out["eps"] = eps_g[groups]
         out["alpha"] = alpha_g[groups]
         return out
@@ -182,10 +217,13 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
         """Minimum of each class's EAC within [lo, hi]: a scan, then one L-BFGS-B for all.
 
         The scan (33 log-spaced diameters of every class, one evaluation) brackets each
-        minimum between the neighbours of its best point; L-BFGS-B then works on u in [0, 1]
+        minimum between the neighbours of its best point. L-BFGS-B then works on u in [0, 1]
         across each bracket, with each class's EAC scaled by its curvature there (from the
         scan's three points) so that the problem is well conditioned, and derivatives by
-        central differences (three diameters per class, one evaluation per iteration).
+        central differences (three diameters per class, one evaluation per iteration). It
+        starts from the vertex of the parabola through the scan's three points, moved by one
+        Newton step on central differences there (one evaluation), so that it usually
+        confirms the minimum in one or two evaluations instead of searching for it.
         """
         n = groups.size
         r = np.arange(n)
@@ -198,30 +236,49 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
         width = b - a
         inner = (k > 0) & (k < 32)
         with np.errstate(divide="ignore", invalid="ignore"):
-            f2 = 2.0 * ((values[r, kp] - e0) / (grids[r, kp] - x0)
-                        - (e0 - values[r, km]) / (x0 - grids[r, km])) / (b - a)
+            s_hi = (values[r, kp] - e0) / (grids[r, kp] - x0)
+            s_lo = (e0 - values[r, km]) / (x0 - grids[r, km])
+            f2 = 2.0 * (s_hi - s_lo) / (b - a)
+            # the parabola through the three points: its slope at x0, and its vertex
+            f1 = (s_hi * (x0 - grids[r, km]) + s_lo * (grids[r, kp] - x0)) / (b - a)
+            vertex = x0 - f1 / f2
         scale = np.where(inner & (f2 > 0), f2 * width**2, np.maximum(np.abs(e0), 1.0) * 1e-3)
         scale = np.where(np.isfinite(scale) & (scale > 0), scale, 1.0)
         if not np.any(width > 0):
             return x0, e0
         safe_w = np.where(width > 0, width, 1.0)
-        hu = 1e-5
+        seen: dict[bytes, np.ndarray] = {}
 
-        def fun(u: np.ndarray) -> tuple[float, np.ndarray]:
+        def scaled(u: np.ndarray, hu: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+            """Scaled EAC at u, and its first and second central differences (step hu)."""
             up, um = np.minimum(u + hu, 1.0), np.maximum(u - hu, 0.0)
             pts = np.tile(a, 3) + np.concatenate([u, up, um]) * np.tile(width, 3)
-            e = (model(pts, np.tile(groups, 3)).reshape(3, n) - e0) / scale
-            step = up - um
-            live = (step > 0) & (width > 0)
-            grad = np.where(live, (e[1] - e[2]) / np.where(live, step, 1.0), 0.0)
-            return float(e[0].sum()), grad
+            eac = model(pts, np.tile(groups, 3)).reshape(3, n)
+            seen[u.tobytes()] = eac[0]
+            e = (eac - e0) / scale
+            live = (up - um > 0) & (width > 0)
+            step = np.where(live, up - um, 1.0)
+            grad = np.where(live, (e[1] - e[2]) / step, 0.0)
+            curv = np.where(live & (up - u == u - um),
+                            (e[1] - 2.0 * e[0] + e[2]) / (0.5 * step) ** 2, 0.0)
+            return e[0], grad, curv
+
+        def fun(u: np.ndarray) -> tuple[float, np.ndarray]:
+            e, grad, _ = scaled(u, 1e-5)
+            return float(e.sum()), grad
 
         u0 = np.where(width > 0, (x0 - a) / safe_w, 0.0)
+        usable = inner & (f2 > 0) & np.isfinite(vertex)
+        u0 = np.where(usable, np.clip((np.where(usable, vertex, x0) - a) / safe_w, 0.0, 1.0), u0)
+        _, grad, curv = scaled(u0, 1e-4)
+        newton = curv > 0
+        u0 = np.where(newton, np.clip(u0 - grad / np.where(newton, curv, 1.0), 0.0, 1.0), u0)
         res = optimize.minimize(fun, u0, jac=True, method="L-BFGS-B",
                                 bounds=optimize.Bounds(np.zeros(n), np.ones(n)),
-                                options={"ftol": 1e-13, "gtol": 1e-7, "maxiter": 50})
-        x = a + np.clip(res.x, 0.0, 1.0) * width
-        e = model(x, groups)
+                                options={"ftol": 1e-13, "gtol": 1e-6, "maxiter": 50})
+        u = np.clip(res.x, 0.0, 1.0)
+        x = a + u * width
+        e = seen[u.tobytes()] if u.tobytes() in seen else model(x, groups)
         better = e <= e0
         return np.where(better, x, x0), np.where(better, e, e0)
 

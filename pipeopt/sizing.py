@@ -396,16 +396,18 @@ class SizingStudy(FrozenStudy, StudyFileMixin):
             lc = lc.take(0)
         _refuse_non_finite(lc, self.candidates, inputs)
         table = self._table(lc)
-        feasible = table[table["feasible"]]
-        if feasible.empty:
+        feasible = table["feasible"].to_numpy()
+        if not feasible.any():
             best = None
             success = False
             message = ("no candidate meets every constraint; see the 'reasons' column (relax a "
                        "limit, widen the diameter range, or add a pressure class)")
         else:
-            best = feasible.loc[feasible["eac"].idxmin()]
+            # the first of equal least EACs, as idxmin over the feasible rows
+            rows = np.flatnonzero(feasible)
+            best = table.iloc[rows[np.argmin(table["eac"].to_numpy()[rows])]]
             success = True
-            message = f"best of {len(feasible)} feasible candidates out of {len(table)}"
+            message = f"best of {rows.size} feasible candidates out of {len(table)}"
         opt = (self.continuous_optimum(table, variations) if optimum and self.layout is None
                else pd.DataFrame())
         return SizingResult(self, table, best, opt, success, message, lc,
@@ -415,9 +417,12 @@ class SizingStudy(FrozenStudy, StudyFileMixin):
         c = self.candidates
         checks = self.check(lc)
         crf = float(np.asarray(lc.crf).reshape(-1)[0])
-        df = pd.DataFrame({
-            "material": c["material"], "size": c["size"], "class": c["class"],
-            "inner_diameter_m": c["inner_diameter_m"], "roughness_m": c["roughness_m"],
+        col = {k: c[k].array for k in (
+            "material", "size", "class", "inner_diameter_m", "roughness_m",
+            "temperature_factor", "mass_kg_per_m", "cost_per_metre")}
+        cols = {
+            "material": col["material"], "size": col["size"], "class": col["class"],
+            "inner_diameter_m": col["inner_diameter_m"], "roughness_m": col["roughness_m"],
             "velocity_m_s": lc.velocity_design, "reynolds": lc.reynolds_design,
             "friction_factor": lc.friction_factor_design, "head_loss_m": lc.head_loss_design,
             "pump_head_m": lc.pump_head_design, "electrical_power_kw": lc.pump_power_peak_year1,
@@ -427,8 +432,8 @@ class SizingStudy(FrozenStudy, StudyFileMixin):
             "mdp_bar": checks["mdp"] / 1e5, "pfa_bar": checks["pfa"] / 1e5,
             "pma_bar": checks["pma"] / 1e5,
             "pressure_rating_bar": c["pressure_rating_pa"].to_numpy() / 1e5,
-            "temperature_factor": c["temperature_factor"],
-            "mass_kg_per_m": c["mass_kg_per_m"], "cost_per_metre": c["cost_per_metre"],
+            "temperature_factor": col["temperature_factor"],
+            "mass_kg_per_m": col["mass_kg_per_m"], "cost_per_metre": col["cost_per_metre"],
             "installed_power_kw": lc.installed_power, "capex_pipe": lc.capex_pipe,
             "capex_pump_station": lc.capex_pump_station,
             "pv_pump_station": lc.pv_pump_station, "pv_energy": lc.pv_energy,
@@ -443,20 +448,24 @@ class SizingStudy(FrozenStudy, StudyFileMixin):
             "eac_renewal": lc.pv_replacement * crf,
             "eac_carbon": lc.pv_carbon * crf,
             "eac_residual": -lc.pv_residual * crf,
-        })
+        }
         if self.layout is not None:
             reasons, notes = self.layout.reasons(lc, checks)
-            for col in ("nominal", "boosters", "booster_chainages_km", "classes_along"):
-                df[col] = c[col]
-            df["highest_pressure_bar"] = checks["highest_pressure"] / 1e5
+            for name in ("nominal", "boosters", "booster_chainages_km", "classes_along"):
+                cols[name] = c[name].array
+            cols["highest_pressure_bar"] = checks["highest_pressure"] / 1e5
         else:
             reasons, notes = feasibility.reasons(c, lc, checks, self.constraints,
                                                  self.service_temperature)
-        df["feasible"] = checks["feasible"]
-        df["reasons"] = reasons
-        df["notes"] = notes
-        df["rank"] = df["eac"].where(df["feasible"]).rank(method="first").astype("Int64")
-        return df
+        feasible = np.asarray(checks["feasible"], dtype=bool)
+        # rank 1, 2, ... of the feasible candidates by EAC, the first of equal EACs first
+        order = np.flatnonzero(feasible)
+        order = order[np.argsort(np.asarray(lc.eac)[order], kind="stable")]
+        rank = np.zeros(feasible.size, dtype=np.int64)
+        rank[order] = np.arange(1, order.size + 1)
+        cols.update(feasible=feasible, reasons=reasons, notes=notes,
+                    rank=pd.arrays.IntegerArray(rank, ~feasible))
+        return pd.DataFrame(cols, index=c.index)
 
     def continuous_optimum(self, table: pd.DataFrame | None = None,
                            variations: Variations | None = None) -> pd.DataFrame:

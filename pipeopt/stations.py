@@ -33,6 +33,7 @@ from typing import Any
 
 import numpy as np
 
+from ._arrays import last_axis_max, last_axis_sum
 from .cashflow import CashFlows, Timeline, station_stages
 from .economics import straight_line_residual
 from .errors import InputError
@@ -267,9 +268,9 @@ def station_values(dh: np.ndarray, flow: np.ndarray, s: Scenario, pump: PumpSet,
     power = s.density * GRAVITY * flow * terms["head"] / terms["factor"]       # W
     hours = s.duty.hours_array
     ratios = s.duty.price_ratios(s.tariff.price)
-    energy0 = (power * hours).sum(axis=-1) / 1000.0
-    priced0 = energy0 if ratios is None else (power * (hours * ratios)).sum(axis=-1) / 1000.0
-    peak0 = power.max(axis=-1) / 1000.0
+    energy0 = last_axis_sum(power * hours) / 1000.0
+    priced0 = energy0 if ratios is None else last_axis_sum(power * (hours * ratios)) / 1000.0
+    peak0 = last_axis_max(power) / 1000.0
     inv_eta = 1.0 / v["efficiency"]
     e_scale = v["hours_factor"] * inv_eta
     price = s.tariff.price_by_year(tl.n_max, v["energy_price"], v["escalation"])

@@ -683,3 +683,47 @@ def test_growth_capped_by_the_flow_cap_by_hand():
     assert (y.loc[6:, "flow_multiplier"] == 1.25).all()
     assert best["velocity_peak_m_s"] == pytest.approx(0.25 / (math.pi * d * d / 4), rel=1e-12)
     assert best["pump_head_max_m"] == pytest.approx(head_loss(0.25), rel=1e-5)
+
+
+@pytest.mark.reference
+def test_class_curves_of_the_optimum_equal_numpy_interp_class_by_class():
+    # the continuous optimum interpolates every class in one pass; numpy.interp (the reference,
+    # an independent implementation) applied class by class gives the same cost and carbon
+    # (log-log), wave speed (linear) and the lower rating of the two neighbouring sizes
+    from pipeopt.optimum import _Classes
+
+    st_ = study_from(material=[{"name": "ductile-iron", "cost": {"coefficient": 2100.0,
+                                                                  "exponent": 1.3}},
+                               {"name": "pe100", "cost": {"coefficient": 1500.0,
+                                                          "exponent": 1.45}}])
+    c = st_.candidates
+    cl = _Classes(c, np.ones(len(c)))
+    rng = np.random.default_rng(3)
+    groups = rng.integers(0, len(cl.groups), 4000)
+    lo = np.array([g["d"][0] for g in cl.groups])[groups]
+    hi = np.array([g["d"][-1] for g in cl.groups])[groups]
+    d = np.exp(rng.uniform(np.log(lo * 0.9), np.log(hi * 1.1)))
+    # catalog bores themselves, and the ends of each class
+    d[:len(cl.groups)] = lo[:len(cl.groups)]
+    d[-50:] = np.array([g["d"][len(g["d"]) // 2] for g in cl.groups])[groups[-50:]]
+    got = cl.at(groups, d, full=True)
+    for j, g in enumerate(cl.groups):
+        sel = groups == j
+        x = g["d"]
+        ld = np.log(np.clip(d[sel], x[0], x[-1]))
+        np.testing.assert_allclose(got["cost"][sel],
+                                   np.exp(np.interp(ld, np.log(x), np.log(g["cost"]))),
+                                   rtol=1e-14)
+        if np.all(g["co2"] > 0):
+            np.testing.assert_allclose(got["co2"][sel],
+                                       np.exp(np.interp(ld, np.log(x), np.log(g["co2"]))),
+                                       rtol=1e-14)
+        np.testing.assert_allclose(got["wave"][sel], np.interp(d[sel], x, g["wave"]),
+                                   rtol=1e-14)
+        if x.size > 1:
+            k = np.clip(np.searchsorted(x, d[sel], side="right") - 1, 0, x.size - 2)
+            nxt = np.where(np.isclose(d[sel], x[k], rtol=1e-12), k, k + 1)
+            np.testing.assert_array_equal(got["pfa"][sel], np.minimum(g["pfa"][k],
+                                                                      g["pfa"][nxt]))
+            np.testing.assert_array_equal(got["pma"][sel], np.minimum(g["pma"][k],
+                                                                      g["pma"][nxt]))
