@@ -32,7 +32,7 @@ from .lifecycle import Scenario, evaluate
 from .surge import joukowsky_head
 from .variations import Variations
 
-__all__ = ["continuous_optimum", "OPTIMUM_COLUMNS"]
+__all__ = ["continuous_optimum", "class_curves", "OPTIMUM_COLUMNS"]
 
 OPTIMUM_COLUMNS = ["material", "class", "inner_diameter_m", "eac", "velocity_m_s",
                    "velocity_peak_m_s", "limited_by", "unconstrained_inner_diameter_m",
@@ -143,9 +143,16 @@ class _Classes:
 _KEY = 1000.0
 
 
+def class_curves(candidates: pd.DataFrame) -> _Classes:
+    """The continuous curves of every class of ``candidates`` at their own prices (built once
+    per study and passed to :func:`continuous_optimum` as ``curves``)."""
+    return _Classes(candidates, np.ones(len(candidates)))
+
+
 def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFrame,
                        constraints: Any, variations: Variations | None = None,
-                       embodied: bool = False, suction_pressure: float = 0.0) -> pd.DataFrame:
+                       embodied: bool = False, suction_pressure: float = 0.0,
+                       curves: _Classes | None = None) -> pd.DataFrame:
     """The EAC-minimizing inner diameter of each material when D varies continuously.
 
     Parameters
@@ -163,6 +170,9 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
         Charge the embodied carbon of the pipe (as the table did).
     suction_pressure : float
         Gauge pressure at the pump suction [Pa].
+    curves : optional
+        :func:`class_curves` of these candidates, if already built (used when the prices are
+        the candidates' own, i.e. no ``pipe_cost_factor`` among the variations).
 
     Returns
     -------
@@ -177,7 +187,8 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
         from dataclasses import replace
 
         var = replace(variations, pipe_cost_factor=None)
-    cl = _Classes(candidates, cost_factor)
+        curves = None
+    cl = _Classes(candidates, cost_factor) if curves is None else curves
     n_g = len(cl.groups)
     v = s.resolve(var)
     horizon = int(v["horizon"][0])
@@ -213,8 +224,11 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
         return (lc if var is None else lc.take(0)), cv
 
     def minimize(lo: np.ndarray, hi: np.ndarray,
-                 groups: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+                 groups: np.ndarray) -> tuple[np.ndarray, np.ndarray, Any]:
         """Minimum of each class's EAC within [lo, hi]: a scan, then one L-BFGS-B for all.
+
+        Returns the diameters, their EACs and, when every class's minimum is the point the
+        minimizer ended at, the largest velocity and pump head there (else None).
 
         The scan (33 log-spaced diameters of every class, one evaluation) brackets each
         minimum between the neighbours of its best point. L-BFGS-B then works on u in [0, 1]
@@ -245,16 +259,18 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
         scale = np.where(inner & (f2 > 0), f2 * width**2, np.maximum(np.abs(e0), 1.0) * 1e-3)
         scale = np.where(np.isfinite(scale) & (scale > 0), scale, 1.0)
         if not np.any(width > 0):
-            return x0, e0
+            return x0, e0, None
         safe_w = np.where(width > 0, width, 1.0)
-        seen: dict[bytes, np.ndarray] = {}
+        seen: dict[bytes, tuple[np.ndarray, ...]] = {}
 
         def scaled(u: np.ndarray, hu: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-            """Scaled EAC at u, and its first and second central differences (step hu)."""
+            """Scaled EAC at u, and its first and second central differences (step hu); the
+            EAC, largest velocity and pump head at u are kept for the point finally chosen."""
             up, um = np.minimum(u + hu, 1.0), np.maximum(u - hu, 0.0)
             pts = np.tile(a, 3) + np.concatenate([u, up, um]) * np.tile(width, 3)
-            eac = model(pts, np.tile(groups, 3)).reshape(3, n)
-            seen[u.tobytes()] = eac[0]
+            lc, _ = model(pts, np.tile(groups, 3), eac_only=False)
+            eac = lc.eac.reshape(3, n)
+            seen[u.tobytes()] = (eac[0], lc.velocity_max[:n], lc.pump_head_max[:n])
             e = (eac - e0) / scale
             live = (up - um > 0) & (width > 0)
             step = np.where(live, up - um, 1.0)
@@ -278,25 +294,32 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
                                 options={"ftol": 1e-13, "gtol": 1e-6, "maxiter": 50})
         u = np.clip(res.x, 0.0, 1.0)
         x = a + u * width
-        e = seen[u.tobytes()] if u.tobytes() in seen else model(x, groups)
+        found = seen.get(u.tobytes())
+        e = found[0] if found is not None else model(x, groups)
         better = e <= e0
-        return np.where(better, x, x0), np.where(better, e, e0)
+        figures = found[1:] if found is not None and np.all(better) else None
+        return np.where(better, x, x0), np.where(better, e, e0), figures
 
     everything = np.arange(n_g)
-    d_con, e_con = minimize(c_lo, c_hi, everything)
+    d_con, e_con, figures = minimize(c_lo, c_hi, everything)
     # the unconstrained optimum differs only where a velocity limit holds the optimum
     held = possible & (((d_con <= c_lo * (1 + 1e-9)) & (c_lo > d_lo))
                        | ((d_con >= c_hi * (1 - 1e-9)) & (c_hi < d_hi)))
     d_free, e_free = d_con.copy(), e_con.copy()
     if np.any(held):
         g = np.flatnonzero(held)
-        d_free[g], e_free[g] = minimize(d_lo[g], d_hi[g], g)
-    lc, cv = model(d_con, np.arange(n_g), eac_only=False)
+        d_free[g], e_free[g], _ = minimize(d_lo[g], d_hi[g], g)
+    if figures is None:
+        lc, cv = model(d_con, everything, eac_only=False)
+        velocity_max, pump_head_max = lc.velocity_max, lc.pump_head_max
+    else:  # the minimizer's last evaluation was at d_con
+        velocity_max, pump_head_max = figures
+        cv = cl.at(everything, d_con, full=True)
     rho_g = s.density * GRAVITY
     surge = (np.full(n_g, float(constraints.surge_allowance))
              if constraints.surge_allowance is not None
-             else joukowsky_head(cv["wave"], lc.velocity_max))
-    operating = suction_pressure + lc.pump_head_max * rho_g
+             else joukowsky_head(cv["wave"], velocity_max))
+    operating = suction_pressure + pump_head_max * rho_g
     mdp = operating + surge * rho_g
     rated = np.array([g["rated"] for g in cl.groups])
     hot = np.array([g["hot"] for g in cl.groups])
@@ -334,7 +357,7 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
         rows.append({
             "material": mat, "class": g["class"], "inner_diameter_m": d_star,
             "eac": float(e_con[pick]), "velocity_m_s": q_design / (np.pi * d_star**2 / 4.0),
-            "velocity_peak_m_s": float(lc.velocity_max[pick]), "limited_by": limited,
+            "velocity_peak_m_s": float(velocity_max[pick]), "limited_by": limited,
             "unconstrained_inner_diameter_m": float(d_free[pick]),
             "unconstrained_eac": float(e_free[pick]),
             "at_bound": bool(np.isclose(d_star, g["d"][0], rtol=1e-6)

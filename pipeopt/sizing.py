@@ -51,7 +51,7 @@ from .inputs import (
     read_sizing,
 )
 from .lifecycle import LifeCycle, Scenario, evaluate
-from .optimum import continuous_optimum
+from .optimum import class_curves, continuous_optimum
 from .pumps import npsh_available, standard_atmosphere_pressure
 from .results import CAUTION, StudyResult, html_table
 from .studyfile import FrozenStudy, StudyFileMixin
@@ -474,7 +474,12 @@ class SizingStudy(FrozenStudy, StudyFileMixin):
         table = self._table(self.evaluate()) if table is None else table
         return continuous_optimum(self.scenario, self.candidates, table, self.constraints,
                                   variations, bool(self.carbon and self.carbon.embodied),
-                                  float(self.line.suction_pressure))
+                                  float(self.line.suction_pressure), self._class_curves)
+
+    @cached_property
+    def _class_curves(self):
+        """The classes' continuous curves for the optimum (built on first use, then kept)."""
+        return class_curves(self.candidates)
 
     # ----- uncertainty ----------------------------------------------------------------------
     def tornado(self, ranges: dict[str, tuple[float, float]] | None = None):
