@@ -96,6 +96,14 @@ class _Classes:
         self.log_co2 = np.log(np.where(has_co2[owner], co2, 1.0))
         self.has_co2 = has_co2
 
+    def bores(self, groups: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """The catalog bores of classes ``groups`` [m], and for each the position in
+        ``groups`` of the class it belongs to."""
+        count = self.last[groups] - self.start[groups] + 1
+        owner = np.repeat(np.arange(groups.size), count)
+        offset = np.arange(owner.size) - np.repeat(np.cumsum(count) - count, count)
+        return self.d[self.start[groups][owner] + offset], owner
+
     def at(self, groups: np.ndarray, d: np.ndarray, full: bool) -> dict[str, np.ndarray]:
         """Cost, carbon (and with ``full`` wave speed, PFA, PMA) of class ``groups[i]`` at
         inner diameter ``d[i]``, every point in one pass.
@@ -227,51 +235,76 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
                  groups: np.ndarray) -> tuple[np.ndarray, np.ndarray, Any]:
         """Minimum of each class's EAC within [lo, hi]: a scan, then one L-BFGS-B for all.
 
-        Returns the diameters, their EACs and, when every class's minimum is the point the
+        Returns the diameters, their EACs and, when every class's minimum is a point the
         minimizer ended at, the largest velocity and pump head there (else None).
 
-        The scan (33 log-spaced diameters of every class, one evaluation) brackets each
-        minimum between the neighbours of its best point. L-BFGS-B then works on u in [0, 1]
-        across each bracket, with each class's EAC scaled by its curvature there (from the
-        scan's three points) so that the problem is well conditioned, and derivatives by
-        central differences (three diameters per class, one evaluation per iteration). It
-        starts from the vertex of the parabola through the scan's three points, moved by one
-        Newton step on central differences there (one evaluation), so that it usually
-        confirms the minimum in one or two evaluations instead of searching for it.
+        Along a class the EAC is smooth between catalog bores and has a kink at each (the
+        price per metre is interpolated size to size), so a minimum often sits on a bore,
+        where no derivative vanishes. The scan evaluates 33 log-spaced diameters and every
+        catalog bore of each class (one evaluation) and takes the best point p with its
+        neighbours L and R among those points: no kink lies inside (L, p) or (p, R).
+        L-BFGS-B then minimizes over both pieces of every class at once (two variables per
+        class, u in [0, 1] across each piece; the pieces are smooth, and a minimum on the
+        kink is a minimum at a bound of both), each piece's EAC scaled by the curvature of the
+        three points so that the problem is well conditioned, with derivatives by central
+        differences (three diameters per piece, one evaluation per iteration). It starts from
+        the vertex of the parabola through the three points, moved by one Newton step on
+        central differences there (one evaluation), so that it usually confirms the minimum
+        in one or two evaluations instead of searching for it.
         """
         n = groups.size
         r = np.arange(n)
         grids = np.geomspace(lo, hi, 33, axis=1)
-        values = model(grids.ravel(), np.repeat(groups, 33)).reshape(grids.shape)
-        k = np.argmin(values, axis=1)
-        km, kp = np.maximum(k - 1, 0), np.minimum(k + 1, 32)
-        a, b = grids[r, km], grids[r, kp]
-        x0, e0 = grids[r, k], values[r, k]
-        width = b - a
-        inner = (k > 0) & (k < 32)
+        bores, own_b = cl.bores(groups)
+        inside = (bores > lo[own_b] * (1 + 1e-12)) & (bores < hi[own_b] * (1 - 1e-12))
+        bores, own_b = bores[inside], own_b[inside]
+        pts = np.concatenate([grids.ravel(), bores])
+        own = np.concatenate([np.repeat(r, 33), own_b])
+        vals = model(pts, groups[own])
+        # every class's points by diameter, a point repeated (a bore on the grid) once
+        order = np.lexsort((pts, own))
+        pts, own, vals = pts[order], own[order], vals[order]
+        keep = np.ones(pts.size, dtype=bool)
+        keep[1:] = (own[1:] != own[:-1]) | (pts[1:] > pts[:-1] * (1 + 1e-12))
+        pts, own, vals = pts[keep], own[keep], vals[keep]
+        first = np.searchsorted(own, r)
+        last = np.searchsorted(own, r, side="right") - 1
+        i = np.lexsort((vals, own))[first]                    # each class's best point
+        i_lo, i_hi = np.maximum(i - 1, first), np.minimum(i + 1, last)
+        x_lo, x0, x_hi = pts[i_lo], pts[i], pts[i_hi]
+        e_lo, e0, e_hi = vals[i_lo], vals[i], vals[i_hi]
+        inner = (i > first) & (i < last)
         with np.errstate(divide="ignore", invalid="ignore"):
-            s_hi = (values[r, kp] - e0) / (grids[r, kp] - x0)
-            s_lo = (e0 - values[r, km]) / (x0 - grids[r, km])
-            f2 = 2.0 * (s_hi - s_lo) / (b - a)
+            s_hi = (e_hi - e0) / (x_hi - x0)
+            s_lo = (e0 - e_lo) / (x0 - x_lo)
+            f2 = 2.0 * (s_hi - s_lo) / (x_hi - x_lo)
             # the parabola through the three points: its slope at x0, and its vertex
-            f1 = (s_hi * (x0 - grids[r, km]) + s_lo * (grids[r, kp] - x0)) / (b - a)
+            f1 = (s_hi * (x0 - x_lo) + s_lo * (x_hi - x0)) / (x_hi - x_lo)
             vertex = x0 - f1 / f2
-        scale = np.where(inner & (f2 > 0), f2 * width**2, np.maximum(np.abs(e0), 1.0) * 1e-3)
+        usable = inner & (f2 > 0) & np.isfinite(vertex)
+        vertex = np.where(usable, vertex, x0)
+        # the two pieces of each class: [x_lo, x0] (variables 0 … n-1), [x0, x_hi] (n … 2n-1)
+        a = np.concatenate([x_lo, x0])
+        width = np.concatenate([x0 - x_lo, x_hi - x0])
+        g2, base = np.concatenate([groups, groups]), np.concatenate([e0, e0])
+        scale = np.where(np.concatenate([usable, usable]), np.concatenate([f2, f2]) * width**2,
+                         np.maximum(np.abs(base), 1.0) * 1e-3)
         scale = np.where(np.isfinite(scale) & (scale > 0), scale, 1.0)
         if not np.any(width > 0):
             return x0, e0, None
         safe_w = np.where(width > 0, width, 1.0)
+        m = 2 * n
         seen: dict[bytes, tuple[np.ndarray, ...]] = {}
 
         def scaled(u: np.ndarray, hu: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
             """Scaled EAC at u, and its first and second central differences (step hu); the
             EAC, largest velocity and pump head at u are kept for the point finally chosen."""
             up, um = np.minimum(u + hu, 1.0), np.maximum(u - hu, 0.0)
-            pts = np.tile(a, 3) + np.concatenate([u, up, um]) * np.tile(width, 3)
-            lc, _ = model(pts, np.tile(groups, 3), eac_only=False)
-            eac = lc.eac.reshape(3, n)
-            seen[u.tobytes()] = (eac[0], lc.velocity_max[:n], lc.pump_head_max[:n])
-            e = (eac - e0) / scale
+            at = np.tile(a, 3) + np.concatenate([u, up, um]) * np.tile(width, 3)
+            lc, _ = model(at, np.tile(g2, 3), eac_only=False)
+            eac = lc.eac.reshape(3, m)
+            seen[u.tobytes()] = (eac[0], lc.velocity_max[:m], lc.pump_head_max[:m])
+            e = (eac - base) / scale
             live = (up - um > 0) & (width > 0)
             step = np.where(live, up - um, 1.0)
             grad = np.where(live, (e[1] - e[2]) / step, 0.0)
@@ -283,21 +316,24 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
             e, grad, _ = scaled(u, 1e-5)
             return float(e.sum()), grad
 
-        u0 = np.where(width > 0, (x0 - a) / safe_w, 0.0)
-        usable = inner & (f2 > 0) & np.isfinite(vertex)
-        u0 = np.where(usable, np.clip((np.where(usable, vertex, x0) - a) / safe_w, 0.0, 1.0), u0)
+        u0 = np.clip((np.concatenate([vertex, vertex]) - a) / safe_w, 0.0, 1.0)
+        u0 = np.where(width > 0, u0, 0.0)
         _, grad, curv = scaled(u0, 1e-4)
         newton = curv > 0
         u0 = np.where(newton, np.clip(u0 - grad / np.where(newton, curv, 1.0), 0.0, 1.0), u0)
         res = optimize.minimize(fun, u0, jac=True, method="L-BFGS-B",
-                                bounds=optimize.Bounds(np.zeros(n), np.ones(n)),
+                                bounds=optimize.Bounds(np.zeros(m), np.ones(m)),
                                 options={"ftol": 1e-13, "gtol": 1e-6, "maxiter": 50})
         u = np.clip(res.x, 0.0, 1.0)
         x = a + u * width
         found = seen.get(u.tobytes())
-        e = found[0] if found is not None else model(x, groups)
+        e = found[0] if found is not None else model(x, g2)
+        right = e[n:] < e[:n]                                # the better piece of each class
+        pick = np.where(right, r + n, r)
+        x, e = x[pick], e[pick]
         better = e <= e0
-        figures = found[1:] if found is not None and np.all(better) else None
+        figures = (tuple(f[pick] for f in found[1:])
+                   if found is not None and np.all(better) else None)
         return np.where(better, x, x0), np.where(better, e, e0), figures
 
     everything = np.arange(n_g)

@@ -727,3 +727,31 @@ def test_class_curves_of_the_optimum_equal_numpy_interp_class_by_class():
                                                                       g["pfa"][nxt]))
             np.testing.assert_array_equal(got["pma"][sel], np.minimum(g["pma"][k],
                                                                       g["pma"][nxt]))
+
+
+@pytest.mark.reference
+@settings(max_examples=8, deadline=None)
+@given(price=st.floats(0.03, 0.45))
+def test_continuous_optimum_is_no_worse_than_a_dense_scan_or_any_bore(price):
+    # Along a class the EAC has a kink at every catalog bore (prices interpolated size to
+    # size), and over ranges of energy price the minimum sits on a bore. Reference: a dense
+    # scan of the same class curve (4,000 log-spaced diameters, numpy.interp log-log of the
+    # class's prices, the model evaluated directly) plus every catalog bore of the class: no
+    # point of it is below the optimum found.
+    from pipeopt.lifecycle import evaluate
+
+    study = SizingStudy.demo()
+    res = study.run(inputs={"energy_price": price})
+    var = study.variations({"energy_price": price})
+    for _, o in res.optimum.iterrows():
+        cls = study.candidates
+        cls = cls[(cls["material"] == o["material"]) & (cls["class"] == o["class"])]
+        b = np.sort(np.unique(cls["inner_diameter_m"].to_numpy()))
+        cost = cls.groupby("inner_diameter_m")["cost_per_metre"].first().loc[b].to_numpy()
+        lo = max(b[0], o["inner_diameter_m"] if o["limited_by"] == "velocity_max" else 0.0)
+        hi = min(b[-1], o["inner_diameter_m"] if o["limited_by"] == "velocity_min" else 9.0)
+        d = np.concatenate([np.geomspace(lo, hi, 4000), b[(b >= lo) & (b <= hi)]])
+        c = np.exp(np.interp(np.log(d), np.log(b), np.log(cost)))
+        eac = evaluate(study.scenario, d, cls["roughness_m"].iloc[0],
+                       cls["aging_m_per_year"].iloc[0], c, variations=var, eac_only=True)[0]
+        assert o["eac"] <= eac.min() * (1 + 1e-12)
