@@ -296,7 +296,14 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
         m = 2 * n
         seen: dict[bytes, tuple[np.ndarray, ...]] = {}
 
-        def scaled(u: np.ndarray, hu: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        # difference steps: 1e-5 (1e-4 for the Newton step) of a piece, and never less than
+        # 1e-6 (1e-5) of the diameter, so that rounding in the EAC (about 1e-15 of it) stays
+        # far below the gradient tolerance on a narrow piece (a bore close to the best point)
+        rel = np.concatenate([x0, x0]) / safe_w
+        h_fun = np.minimum(np.maximum(1e-5, 1e-6 * rel), 0.1)
+        h_newton = np.minimum(np.maximum(1e-4, 1e-5 * rel), 0.2)
+
+        def scaled(u: np.ndarray, hu: Any) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
             """Scaled EAC at u, and its first and second central differences (step hu); the
             EAC, largest velocity and pump head at u are kept for the point finally chosen."""
             up, um = np.minimum(u + hu, 1.0), np.maximum(u - hu, 0.0)
@@ -308,17 +315,22 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
             live = (up - um > 0) & (width > 0)
             step = np.where(live, up - um, 1.0)
             grad = np.where(live, (e[1] - e[2]) / step, 0.0)
+            # no slope: a difference within the EAC's rounding (taken as 1e-14 of it), or a
+            # slope that would move the diameter by less than 1e-8 of itself (the scaled
+            # curvature is about 1, so the distance to the minimum is about the slope)
+            floor = np.maximum(1e-14 * np.abs(base) / scale / step, 1e-8 * rel)
+            grad = np.where(np.abs(grad) > floor, grad, 0.0)
             curv = np.where(live & (up - u == u - um),
                             (e[1] - 2.0 * e[0] + e[2]) / (0.5 * step) ** 2, 0.0)
             return e[0], grad, curv
 
         def fun(u: np.ndarray) -> tuple[float, np.ndarray]:
-            e, grad, _ = scaled(u, 1e-5)
+            e, grad, _ = scaled(u, h_fun)
             return float(e.sum()), grad
 
         u0 = np.clip((np.concatenate([vertex, vertex]) - a) / safe_w, 0.0, 1.0)
         u0 = np.where(width > 0, u0, 0.0)
-        _, grad, curv = scaled(u0, 1e-4)
+        _, grad, curv = scaled(u0, h_newton)
         newton = curv > 0
         u0 = np.where(newton, np.clip(u0 - grad / np.where(newton, curv, 1.0), 0.0, 1.0), u0)
         res = optimize.minimize(fun, u0, jac=True, method="L-BFGS-B",
