@@ -25,7 +25,8 @@ from PIL import Image
 
 from . import friction as fr
 
-__all__ = ["PALETTE", "EAC_PARTS", "FIXED_MARGINS", "figure_png", "cost_curves", "cost_breakdown",
+__all__ = ["PALETTE", "EAC_PARTS", "FIXED_MARGINS", "figure_png", "cost_curves",
+           "update_cost_curves", "cost_breakdown",
            "velocity_head", "friction_chart", "tornado_chart", "probability_cheapest",
            "eac_distributions", "cumulative_cash_flow", "network", "yearly_capital",
            "profile", "profile_section"]
@@ -112,6 +113,61 @@ EAC_PARTS = (("eac_capital", "capital charge"), ("eac_energy", "energy"),
              ("eac_carbon", "carbon"), ("eac_residual", "residual value (credit)"))
 
 
+def _cost_curve_layers(result, materials: list[str] | None, parts: Any) -> dict[str, Any]:
+    """What :func:`cost_curves` draws, as data: every line by its ``gid`` with its points,
+    label and style, the y limits and whether the zero line is drawn."""
+    c = result.candidates
+    mats = materials or list(dict.fromkeys(c["material"]))
+    if isinstance(parts, str) and parts == "best":
+        b = result.best
+        parts = None if b is None or b["material"] not in mats else (b["material"], b["class"])
+    lines: dict[str, tuple] = {}   # gid -> (x, y, format (None: a line), label, style)
+    lowest = 0.0
+    if parts is not None:
+        rows = c[(c["material"] == parts[0]) & (c["class"] == parts[1])] \
+            .sort_values("inner_diameter_m")
+        d_mm = rows["inner_diameter_m"].to_numpy() * 1e3
+        lines[f"total:{parts[0]}:{parts[1]}"] = (
+            d_mm, rows["eac"].to_numpy(), None, f"{parts[0]} {parts[1]}: total EAC",
+            {"color": "#000000", "linewidth": 1.3, "alpha": 0.8})
+        styles = ("-", "--", "-.", ":", (0, (5, 1, 1, 1)), (0, (1, 1)))
+        for j, (col, name) in enumerate(EAC_PARTS):
+            y = rows[col].to_numpy()
+            if not np.any(y != 0):
+                continue
+            lines[f"part:{col}"] = (d_mm, y, None, f"  {name}",
+                                    {"color": PALETTE[(j + len(mats)) % len(PALETTE)],
+                                     "linewidth": 0.9, "linestyle": styles[j]})
+            lowest = min(lowest, float(y.min()))
+    optima = {}
+    for j, mat in enumerate(mats):
+        colour = PALETTE[j % len(PALETTE)]
+        rows = c[c["material"] == mat]
+        d_mm = rows["inner_diameter_m"].to_numpy() * 1e3
+        eac = rows["eac"].to_numpy()
+        feas = rows["feasible"].to_numpy()
+        lines[f"sizes:{mat}"] = (d_mm[feas], eac[feas], "o", f"{mat}: EAC of each size",
+                                 {"color": colour, "markersize": 4})
+        lines[f"infeasible:{mat}"] = (d_mm[~feas], eac[~feas], "o", None,
+                                      {"markerfacecolor": "none", "markeredgecolor": _GREY,
+                                       "markersize": 4, "linestyle": "none"})
+        opt = result.optimum[result.optimum["material"] == mat] if not result.optimum.empty \
+            else pd.DataFrame()
+        if not opt.empty:
+            optima[f"optimum:{mat}"] = (opt["inner_diameter_m"].iloc[0] * 1e3, colour)
+    chosen = None
+    if result.best is not None:
+        b = result.best
+        chosen = (b["inner_diameter_m"] * 1e3, b["eac"], f"chosen: {b['material']} {b['size']}")
+    feasible_eac = c.loc[c["feasible"], "eac"]
+    ylim = None
+    if not feasible_eac.empty:
+        top = float(feasible_eac.min()) * 3.0
+        ylim = (min(0.0, 1.15 * lowest) if lowest < 0 else 0.0, top)
+    return {"lines": lines, "optima": optima, "chosen": chosen, "ylim": ylim,
+            "zero_line": lowest < 0}
+
+
 def cost_curves(result, materials: list[str] | None = None, parts: Any = "best", ax=None):
     """Equivalent annual cost against inner diameter, per material, and the parts of one class.
 
@@ -120,7 +176,9 @@ def cost_curves(result, materials: list[str] | None = None, parts: Any = "best",
     For one material and class (default: the best candidate's), the total EAC as a line and
     its parts as thin lines: capital charge, energy, maintenance, station renewals, carbon and
     the residual value (a credit, below zero), which add up to the total at every diameter.
-    Lines carry ``gid`` ``"total:<material>:<class>"`` and ``"part:<column>"``.
+    Lines carry ``gid`` ``"total:<material>:<class>"`` and ``"part:<column>"``, the markers
+    ``"sizes:<material>"`` and ``"infeasible:<material>"``, the optima
+    ``"optimum:<material>"`` and the chosen size ``"chosen"``.
 
     Parameters
     ----------
@@ -136,58 +194,71 @@ def cost_curves(result, materials: list[str] | None = None, parts: Any = "best",
     matplotlib.axes.Axes
     """
     ax = _axes(ax)
-    c = result.candidates
-    mats = materials or list(dict.fromkeys(c["material"]))
-    if isinstance(parts, str) and parts == "best":
-        b = result.best
-        parts = None if b is None or b["material"] not in mats else (b["material"], b["class"])
-    lowest = 0.0
-    if parts is not None:
-        rows = c[(c["material"] == parts[0]) & (c["class"] == parts[1])] \
-            .sort_values("inner_diameter_m")
-        d_mm = rows["inner_diameter_m"] * 1e3
-        ax.plot(d_mm, rows["eac"], color="#000000", linewidth=1.3, alpha=0.8,
-                label=f"{parts[0]} {parts[1]}: total EAC", gid=f"total:{parts[0]}:{parts[1]}")
-        styles = ("-", "--", "-.", ":", (0, (5, 1, 1, 1)), (0, (1, 1)))
-        for j, (col, name) in enumerate(EAC_PARTS):
-            if not np.any(rows[col].to_numpy() != 0):
-                continue
-            ax.plot(d_mm, rows[col], color=PALETTE[(j + len(mats)) % len(PALETTE)],
-                    linewidth=0.9,
-                    linestyle=styles[j], label=f"  {name}", gid=f"part:{col}")
-            lowest = min(lowest, float(rows[col].min()))
-    for j, mat in enumerate(mats):
-        colour = PALETTE[j % len(PALETTE)]
-        rows = c[c["material"] == mat]
-        d_mm = rows["inner_diameter_m"] * 1e3
-        feas = rows["feasible"].to_numpy()
-        ax.plot(d_mm[feas], rows.loc[feas, "eac"], "o", color=colour, markersize=4,
-                label=f"{mat}: EAC of each size")
-        ax.plot(d_mm[~feas], rows.loc[~feas, "eac"], "o", markerfacecolor="none",
-                markeredgecolor=_GREY, markersize=4, linestyle="none")
-        opt = result.optimum[result.optimum["material"] == mat] if not result.optimum.empty \
-            else pd.DataFrame()
-        if not opt.empty:
-            ax.axvline(opt["inner_diameter_m"].iloc[0] * 1e3, color=colour, linestyle="--",
-                       linewidth=0.8, alpha=0.7)
+    lay = _cost_curve_layers(result, materials, parts)
+    for gid, (x, y, fmt, label, style) in lay["lines"].items():
+        if gid.startswith("sizes:"):  # each material's optimum after its markers
+            ax.plot(x, y, fmt, label=label, gid=gid, **style)
+            continue
+        if gid.startswith("infeasible:"):
+            ax.plot(x, y, fmt, gid=gid, **style)
+            mat = gid.split(":", 1)[1]
+            if f"optimum:{mat}" in lay["optima"]:
+                x_opt, colour = lay["optima"][f"optimum:{mat}"]
+                ax.axvline(x_opt, color=colour, linestyle="--", linewidth=0.8, alpha=0.7,
+                           gid=f"optimum:{mat}")
+            continue
+        ax.plot(x, y, label=label, gid=gid, **style)   # the total and its parts: lines
     ax.plot([], [], "o", markerfacecolor="none", markeredgecolor=_GREY, label="infeasible")
     ax.plot([], [], "--", color=_GREY, linewidth=0.8, label="continuous optimum")
-    if result.best is not None:
-        b = result.best
-        ax.plot(b["inner_diameter_m"] * 1e3, b["eac"], "D", color="#000000", markersize=8,
-                label=f"chosen: {b['material']} {b['size']}")
-    feasible_eac = c.loc[c["feasible"], "eac"]
-    if not feasible_eac.empty:
-        top = float(feasible_eac.min()) * 3.0
-        ax.set_ylim(min(0.0, 1.15 * lowest) if lowest < 0 else 0.0, top)
-    if lowest < 0:
-        ax.axhline(0, color="#000000", linewidth=0.6)
+    if lay["chosen"] is not None:
+        x, y, label = lay["chosen"]
+        ax.plot(x, y, "D", color="#000000", markersize=8, label=label, gid="chosen")
+    if lay["ylim"] is not None:
+        ax.set_ylim(*lay["ylim"])
+    if lay["zero_line"]:
+        ax.axhline(0, color="#000000", linewidth=0.6, gid="zero")
     ax.set_xlabel("inner diameter [mm]")
     ax.set_ylabel(f"equivalent annual cost [{_money(result)}/yr]")
     _money_ticks(ax.yaxis)
     _style(ax, "Life-cycle cost against diameter")
     _legend_outside(ax)
     return ax
+
+
+def update_cost_curves(ax, result, materials: list[str] | None = None) -> bool:
+    """Move the points of a :func:`cost_curves` figure to another result of the same study, in
+    place (no new lines, legend or ticks: what an explorer redraws while a slider moves).
+
+    Returns False, changing nothing, when the figure would differ in more than its points and
+    limits (other materials, another class drawn in parts, other parts, another chosen size or
+    a zero line appearing or going): then draw it anew.
+    """
+    lay = _cost_curve_layers(result, materials, "best")
+    drawn = {ln.get_gid(): ln for ln in ax.get_lines() if ln.get_gid()}
+    want = (set(lay["lines"]) | set(lay["optima"]) | ({"chosen"} if lay["chosen"] else set())
+            | ({"zero"} if lay["zero_line"] else set()))
+    if set(drawn) != want or (lay["ylim"] is None) != ax.get_autoscaley_on():
+        return False
+    if lay["chosen"] is not None and drawn["chosen"].get_label() != lay["chosen"][2]:
+        # another size chosen: its legend entry says so
+        legend = ax.get_legend()
+        old = [t for t in (legend.get_texts() if legend else [])
+               if t.get_text() == drawn["chosen"].get_label()]
+        if len(old) != 1:
+            return False
+        old[0].set_text(lay["chosen"][2])
+        drawn["chosen"].set_label(lay["chosen"][2])
+    for gid, (x, y, *_rest) in lay["lines"].items():
+        drawn[gid].set_data(x, y)
+    for gid, (x_opt, _colour) in lay["optima"].items():
+        drawn[gid].set_xdata([x_opt, x_opt])
+    if lay["chosen"] is not None:
+        drawn["chosen"].set_data([lay["chosen"][0]], [lay["chosen"][1]])
+    ax.relim()
+    ax.autoscale_view(scaley=lay["ylim"] is None)
+    if lay["ylim"] is not None:
+        ax.set_ylim(*lay["ylim"])
+    return True
 
 
 def cost_breakdown(result, n: int = 5, ax=None):

@@ -173,6 +173,9 @@ class SizingExplorer(_Explorer):
         The application.
     """
 
+    #: Move the points of the figure in place when only they change (False: always redraw).
+    reuse = True
+
     def __init__(self, study, debounce: float = 0.15) -> None:
         super().__init__(debounce)
         self.study = study
@@ -208,8 +211,11 @@ class SizingExplorer(_Explorer):
         cand = result.candidates
         sel = cand[cand["material"].isin(chosen) & cand["feasible"]].nsmallest(8, "eac")
         self.best = sel.iloc[0] if not sel.empty else None
-        self.ax.clear()
-        plots.cost_curves(result, materials=chosen, ax=self.ax)
+        # the same lines with new points where it can (no new legend, ticks or lines: half
+        # the cost of an update), else drawn anew
+        if not (self.reuse and plots.update_cost_curves(self.ax, result, materials=chosen)):
+            self.ax.clear()
+            plots.cost_curves(result, materials=chosen, ax=self.ax)
         money = self.study.currency or "currency"
         shown = _shown(sel, [("material", "material", str), ("size", "size", str),
                              ("inner_diameter_m", "inner diameter [mm]",

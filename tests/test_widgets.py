@@ -77,6 +77,38 @@ def test_an_update_draws_the_figure_once(study, monkeypatch):
     assert len(draws) == 3
 
 
+def test_points_moved_in_place_give_the_picture_of_a_redraw(monkeypatch):
+    # the sizing explorer moves the points of its figure in place when only they change
+    # (plots.update_cost_curves); an explorer that always clears and draws anew, given the
+    # same control changes, shows the same picture byte for byte after every change: small
+    # and large moves, a new best size (a legend entry), other classes in parts, a zero line
+    # appearing, fewer materials
+    from pipeopt import plots
+
+    fresh = pipeopt.explore(SizingStudy.demo(), debounce=0)
+    fresh.reuse = False
+    moved = []
+    real = plots.update_cost_curves
+    monkeypatch.setattr(plots, "update_cost_curves",
+                        lambda *a, **k: (lambda r: (moved.append(r), r)[1])(real(*a, **k)))
+    kept = pipeopt.explore(SizingStudy.demo(), debounce=0)
+    price = kept.controls["energy_price"].value
+    changes = [("energy_price", price * f) for f in (1.01, 1.02, 0.99, 1.8, 0.5, 1.0)]
+    changes += [("flow_factor", 1.3), ("flow_factor", 1.31), ("horizon", 80), ("horizon", 79),
+                ("discount_rate", 0.0), ("efficiency", 0.5),
+                ("materials", ("pe100", "steel")), ("energy_price", price * 1.05)]
+    for name, value in changes:
+        kept.controls[name].value = value
+        fresh.controls[name].value = value
+        assert kept.image.value == fresh.image.value, (name, value)
+        assert kept.table.value == fresh.table.value
+    assert kept.updates == fresh.updates == len(changes) + 1
+    # both ways were taken (in place, and drawn anew where more than the points changed); the
+    # first drawing of the explorer is a new one
+    assert len(moved) == len(changes) + 1 and not moved[0]
+    assert any(moved[1:]) and not all(moved[1:])
+
+
 def test_debounced_updates_without_an_event_loop_still_happen():
     ex = pipeopt.explore(SizingStudy.demo(), debounce=0.5)
     ex.controls["discount_rate"].value = 0.07  # no running loop here: updates at once
