@@ -26,7 +26,7 @@ from PIL import Image
 from . import friction as fr
 
 __all__ = ["PALETTE", "EAC_PARTS", "FIXED_MARGINS", "figure_png", "cost_curves",
-           "update_cost_curves", "cost_breakdown",
+           "update_cost_curves", "clear_data", "cost_breakdown",
            "velocity_head", "friction_chart", "tornado_chart", "probability_cheapest",
            "eac_distributions", "cumulative_cash_flow", "network", "yearly_capital",
            "profile", "profile_section"]
@@ -223,6 +223,22 @@ def cost_curves(result, materials: list[str] | None = None, parts: Any = "best",
     _style(ax, "Life-cycle cost against diameter")
     _legend_outside(ax)
     return ax
+
+
+def clear_data(ax) -> None:
+    """Remove what this module's plotting functions drew into ``ax`` (lines, texts,
+    collections, patches, images, the legend), keeping the axes with its ticks.
+
+    ``ax.clear()`` also discards the tick objects, and the next draw builds them again (about a
+    third of redrawing an explorer's figure); the functions set the title, axis labels,
+    formatters and limits again when they draw. Limits go back to autoscaling.
+    """
+    for artist in [*ax.lines, *ax.texts, *ax.collections, *ax.patches, *ax.images]:
+        artist.remove()
+    if ax.get_legend() is not None:
+        ax.get_legend().remove()
+    ax.set_autoscale_on(True)
+    ax.relim()
 
 
 def update_cost_curves(ax, result, materials: list[str] | None = None) -> bool:

@@ -63,6 +63,18 @@ class _Explorer(abc.ABC):
     #: Width of the controls' labels: the longest ("wire-to-water efficiency [-]") whole.
     label_width = "17em"
 
+    #: Keep what can be kept of the figure between updates: its axes and ticks, and in the
+    #: sizing explorer its lines, whose points move in place when only they change (False:
+    #: clear the axes and draw everything anew, the reference the tests compare with).
+    reuse = True
+
+    def _clear(self) -> None:
+        """Empty the axes for a new drawing (keeping its ticks when ``reuse``)."""
+        if self.reuse:
+            plots.clear_data(self.ax)
+        else:
+            self.ax.clear()
+
     def __init__(self, debounce: float) -> None:
         self.debounce = float(debounce)
         self._pending: Any = None
@@ -173,9 +185,6 @@ class SizingExplorer(_Explorer):
         The application.
     """
 
-    #: Move the points of the figure in place when only they change (False: always redraw).
-    reuse = True
-
     def __init__(self, study, debounce: float = 0.15) -> None:
         super().__init__(debounce)
         self.study = study
@@ -214,7 +223,7 @@ class SizingExplorer(_Explorer):
         # the same lines with new points where it can (no new legend, ticks or lines: half
         # the cost of an update), else drawn anew
         if not (self.reuse and plots.update_cost_curves(self.ax, result, materials=chosen)):
-            self.ax.clear()
+            self._clear()
             plots.cost_curves(result, materials=chosen, ax=self.ax)
         money = self.study.currency or "currency"
         shown = _shown(sel, [("material", "material", str), ("size", "size", str),
@@ -266,7 +275,7 @@ class UpgradeExplorer(_Explorer):
         inputs = {k: float(v.value) for k, v in self.controls.items()}
         result = self.study.run(inputs=inputs)
         self.result = result
-        self.ax.clear()
+        self._clear()
         plots.cumulative_cash_flow(result, ax=self.ax)
         money = self.study.currency or "currency"
         shown = _shown(result.summary, [

@@ -109,6 +109,22 @@ def test_points_moved_in_place_give_the_picture_of_a_redraw(monkeypatch):
     assert any(moved[1:]) and not all(moved[1:])
 
 
+def test_upgrade_explorer_keeping_its_axes_gives_the_picture_of_a_redraw():
+    # the upgrade explorer empties its axes but keeps their ticks between updates
+    # (plots.clear_data); an explorer that clears the axes whole shows the same picture
+    kept = pipeopt.explore(UpgradeStudy.demo(), debounce=0)
+    fresh = pipeopt.explore(UpgradeStudy.demo(), debounce=0)
+    fresh.reuse = False
+    price = kept.controls["energy_price"].value
+    changes = [("energy_price", price * 1.01), ("energy_price", price * 2.0),
+               ("flow_factor", 0.6), ("discount_rate", 0.0), ("break_cost_factor", 3.0),
+               ("capital_factor", 0.5), ("energy_price", price)]
+    for name, value in changes:
+        kept.controls[name].value = value
+        fresh.controls[name].value = value
+        assert kept.image.value == fresh.image.value, (name, value)
+
+
 def test_debounced_updates_without_an_event_loop_still_happen():
     ex = pipeopt.explore(SizingStudy.demo(), debounce=0.5)
     ex.controls["discount_rate"].value = 0.07  # no running loop here: updates at once
