@@ -71,30 +71,28 @@ def restore(result: np.ndarray, template: Any) -> Any:
 _SHORT_AXIS = 8
 
 
-def last_axis_sum(x: np.ndarray) -> np.ndarray:
+def _last_axis(x: Any, ufunc: np.ufunc) -> np.ndarray:
+    """``ufunc.reduce(x, axis=-1)``, slice by slice when the last axis is short."""
+    x = np.asarray(x)
+    n = x.shape[-1]
+    if n == 0 or n >= _SHORT_AXIS:
+        return ufunc.reduce(x, axis=-1)
+    out = np.array(x[..., 0])
+    for k in range(1, n):
+        ufunc(out, x[..., k], out=out)
+    return out
+
+
+def last_axis_sum(x: Any) -> np.ndarray:
     """``x.sum(axis=-1)``, bit for bit, fast when the last axis is short (duty points).
 
     numpy's reductions over a short innermost axis pay their set-up per output element (about
     450 µs for a (231, 41, 2) array against 11 µs for the elementwise form); adding the
     slices one after another gives the same sum in the same order.
     """
-    x = np.asarray(x)
-    n = x.shape[-1]
-    if n == 0 or n >= _SHORT_AXIS:
-        return x.sum(axis=-1)
-    out = np.array(x[..., 0])
-    for k in range(1, n):
-        out += x[..., k]
-    return out
+    return _last_axis(x, np.add)
 
 
-def last_axis_max(x: np.ndarray) -> np.ndarray:
+def last_axis_max(x: Any) -> np.ndarray:
     """``x.max(axis=-1)`` (NaN propagating as numpy's), fast when the last axis is short."""
-    x = np.asarray(x)
-    n = x.shape[-1]
-    if n == 0 or n >= _SHORT_AXIS:
-        return x.max(axis=-1)
-    out = np.array(x[..., 0])
-    for k in range(1, n):
-        np.maximum(out, x[..., k], out=out)
-    return out
+    return _last_axis(x, np.maximum)
