@@ -8,11 +8,13 @@ neighbouring sizes' ratings (conservative), and roughness and aging are the mate
 
 The minimization honours the velocity limits: velocity_max sets the smallest diameter (at the
 largest flow of the years of the horizon), velocity_min the largest (at the largest year-1
-duty). A vectorized scan of the life-cycle model (every class at once) brackets each minimum, then
-one bounded :func:`scipy.optimize.minimize` (L-BFGS-B) over all the classes' diameters at once
-refines them (the objective is separable: the sum of the classes' EACs, each scaled by its
-curvature). Where a velocity limit holds the optimum, the unconstrained optimum of that class
-is found the same way and reported beside it.
+duty). Because prices are interpolated size to size, a class's EAC has a kink at every catalog
+bore. A vectorized scan of the life-cycle model (33 diameters and every bore of every class at
+once) finds each class's best point, then one bounded :func:`scipy.optimize.minimize`
+(L-BFGS-B) over the two smooth pieces beside it, for all the classes at once, refines them
+(the objective is separable: the sum of the pieces' EACs, each scaled by its curvature). Where
+a velocity limit holds the optimum, the unconstrained optimum of that class is found the same
+way and reported beside it.
 
 A material's optimum is its class with the least EAC among those that meet the velocity limits
 and hold the pressure at their optimum (operating pressure within PFA, MDP within PMA, at the
@@ -213,7 +215,7 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
     possible = c_lo <= c_hi
     c_lo, c_hi = np.where(possible, c_lo, d_lo), np.where(possible, c_hi, d_hi)
 
-    def curves(d: np.ndarray, groups: np.ndarray, full: bool) -> dict[str, np.ndarray]:
+    def curve_at(d: np.ndarray, groups: np.ndarray, full: bool) -> dict[str, np.ndarray]:
         out = cl.at(groups, d, full)
         out["eps"] = eps_g[groups]
         out["alpha"] = alpha_g[groups]
@@ -223,7 +225,7 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
     alpha_g = np.array([g["alpha"] for g in cl.groups])
 
     def model(d: np.ndarray, groups: np.ndarray, eac_only: bool = True) -> Any:
-        cv = curves(d, groups, full=not eac_only)
+        cv = curve_at(d, groups, full=not eac_only)
         lc = evaluate(s, d, cv["eps"], cv["alpha"], cv["cost"],
                       cv["co2"] if embodied else 0.0, variations=var, eac_only=eac_only,
                       yearly=False)
