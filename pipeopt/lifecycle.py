@@ -219,9 +219,10 @@ def _weighted(x0: np.ndarray, w: np.ndarray) -> np.ndarray:
 
 
 @functools.lru_cache(maxsize=64)
-def _base_timeline(rate: float, horizon: int) -> Timeline:
-    """The timeline of a single scenario (cached: studies re-evaluate one scenario)."""
-    return Timeline(rate, horizon)
+def _base_timeline(rate: float, horizon: float, n_years: int | None = None) -> Timeline:
+    """The timeline of a single scenario (cached: studies, what-ifs and the continuous optimum
+    evaluate one scenario again and again)."""
+    return Timeline(rate, horizon, n_years)
 
 
 def _direct_hydraulics(s: Scenario, d: np.ndarray, eps0: np.ndarray, alpha: np.ndarray,
@@ -456,8 +457,13 @@ def evaluate(s: Scenario, diameter: Any, roughness: Any, aging_rate: Any,
     if not d.min() > 0:
         raise InputError("candidate inner diameters must be positive")
     v = s.resolve(variations)
-    tl = (_base_timeline(s.discount_rate, s.horizon) if variations is None
-          else Timeline(v["discount_rate"], v["horizon"], variations.n_years))
+    if variations is None:
+        tl = _base_timeline(s.discount_rate, s.horizon)
+    elif variations.size == 1:  # a what-if: the same timeline for each of its evaluations
+        tl = _base_timeline(float(v["discount_rate"][0]), float(v["horizon"][0]),
+                            variations.n_years)
+    else:
+        tl = Timeline(v["discount_rate"], v["horizon"], variations.n_years)
     n_samples, n_years = tl.size, tl.n_max
     col = (slice(None), None)                              # (S,) -> (S, 1)
 
