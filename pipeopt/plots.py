@@ -26,7 +26,8 @@ from PIL import Image
 from . import friction as fr
 
 __all__ = ["PALETTE", "EAC_PARTS", "FIXED_MARGINS", "figure_png", "cost_curves",
-           "update_cost_curves", "clear_data", "cost_breakdown",
+           "update_cost_curves", "update_cumulative_cash_flow", "clear_data",
+           "cost_breakdown",
            "velocity_head", "friction_chart", "tornado_chart", "probability_cheapest",
            "eac_distributions", "cumulative_cash_flow", "network", "yearly_capital",
            "profile", "profile_section"]
@@ -454,30 +455,43 @@ def eac_distributions(mc_result, n: int = 5, ax=None):
     return ax
 
 
+def _cash_flow_layers(upgrade_result) -> dict[str, Any]:
+    """What :func:`cumulative_cash_flow` draws, as data: each option's curve and its
+    discounted payback point (None without one), by option."""
+    cf = upgrade_result.cash_flows
+    keep = cf[cf["option"] == "keep"].set_index("year")["discounted"]
+    summary = upgrade_result.summary.set_index("option")
+    curves = {}
+    for opt in (o for o in cf["option"].unique() if o != "keep"):
+        d = cf[cf["option"] == opt].set_index("year")["discounted"]
+        cum = (keep - d).cumsum()
+        pb = summary.loc[opt, "discounted_payback_year"]
+        payback = (None if pb is None or pd.isna(pb)
+                   else (pb, float(cum.loc[int(pb)]), f"discounted payback, year {int(pb)}"))
+        curves[opt] = (cum.index.to_numpy(), cum.to_numpy(), payback)
+    return curves
+
+
 def cumulative_cash_flow(upgrade_result, ax=None):
     """Cumulative discounted savings of each option against keeping the line, by year.
 
     The discounted payback year of each option (where the curve crosses zero for good) is
-    marked.
+    marked. The curves carry ``gid`` ``"saving:<option>"``, the payback points
+    ``"payback:<option>"`` and their notes ``"payback-note:<option>"``.
 
     Returns
     -------
     matplotlib.axes.Axes
     """
     ax = _axes(ax)
-    cf = upgrade_result.cash_flows
-    keep = cf[cf["option"] == "keep"].set_index("year")["discounted"]
-    summary = upgrade_result.summary.set_index("option")
-    for j, opt in enumerate(o for o in cf["option"].unique() if o != "keep"):
-        d = cf[cf["option"] == opt].set_index("year")["discounted"]
-        cum = (keep - d).cumsum()
+    for j, (opt, (x, y, payback)) in enumerate(_cash_flow_layers(upgrade_result).items()):
         colour = PALETTE[j % len(PALETTE)]
-        ax.plot(cum.index, cum.values, color=colour, linewidth=1.6, label=opt)
-        pb = summary.loc[opt, "discounted_payback_year"]
-        if pb is not None and not pd.isna(pb):
-            ax.plot(pb, float(cum.loc[int(pb)]), "o", color=colour, markersize=7)
-            ax.annotate(f"discounted payback, year {int(pb)}", (pb, float(cum.loc[int(pb)])),
-                        textcoords="offset points", xytext=(5, -11), fontsize=7, color=colour)
+        ax.plot(x, y, color=colour, linewidth=1.6, label=opt, gid=f"saving:{opt}")
+        if payback is not None:
+            pb, at, note = payback
+            ax.plot(pb, at, "o", color=colour, markersize=7, gid=f"payback:{opt}")
+            ax.annotate(note, (pb, at), textcoords="offset points", xytext=(5, -11),
+                        fontsize=7, color=colour).set_gid(f"payback-note:{opt}")
     ax.plot([], [], "o", color=_GREY, markersize=6, label="discounted payback year")
     ax.axhline(0, color="#000000", linewidth=1)
     ax.set_xlabel("study year [yr]")
@@ -486,6 +500,29 @@ def cumulative_cash_flow(upgrade_result, ax=None):
     _style(ax, "Upgrade options: cumulative discounted cash flow")
     _legend_outside(ax)
     return ax
+
+
+def update_cumulative_cash_flow(ax, upgrade_result) -> bool:
+    """Move the curves, payback points and notes of a :func:`cumulative_cash_flow` figure to
+    another result of the same study, in place; False, changing nothing, when the figure
+    would differ in more (other options, a payback appearing or going): then draw it anew."""
+    curves = _cash_flow_layers(upgrade_result)
+    lines = {ln.get_gid(): ln for ln in ax.get_lines() if ln.get_gid()}
+    notes = {t.get_gid(): t for t in ax.texts if t.get_gid()}
+    want = {f"saving:{o}" for o in curves} | {f"payback:{o}" for o, c in curves.items() if c[2]}
+    if set(lines) != want or set(notes) != {f"payback-note:{o}" for o, c in curves.items()
+                                            if c[2]}:
+        return False
+    for opt, (x, y, payback) in curves.items():
+        lines[f"saving:{opt}"].set_data(x, y)
+        if payback is not None:
+            pb, at, note = payback
+            lines[f"payback:{opt}"].set_data([pb], [at])
+            notes[f"payback-note:{opt}"].xy = (pb, at)
+            notes[f"payback-note:{opt}"].set_text(note)
+    ax.relim()
+    ax.autoscale_view()
+    return True
 
 
 # --------------------------------------------------------------------------------------------

@@ -275,8 +275,9 @@ class UpgradeExplorer(_Explorer):
         inputs = {k: float(v.value) for k, v in self.controls.items()}
         result = self.study.run(inputs=inputs)
         self.result = result
-        self._clear()
-        plots.cumulative_cash_flow(result, ax=self.ax)
+        if not (self.reuse and plots.update_cumulative_cash_flow(self.ax, result)):
+            self._clear()
+            plots.cumulative_cash_flow(result, ax=self.ax)
         money = self.study.currency or "currency"
         shown = _shown(result.summary, [
             ("option", "option", str), ("pv_cost", f"PV of costs [{money}]", _money),
