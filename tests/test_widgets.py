@@ -77,26 +77,21 @@ def test_an_update_draws_the_figure_once(study, monkeypatch):
     assert len(draws) == 3
 
 
-def test_points_moved_in_place_give_the_picture_of_a_redraw(monkeypatch):
-    # the sizing explorer moves the points of its figure in place when only they change
-    # (plots.update_cost_curves); an explorer that always clears and draws anew, given the
-    # same control changes, shows the same picture byte for byte after every change: small
-    # and large moves, a new best size (a legend entry), other classes in parts, a zero line
-    # appearing, fewer materials
+def _kept_and_fresh(monkeypatch, study, update: str):
+    """An explorer that keeps its figure (in place where it can), one that always clears and
+    draws anew (``reuse = False``), and the list of what ``plots.<update>`` answered."""
     from pipeopt import plots
 
-    fresh = pipeopt.explore(SizingStudy.demo(), debounce=0)
+    fresh = pipeopt.explore(study(), debounce=0)
     fresh.reuse = False
     moved = []
-    real = plots.update_cost_curves
-    monkeypatch.setattr(plots, "update_cost_curves",
+    real = getattr(plots, update)
+    monkeypatch.setattr(plots, update,
                         lambda *a, **k: (lambda r: (moved.append(r), r)[1])(real(*a, **k)))
-    kept = pipeopt.explore(SizingStudy.demo(), debounce=0)
-    price = kept.controls["energy_price"].value
-    changes = [("energy_price", price * f) for f in (1.01, 1.02, 0.99, 1.8, 0.5, 1.0)]
-    changes += [("flow_factor", 1.3), ("flow_factor", 1.31), ("horizon", 80), ("horizon", 79),
-                ("discount_rate", 0.0), ("efficiency", 0.5),
-                ("materials", ("pe100", "steel")), ("energy_price", price * 1.05)]
+    return pipeopt.explore(study(), debounce=0), fresh, moved
+
+
+def _same_pictures(kept, fresh, moved, changes) -> None:
     for name, value in changes:
         kept.controls[name].value = value
         fresh.controls[name].value = value
@@ -104,9 +99,24 @@ def test_points_moved_in_place_give_the_picture_of_a_redraw(monkeypatch):
         assert kept.table.value == fresh.table.value
     assert kept.updates == fresh.updates == len(changes) + 1
     # both ways were taken (in place, and drawn anew where more than the points changed); the
-    # first drawing of the explorer is a new one
+    # first drawing of an explorer is a new one
     assert len(moved) == len(changes) + 1 and not moved[0]
     assert any(moved[1:]) and not all(moved[1:])
+
+
+def test_points_moved_in_place_give_the_picture_of_a_redraw(monkeypatch):
+    # the sizing explorer moves the points of its figure in place when only they change
+    # (plots.update_cost_curves); an explorer that always clears and draws anew, given the
+    # same control changes, shows the same picture byte for byte after every change: small
+    # and large moves, a new best size (a legend entry), other classes in parts, a zero line
+    # appearing, fewer materials
+    kept, fresh, moved = _kept_and_fresh(monkeypatch, SizingStudy.demo, "update_cost_curves")
+    price = kept.controls["energy_price"].value
+    changes = [("energy_price", price * f) for f in (1.01, 1.02, 0.99, 1.8, 0.5, 1.0)]
+    changes += [("flow_factor", 1.3), ("flow_factor", 1.31), ("horizon", 80), ("horizon", 79),
+                ("discount_rate", 0.0), ("efficiency", 0.5),
+                ("materials", ("pe100", "steel")), ("energy_price", price * 1.05)]
+    _same_pictures(kept, fresh, moved, changes)
 
 
 def test_upgrade_explorer_keeping_its_axes_gives_the_picture_of_a_redraw(monkeypatch):
@@ -114,26 +124,13 @@ def test_upgrade_explorer_keeping_its_axes_gives_the_picture_of_a_redraw(monkeyp
     # change (plots.update_cumulative_cash_flow), else empties its axes but keeps their ticks
     # (plots.clear_data); an explorer that clears the axes whole and draws anew shows the
     # same picture, byte for byte
-    from pipeopt import plots
-
-    fresh = pipeopt.explore(UpgradeStudy.demo(), debounce=0)
-    fresh.reuse = False
-    moved = []
-    real = plots.update_cumulative_cash_flow
-    monkeypatch.setattr(plots, "update_cumulative_cash_flow",
-                        lambda *a, **k: (lambda r: (moved.append(r), r)[1])(real(*a, **k)))
-    kept = pipeopt.explore(UpgradeStudy.demo(), debounce=0)
+    kept, fresh, moved = _kept_and_fresh(monkeypatch, UpgradeStudy.demo,
+                                         "update_cumulative_cash_flow")
     price = kept.controls["energy_price"].value
     changes = [("energy_price", price * 1.01), ("energy_price", price * 2.0),
                ("flow_factor", 0.6), ("discount_rate", 0.0), ("break_cost_factor", 3.0),
                ("capital_factor", 0.5), ("energy_price", price)]
-    for name, value in changes:
-        kept.controls[name].value = value
-        fresh.controls[name].value = value
-        assert kept.image.value == fresh.image.value, (name, value)
-    # both ways were taken after the first drawing
-    assert len(moved) == len(changes) + 1 and not moved[0]
-    assert any(moved[1:]) and not all(moved[1:])
+    _same_pictures(kept, fresh, moved, changes)
 
 
 def test_debounced_updates_without_an_event_loop_still_happen():
