@@ -401,8 +401,9 @@ class LongLine:
 
         lengths = m.lengths
         total = lengths.sum()
-        gov = self._governing(np.asarray(extra["stretch_pressure"]),
-                              np.asarray(extra["stretch_velocity"]))
+        pressure = np.asarray(extra["stretch_pressure"])
+        gov = self._governing(pressure, self._stretch_mdp(
+            pressure, np.asarray(extra["stretch_velocity"]))[1])
         rows = np.arange(pipe.size)
         lab = self._labels()
         prov = []
@@ -443,19 +444,28 @@ class LongLine:
             out[sel] = rows[np.minimum(cls[sel], rows.size - 1)]
         return out
 
-    def _governing(self, pressure: np.ndarray, velocity: np.ndarray) -> np.ndarray:
+    def _stretch_mdp(self, pressure: np.ndarray, velocity: np.ndarray
+                     ) -> tuple[np.ndarray, np.ndarray]:
+        """Surge head [m] and EN 805 MDP [Pa] of every stretch of each design, from operating
+        pressures [Pa] and velocities [m/s] ([S,] D, P − 1): the study's surge allowance, or
+        the Joukowsky rise of stopping the flow, a V / g with the class's wave speed (the
+        formula of :func:`pipeopt.surge.joukowsky_head`, here on arrays already checked)."""
+        con = self.constraints
+        surge = (np.full(np.shape(velocity), float(con.surge_allowance))
+                 if con.surge_allowance is not None
+                 else self.model.pick("wave", self.design_pipe, self.design_classes)
+                 * velocity / GRAVITY)
+        return surge, pressure + self.scenario.density * GRAVITY * surge
+
+    def _governing(self, pressure: np.ndarray, mdp: np.ndarray) -> np.ndarray:
         """The governing stretch of each design: the least margin to its PFA (operating
-        pressure) or to its PMA (with surge), the EN 805 checks; the highest pressure where no
-        stretch is rated. From pressures [Pa] and velocities [m/s] ([S,] D, P − 1); the same
-        stretch gives the table's rating and the checks' PFA, PMA and MDP."""
-        m, con = self.model, self.constraints
+        pressure) or to its PMA (MDP), the EN 805 checks; the highest pressure where no
+        stretch is rated. From pressures and MDPs [Pa] ([S,] D, P − 1); the same stretch gives
+        the table's rating and the checks' PFA, PMA and MDP."""
+        m = self.model
         pipe, cls = self.design_pipe, self.design_classes
         pfa, pma = m.pick("pfa", pipe, cls), m.pick("pma", pipe, cls)
         rated = m.pick("rated", pipe, cls)
-        surge = (np.full(np.shape(velocity), float(con.surge_allowance))
-                 if con.surge_allowance is not None
-                 else m.pick("wave", pipe, cls) * velocity / GRAVITY)
-        mdp = pressure + self.scenario.density * GRAVITY * surge
         margin = np.where(rated, np.minimum(pfa - pressure, pma - mdp), np.inf)
         return np.where(np.isfinite(margin).any(axis=-1), np.argmin(margin, axis=-1),
                         np.argmax(pressure, axis=-1))
@@ -493,21 +503,17 @@ class LongLine:
         long line's own: every stretch against its class, the head station's NPSH)."""
         m, con = self.model, self.constraints
         pipe, cls = self.design_pipe, self.design_classes
-        rho_g = self.scenario.density * GRAVITY
         p = np.asarray(lc.line["stretch_pressure"])                            # ([S,] D, Z)
         vel = np.asarray(lc.line["stretch_velocity"])
         v_design = np.asarray(lc.line["design_velocity"])
         pfa = m.pick("pfa", pipe, cls)
         pma = m.pick("pma", pipe, cls)
-        wave = m.pick("wave", pipe, cls)
         rated = m.pick("rated", pipe, cls)
         usable = m.pick("usable", pipe, cls)
-        surge = (np.full(vel.shape, float(con.surge_allowance))
-                 if con.surge_allowance is not None else wave * vel / GRAVITY)
-        mdp = p + rho_g * surge
+        surge, mdp = self._stretch_mdp(p, vel)
         over_pfa_z = rated & usable & (p > pfa * (1 + 1e-12))
         over_pma_z = rated & usable & (mdp > pma * (1 + 1e-12))
-        gov = self._governing(p, vel)
+        gov = self._governing(p, mdp)
         def pick(a: np.ndarray) -> np.ndarray:  # the governing stretch's figure
             return np.take_along_axis(np.broadcast_to(a, p.shape), gov[..., None],
                                       axis=-1)[..., 0]
