@@ -11,7 +11,7 @@ number when interrupted (130 for Ctrl-C, 143 for SIGTERM).
 ``--out`` is checked before any computation (a folder, writable, enough free space, empty
 unless ``--force``, no study input among the files it would replace); the result set is then
 written whole by :func:`pipeopt.outputs.write_result_set`. Everything printed passes through
-:func:`pipeopt.outputs.printable`, so that text from a study cannot drive the terminal.
+:func:`pipeopt.terminal.printable`, so that text from a study cannot drive the terminal.
 """
 
 from __future__ import annotations
@@ -26,7 +26,7 @@ from collections.abc import Sequence
 from pathlib import Path
 
 from .errors import InputError
-from .outputs import printable
+from .terminal import printable
 
 DEMO_NOTE = ("Demo scenario and numbers are invented for illustration only; they describe no "
              "real place, line or price.")

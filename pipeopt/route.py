@@ -21,14 +21,15 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from .errors import InputError
 from .fields import InputSection, quantity, text, texts
 from .losses import Equipment, Fittings
-from .profile import GroundProfile
-from .stations import Boosters
 from .studyfile import Section, StudyFileError
+
+if TYPE_CHECKING:
+    from .profile import GroundProfile
 
 __all__ = ["LineSection", "read_route", "ROUTE_KEYS"]
 
@@ -84,6 +85,8 @@ def _read_profile(top: Section, base: Path) -> GroundProfile | None:
     raw = top.raw("profile")
     if raw is None:
         return None
+    from .profile import GroundProfile  # the model layer, only for a file that has a route
+
     if isinstance(raw, str):
         try:
             return GroundProfile.read_csv(base / raw, name=f"profile file {raw!r}")
@@ -106,13 +109,17 @@ def read_route(top: Section, base: Path) -> dict[str, Any]:
         ``profile`` (GroundProfile or None), ``sections`` (tuple of LineSection), ``boosters``
         (Boosters or None), ``equipment`` (tuple of Equipment), ``fittings`` (Fittings or None).
     """
-    boosters = top.table("boosters", Boosters.keys())
+    boosters = None
+    if top.has("boosters"):  # the model layer, only for a file that has booster stations
+        from .stations import Boosters
+
+        boosters = Boosters.read(top.table("boosters", Boosters.keys()))
     fittings = top.raw("fittings")
     return {
         "profile": _read_profile(top, base),
         "sections": tuple(LineSection.read(s) for s in
                           top.tables("section", LineSection.keys(), required=False)),
-        "boosters": None if boosters is None else Boosters.read(boosters),
+        "boosters": boosters,
         "equipment": tuple(Equipment.read(s) for s in
                            top.tables("equipment", Equipment.keys(), required=False)),
         "fittings": None if fittings is None else Fittings.parse(fittings, "fittings"),

@@ -48,6 +48,30 @@ MAX_MAGNITUDE = 1e12
 
 
 
+def _pint() -> Any:
+    """The pint module, imported on first use without pint's optional dask support.
+
+    When it is first imported, pint imports ``dask.base`` if dask is installed (0.2-0.4 s of
+    every command on the development machine), for Quantities wrapping dask arrays, which this
+    package never makes. So unless dask is imported already, pint's first import runs with
+    dask marked absent in :data:`sys.modules`; the mark is removed at once, and dask itself
+    stays importable (the Monte Carlo's dask back end imports it as usual).
+    """
+    import sys
+
+    if "pint" in sys.modules:
+        return sys.modules["pint"]
+    hide = "dask" not in sys.modules
+    if hide:
+        sys.modules["dask"] = None  # type: ignore[assignment]  # find_spec then says: absent
+    try:
+        import pint
+    finally:
+        if hide and "dask" in sys.modules and sys.modules["dask"] is None:
+            del sys.modules["dask"]
+    return pint
+
+
 @functools.lru_cache(maxsize=1)
 def registry() -> pint.UnitRegistry:
     """pint's default registry, parsed once and then read from pint's disk cache.
@@ -57,8 +81,7 @@ def registry() -> pint.UnitRegistry:
     starts read them back in a few milliseconds. Where the cache cannot be used (a read-only
     home, a damaged cache file) the definitions are parsed as usual.
     """
-    import pint  # imported on first use: a study file with no unit to parse never loads it
-
+    pint = _pint()  # imported on first use: a study file with no unit to parse never loads it
     try:
         reg = pint.UnitRegistry(cache_folder=":auto:")
     except Exception:  # noqa: BLE001 - the cache is an optimisation, never a failure
@@ -168,9 +191,7 @@ def _check_unit(unit: str, value: str, field: str) -> None:
 
 
 def _pint_errors():
-    import pint
-
-    return pint.errors
+    return _pint().errors
 
 
 def parse_quantity(value: Any, field: str) -> pint.Quantity:
@@ -184,8 +205,7 @@ def parse_quantity(value: Any, field: str) -> pint.Quantity:
     InputError
         When the value is not a Quantity or a string with a number and a unit.
     """
-    import pint
-
+    pint = _pint()
     ureg = registry()
     if isinstance(value, pint.Quantity):
         if value._REGISTRY is ureg:

@@ -63,6 +63,22 @@ def test_a_study_file_missing_a_section_is_answered_before_any_unit_is_parsed(tm
                              "assert code == 2, code\n"
                              "assert 'duty: required' in err.getvalue(), err.getvalue()")
     assert _loaded(modules, HEAVY + ("pandas", "scipy", "pint")) == []
+    # nor the long-line model (the route's sections are read after the common ones) or the
+    # result-set writer (the message is made printable by pipeopt.terminal)
+    assert _loaded(modules, ("pipeopt.stations", "pipeopt.lifecycle", "pipeopt.outputs")) == []
+
+
+def test_units_do_not_load_dask_through_pint_and_dask_still_imports():
+    pytest.importorskip("dask")
+    modules = _modules_after("from pipeopt.units import to_si\n"
+                             "assert to_si('3.2 km', 'length', 'line.length') == 3200.0\n"
+                             "import sys\n"
+                             "assert 'dask' not in sys.modules\n"
+                             "import pint.compat\n"
+                             "assert not pint.compat.HAS_DASK\n"
+                             "import dask.array\n"
+                             "assert int(dask.array.ones(4).sum().compute()) == 4")
+    assert "dask" in modules and "pint" in modules
 
 
 def test_a_water_study_loads_no_fluid_library_and_no_plotting():

@@ -31,7 +31,7 @@ LAYERS = {
     "upgrade": 3, "uncertainty": 3, "verification": 3, "programme": 3, "register": 3,
     "route": 3, "longline": 3, "programme_inputs": 3,
     # presentation
-    "plots": 4, "widgets": 4, "report": 4, "cli": 4, "outputs": 4,
+    "plots": 4, "widgets": 4, "report": 4, "cli": 4, "outputs": 4, "terminal": 4,
     "programme_report": 4,
     # the network subpackage, by module
     "network": 3, "network.inputs": 3, "network.uncertainty": 3, "network.hydraulics": 1,
