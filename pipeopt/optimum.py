@@ -296,31 +296,43 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
             return x0, e0, None
         safe_w = np.where(width > 0, width, 1.0)
         m = 2 * n
+        # the model's EACs at u, u + h and u - h, with the largest velocity and pump head at
+        # u, by the bytes of u (the minimizer's first request is the start, already evaluated)
         seen: dict[bytes, tuple[np.ndarray, ...]] = {}
 
-        # difference steps: 1e-5 (1e-4 for the Newton step) of a piece, and never less than
-        # 1e-6 (1e-5) of the diameter, so that rounding in the EAC (about 1e-15 of it) stays
-        # far below the gradient tolerance on a narrow piece (a bore close to the best point)
+        # difference steps: 1e-5 (1e-4 for the start's curvature) of a piece, and never less
+        # than 1e-6 (1e-5) of the diameter, so that rounding in the EAC (about 1e-15 of it)
+        # stays far below the gradient tolerance on a narrow piece (a bore close to the best
+        # point)
         rel = np.concatenate([x0, x0]) / safe_w
         h_fun = np.minimum(np.maximum(1e-5, 1e-6 * rel), 0.1)
-        h_newton = np.minimum(np.maximum(1e-4, 1e-5 * rel), 0.2)
+        h_start = np.minimum(np.maximum(1e-4, 1e-5 * rel), 0.2)
+
+        def evaluated(u: np.ndarray, hu: Any) -> tuple[np.ndarray, ...]:
+            found = seen.get(u.tobytes())
+            if found is None:
+                up, um = np.minimum(u + hu, 1.0), np.maximum(u - hu, 0.0)
+                at = np.tile(a, 3) + np.concatenate([u, up, um]) * np.tile(width, 3)
+                lc, _ = model(at, np.tile(g2, 3), eac_only=False)
+                found = (lc.eac.reshape(3, m), up, um, lc.velocity_max[:m],
+                         lc.pump_head_max[:m])
+                seen[u.tobytes()] = found
+            return found
 
         def scaled(u: np.ndarray, hu: Any) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-            """Scaled EAC at u, and its first and second central differences (step hu); the
-            EAC, largest velocity and pump head at u are kept for the point finally chosen."""
-            up, um = np.minimum(u + hu, 1.0), np.maximum(u - hu, 0.0)
-            at = np.tile(a, 3) + np.concatenate([u, up, um]) * np.tile(width, 3)
-            lc, _ = model(at, np.tile(g2, 3), eac_only=False)
-            eac = lc.eac.reshape(3, m)
-            seen[u.tobytes()] = (eac[0], lc.velocity_max[:m], lc.pump_head_max[:m])
+            """Scaled EAC at u, and its first and second central differences (step hu)."""
+            eac, up, um = evaluated(u, hu)[:3]
             e = (eac - base) / scale
             live = (up - um > 0) & (width > 0)
             step = np.where(live, up - um, 1.0)
             grad = np.where(live, (e[1] - e[2]) / step, 0.0)
-            # no slope: a difference within the EAC's rounding (taken as 1e-14 of it), or a
-            # slope that would move the diameter by less than 1e-8 of itself (the scaled
-            # curvature is about 1, so the distance to the minimum is about the slope)
-            floor = np.maximum(1e-14 * np.abs(base) / scale / step, 1e-8 * rel)
+            # no slope: a difference within the EAC's rounding (taken as 1e-14 of it), a
+            # slope that would move the diameter by less than 1e-8 of itself, or one whose
+            # minimum lies less than 1e-14 of the EAC below (the scaled curvature is about 1
+            # near the minimum, so the distance to it is about the slope, and the gain half its
+            # square)
+            floor = np.maximum(np.maximum(1e-14 * np.abs(base) / scale / step, 1e-8 * rel),
+                               np.sqrt(2e-14 * np.abs(base) / scale))
             grad = np.where(np.abs(grad) > floor, grad, 0.0)
             curv = np.where(live & (up - u == u - um),
                             (e[1] - 2.0 * e[0] + e[2]) / (0.5 * step) ** 2, 0.0)
@@ -332,21 +344,27 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
 
         u0 = np.clip((np.concatenate([vertex, vertex]) - a) / safe_w, 0.0, 1.0)
         u0 = np.where(width > 0, u0, 0.0)
-        _, grad, curv = scaled(u0, h_newton)
+        # one Newton step from the parabola's vertex (first and second differences there),
+        # then each piece rescaled to a curvature of 1 at the point reached: with every
+        # variable bounded, L-BFGS-B's first Hessian estimate is the identity, so its first
+        # step is a Newton step too, and its first evaluation is the one made here
+        _, grad, curv = scaled(u0, h_start)
         newton = curv > 0
         u0 = np.where(newton, np.clip(u0 - grad / np.where(newton, curv, 1.0), 0.0, 1.0), u0)
+        _, _, curv = scaled(u0, h_fun)
+        scale = np.where(curv > 0, scale * curv, scale)
         res = optimize.minimize(fun, u0, jac=True, method="L-BFGS-B",
                                 bounds=optimize.Bounds(np.zeros(m), np.ones(m)),
                                 options={"ftol": 1e-13, "gtol": 1e-6, "maxiter": 50})
         u = np.clip(res.x, 0.0, 1.0)
         x = a + u * width
         found = seen.get(u.tobytes())
-        e = found[0] if found is not None else model(x, g2)
+        e = found[0][0] if found is not None else model(x, g2)
         right = e[n:] < e[:n]                                # the better piece of each class
         pick = np.where(right, r + n, r)
         x, e = x[pick], e[pick]
         better = e <= e0
-        figures = (tuple(f[pick] for f in found[1:])
+        figures = (tuple(f[pick] for f in found[3:])
                    if found is not None and np.all(better) else None)
         return np.where(better, x, x0), np.where(better, e, e0), figures
 
