@@ -110,6 +110,21 @@ class Timeline:
         """Capital recovery factor of each sample, shape (S,)."""
         return np.asarray(capital_recovery_factor(self.rate, self.horizon))
 
+    def kept(self, key: Any, build: Any) -> Any:
+        """``build()``, made once per timeline and ``key`` and then kept.
+
+        For what depends only on the timeline (a purchase schedule, residual shares): the
+        timelines of single scenarios are cached (:func:`pipeopt.lifecycle._base_timeline`)
+        and evaluated again and again. The value's arrays are made read-only.
+        """
+        memo = self.__dict__.setdefault("_kept", {})
+        if key not in memo:
+            value = build()
+            for arr in _arrays_in(value):
+                arr.flags.writeable = False
+            memo[key] = value
+        return memo[key]
+
     def after(self, year: Any) -> np.ndarray:
         """True in the running years later than ``year`` (scalar or (S,) or (S, L)).
 
@@ -118,6 +133,20 @@ class Timeline:
         y = np.asarray(year)
         live = self.live if y.ndim < 2 else self.live[:, None, :]
         return live & (self.years > y[..., None])
+
+
+def _arrays_in(value: Any) -> list[np.ndarray]:
+    """The numpy arrays in a value kept by :meth:`Timeline.kept` (nested in tuples, dicts and
+    dataclass fields)."""
+    if isinstance(value, np.ndarray):
+        return [value]
+    if isinstance(value, (tuple, list)):
+        return [a for v in value for a in _arrays_in(v)]
+    if isinstance(value, dict):
+        return [a for v in value.values() for a in _arrays_in(v)]
+    if hasattr(value, "__dataclass_fields__"):
+        return [a for v in vars(value).values() for a in _arrays_in(v)]
+    return []
 
 
 @dataclass
@@ -298,10 +327,15 @@ def station_stages(station: Any, peak_kw: np.ndarray | None, timeline: Timeline,
     step = np.diff(peak, axis=-1, prepend=0.0)
     factor = np.asarray(cost_factor, dtype=float).reshape(-1, 1, 1)
     capital = np.asarray(station.capital(step)) * factor
-    schedule = purchases(timeline, b, station.life)
-    capital = capital * schedule.first.any(axis=-1)[:, None, :]   # stages after the horizon
-    return StationStages(peak, capital, schedule, station.standby_fraction,
-                         schedule.weights(timeline))
+
+    def schedule_of_stages() -> tuple[Purchases, np.ndarray, dict[str, np.ndarray]]:
+        p = purchases(timeline, b, station.life)
+        return p, p.first.any(axis=-1)[:, None, :], p.weights(timeline)
+
+    schedule, built, weights = timeline.kept(("stages", tuple(b.tolist()), station.life),
+                                             schedule_of_stages)
+    capital = capital * built                                     # stages after the horizon
+    return StationStages(peak, capital, schedule, station.standby_fraction, weights)
 
 
 class CashFlows:

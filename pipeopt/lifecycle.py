@@ -499,7 +499,8 @@ def evaluate(s: Scenario, diameter: Any, roughness: Any, aging_rate: Any,
                                  scale=inv_eta, stage_peaks=hs.get("stage_peaks"))
         pv_st = station.present_values(s.pump_station.maintenance)
         installed, capex_ps = station.installed, station.capital.sum(axis=-1)
-    pipe_residual = capex_pipe * np.asarray(straight_line_residual(tl.horizon, s.pipe_life))[col]
+    pipe_residual = capex_pipe * tl.kept(("residual", s.pipe_life), lambda: np.asarray(
+        straight_line_residual(tl.horizon, s.pipe_life), dtype=float))[col]
     pv_carbon = pv_op_carbon + embodied_cost
     pv_maintenance = s.pipe_maintenance * capex_pipe * tl.annuity[col] + pv_st["maintenance"]
     pv_residual = pipe_residual * tl.end_factor[col] + pv_st["residual"]

@@ -23,6 +23,7 @@ service temperature); it is bracketed by the neighbouring catalog sizes of that 
 
 from __future__ import annotations
 
+import math
 from typing import Any
 
 import numpy as np
@@ -142,11 +143,17 @@ class _Classes:
             slope = np.where(single, 0.0, (self.wave[k] - self.wave[j]) / np.where(single, 1.0, wd))
             wave = np.where(dd >= self.d[last], self.wave[last], slope * (dd - self.d[j])
                             + self.wave[j])
-            exact = np.isclose(d, self.d[j], rtol=1e-12)
+            exact = np.abs(d - self.d[j]) <= 1e-8 + 1e-12 * self.d[j]  # numpy.isclose
             nxt = np.where(exact, j, k)
             out.update(wave=wave, pfa=np.minimum(self.pfa[j], self.pfa[nxt]),
                        pma=np.minimum(self.pma[j], self.pma[nxt]))
         return out
+
+
+def _close(a: float, b: float, rtol: float) -> bool:
+    """:func:`numpy.isclose` of two floats (absolute tolerance 1e-8), without its array set-up
+    (the optimum's bookkeeping asks it a few times per material)."""
+    return bool(a == b or (math.isfinite(b) and abs(a - b) <= 1e-8 + rtol * abs(b)))
 
 
 #: Spacing of the classes' keys in :class:`_Classes`: wider than any span of ln D.
@@ -408,9 +415,9 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
         limited = ""
         if not possible[pick]:
             notes.append("no diameter of the class meets the velocity limits")
-        elif not np.isclose(d_star, d_free[pick], rtol=1e-6):
-            limited = ("velocity_max" if np.isclose(d_star, lo_v[pick], rtol=1e-9)
-                       else "velocity_min" if np.isclose(d_star, hi_v[pick], rtol=1e-9)
+        elif not _close(d_star, d_free[pick], 1e-6):
+            limited = ("velocity_max" if _close(d_star, lo_v[pick], 1e-9)
+                       else "velocity_min" if _close(d_star, hi_v[pick], 1e-9)
                        else "")
         if not ok:
             notes.append("no class of the material holds the pressure at its optimum, or the "
@@ -428,8 +435,8 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
             "velocity_peak_m_s": float(velocity_max[pick]), "limited_by": limited,
             "unconstrained_inner_diameter_m": float(d_free[pick]),
             "unconstrained_eac": float(e_free[pick]),
-            "at_bound": bool(np.isclose(d_star, g["d"][0], rtol=1e-6)
-                             or np.isclose(d_star, g["d"][-1], rtol=1e-6)),
+            "at_bound": bool(_close(d_star, g["d"][0], 1e-6)
+                             or _close(d_star, g["d"][-1], 1e-6)),
             "operating_pressure_bar": float(operating[pick]) / 1e5,
             "mdp_bar": float(mdp[pick]) / 1e5, "pfa_bar": float(cv["pfa"][pick]) / 1e5,
             "pma_bar": float(cv["pma"][pick]) / 1e5, "pressure_ok": bool(pressure_ok[pick]),

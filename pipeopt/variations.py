@@ -226,6 +226,16 @@ class NamedInputs:
                 "efficiency": self.efficiency, "growth": self.duty.growth}
 
     def resolve(self, variations: Variations | None) -> dict[str, np.ndarray]:
-        """Every named input as an (S,) array: the variations' values, else the study's."""
-        return (variations or Variations()).resolved(self.base_values(),
-                                                     hours_total=sum(self.duty.hours))
+        """Every named input as an (S,) array: the variations' values, else the study's.
+
+        The study's own values (``variations`` None) are resolved once and kept (read-only
+        arrays; the study is immutable), as a study is evaluated again and again."""
+        if variations is None:
+            kept = self.__dict__.get("_resolved_base")
+            if kept is None:
+                kept = Variations().resolved(self.base_values(), hours_total=sum(self.duty.hours))
+                for value in kept.values():
+                    value.flags.writeable = False
+                self.__dict__["_resolved_base"] = kept
+            return dict(kept)
+        return variations.resolved(self.base_values(), hours_total=sum(self.duty.hours))

@@ -107,3 +107,31 @@ def test_cash_flows_reconcile_to_present_value(rates, data):
         frame = cf.frame(s_, 1)
         assert len(frame) == n + 1
         assert (frame["a"] + frame["b"]).to_numpy() == pytest.approx(frame["total"].to_numpy())
+
+
+def test_a_timeline_keeps_the_stage_schedule_and_a_kept_value_is_read_only():
+    # the schedule of a station's stages depends only on the timeline; a cached timeline (one
+    # scenario evaluated again and again) builds it once. Its results are the same bits as a
+    # fresh timeline's, whatever the peaks, and nobody can change a kept array.
+    station = PumpStationCost(9000.0, 0.7, standby_fraction=0.5, life=6, maintenance=0.02,
+                              stages=[0, 5])
+    kept = Timeline(0.05, 12)
+    rng = np.random.default_rng(3)
+    for _ in range(3):
+        peak = rng.uniform(10.0, 100.0, (1, 4, 12))
+        a = station_stages(station, peak, kept)
+        b = station_stages(station, peak, Timeline(0.05, 12))
+        assert np.array_equal(a.capital, b.capital)
+        for key in b.weights:
+            assert np.array_equal(a.weights[key], b.weights[key])
+        assert np.array_equal(a.schedule.first, b.schedule.first)
+    again = station_stages(station, peak, kept)
+    assert again.schedule is a.schedule and again.weights is a.weights
+    with pytest.raises(ValueError, match="read-only"):
+        a.weights["first"][0, 0] = 0.0
+    with pytest.raises(ValueError, match="read-only"):
+        a.schedule.renewal[0, 0, 0] = True
+    # another life is another schedule
+    other = PumpStationCost(9000.0, 0.7, standby_fraction=0.5, life=4, maintenance=0.02,
+                            stages=[0, 5])
+    assert station_stages(other, peak, kept).schedule is not a.schedule

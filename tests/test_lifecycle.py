@@ -313,3 +313,23 @@ def test_laminar_flow_uses_hagen_poiseuille():
     energy, _ = hand_years(d, 1e-4, 0.0, growth=0.0, friction=64 / re,
                            duties=((0.005, 4000.0),), rho=900.0, mu=0.5)
     assert lc.energy_kwh[0] == pytest.approx(energy, rel=1e-12)
+
+
+def test_the_study_s_own_inputs_are_resolved_once_and_cannot_be_changed():
+    # a scenario is evaluated again and again (the table, the optimum, the explorer): its own
+    # named inputs are resolved once; each caller gets its own dict of read-only arrays, and
+    # an evaluation gives the same bits the first time and after.
+    s = small_scenario()
+    first = evaluate(s, [0.2, 0.3], 1e-4, 2e-5, [300.0, 420.0])
+    v = s.resolve(None)
+    assert v["energy_price"].tolist() == [0.10] and v["horizon"].tolist() == [3.0]
+    with pytest.raises(ValueError, match="read-only"):
+        v["energy_price"][0] = 1.0
+    v["extra"] = np.ones(1)
+    assert "extra" not in s.resolve(None)
+    again = evaluate(s, [0.2, 0.3], 1e-4, 2e-5, [300.0, 420.0])
+    for name in ("eac", "pv_energy", "pv_pump_station", "pv_residual", "pv_total"):
+        assert np.array_equal(getattr(first, name), getattr(again, name))
+    # a fresh scenario with the same inputs agrees bit for bit
+    fresh = evaluate(small_scenario(), [0.2, 0.3], 1e-4, 2e-5, [300.0, 420.0])
+    assert np.array_equal(fresh.eac, first.eac)
