@@ -13,6 +13,7 @@ fills every input a study knows with its own value where none is given.
 
 from __future__ import annotations
 
+import weakref
 from collections.abc import Mapping
 from dataclasses import dataclass, fields
 from typing import Any
@@ -231,11 +232,19 @@ class NamedInputs:
         The study's own values (``variations`` None) are resolved once and kept (read-only
         arrays; the study is immutable), as a study is evaluated again and again."""
         if variations is None:
-            kept = self.__dict__.get("_resolved_base")
+            kept = _RESOLVED_BASE.get(id(self))
             if kept is None:
                 kept = Variations().resolved(self.base_values(), hours_total=sum(self.duty.hours))
                 for value in kept.values():
                     value.flags.writeable = False
-                self.__dict__["_resolved_base"] = kept
+                try:  # kept while the study lives (not in its __dict__: copies use that)
+                    weakref.finalize(self, _RESOLVED_BASE.pop, id(self), None)
+                    _RESOLVED_BASE[id(self)] = kept
+                except TypeError:  # a class without weak references: resolved every time
+                    pass
             return dict(kept)
         return variations.resolved(self.base_values(), hours_total=sum(self.duty.hours))
+
+
+#: The resolved own inputs of live studies, by id (see :meth:`NamedInputs.resolve`).
+_RESOLVED_BASE: dict[int, dict[str, np.ndarray]] = {}

@@ -330,6 +330,8 @@ def test_the_study_s_own_inputs_are_resolved_once_and_cannot_be_changed():
     again = evaluate(s, [0.2, 0.3], 1e-4, 2e-5, [300.0, 420.0])
     for name in ("eac", "pv_energy", "pv_pump_station", "pv_residual", "pv_total"):
         assert np.array_equal(getattr(first, name), getattr(again, name))
-    # a fresh scenario with the same inputs agrees bit for bit
+    # a fresh scenario with the same inputs agrees bit for bit, and the kept inputs are not
+    # among the scenario's attributes (a copy made from them is a valid scenario)
     fresh = evaluate(small_scenario(), [0.2, 0.3], 1e-4, 2e-5, [300.0, 420.0])
     assert np.array_equal(fresh.eac, first.eac)
+    assert type(s)(**vars(s)) == s
