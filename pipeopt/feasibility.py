@@ -28,7 +28,6 @@ from __future__ import annotations
 from typing import Any
 
 import numpy as np
-import pandas as pd
 
 from .friction import GRAVITY
 from .inputs import Constraints
@@ -37,14 +36,14 @@ from .surge import joukowsky_head
 __all__ = ["check", "reasons", "join_clauses", "npsh_check"]
 
 
-def check(candidates: pd.DataFrame, lc: Any, constraints: Constraints, density: float,
+def check(candidates: Any, lc: Any, constraints: Constraints, density: float,
           suction_pressure: float = 0.0) -> dict[str, np.ndarray]:
     """The constraint checks of every candidate, as arrays (any leading sample axis).
 
     Parameters
     ----------
-    candidates : pandas.DataFrame
-        The candidate table (wave speed, PFA, PMA at the service temperature).
+    candidates : pandas.DataFrame or mapping of str to array
+        The candidate table, or its columns (wave speed, PFA, PMA at the service temperature).
     lc : LifeCycle
         The model's arrays.
     constraints : Constraints
@@ -64,15 +63,15 @@ def check(candidates: pd.DataFrame, lc: Any, constraints: Constraints, density: 
     if con.surge_allowance is not None:
         surge = np.full(np.shape(lc.velocity_max), float(con.surge_allowance))
     else:
-        surge = joukowsky_head(candidates["wave_speed_m_s"].to_numpy(),
+        surge = joukowsky_head(np.asarray(candidates["wave_speed_m_s"], dtype=float),
                                np.asarray(lc.velocity_max))
     rho_g = density * GRAVITY
     operating = suction_pressure + lc.pump_head_max * rho_g
     mdp = operating + surge * rho_g
-    pfa = candidates["pfa_pa"].to_numpy(dtype=float)
-    pma = candidates["pma_pa"].to_numpy(dtype=float)
-    rated = np.isfinite(candidates["pressure_rating_pa"].to_numpy(dtype=float))
-    too_hot = ~np.isfinite(candidates["temperature_factor"].to_numpy(dtype=float))
+    pfa = np.asarray(candidates["pfa_pa"], dtype=float)
+    pma = np.asarray(candidates["pma_pa"], dtype=float)
+    rated = np.isfinite(np.asarray(candidates["pressure_rating_pa"], dtype=float))
+    too_hot = ~np.isfinite(np.asarray(candidates["temperature_factor"], dtype=float))
     too_slow = (lc.velocity_design < con.velocity_min if con.velocity_min is not None
                 else np.zeros(np.shape(lc.velocity_design), dtype=bool))
     too_fast = (lc.velocity_max > con.velocity_max if con.velocity_max is not None
@@ -114,10 +113,11 @@ def join_clauses(n: int, clauses: list) -> np.ndarray:
     return out
 
 
-def reasons(candidates: pd.DataFrame, lc: Any, checks: dict[str, np.ndarray],
+def reasons(candidates: Any, lc: Any, checks: dict[str, np.ndarray],
             constraints: Constraints, temperature: float) -> tuple[np.ndarray, np.ndarray]:
     """Why each infeasible candidate is infeasible, and notes on the others (one sample).
 
+    ``candidates``: the candidate table or its columns (a mapping of str to array);
     ``temperature`` is the service temperature [K].
 
     Returns
@@ -127,10 +127,10 @@ def reasons(candidates: pd.DataFrame, lc: Any, checks: dict[str, np.ndarray],
     con = constraints
     surge, mdp, operating = checks["surge"], checks["mdp"], checks["operating_pressure"]
     pfa, pma = checks["pfa"], checks["pma"]
-    pclass = candidates["class"].to_numpy(dtype=str)
-    material = candidates["material"].to_numpy(dtype=str)
-    factor = candidates["temperature_factor"].to_numpy(dtype=float)
-    t_max = candidates["max_temperature_k"].to_numpy(dtype=float)
+    pclass = np.asarray(candidates["class"], dtype=str)
+    material = np.asarray(candidates["material"], dtype=str)
+    factor = np.asarray(candidates["temperature_factor"], dtype=float)
+    t_max = np.asarray(candidates["max_temperature_k"], dtype=float)
     t_c = temperature - 273.15
 
     def derated(ix: np.ndarray) -> list[str]:
@@ -159,8 +159,8 @@ def reasons(candidates: pd.DataFrame, lc: Any, checks: dict[str, np.ndarray],
                 strict=True)]),
     ]
     clauses += list(checks.get("clauses", ()))  # rules added by the study (NPSH)
-    n = len(candidates)
-    rated = np.isfinite(candidates["pressure_rating_pa"].to_numpy(dtype=float))
+    n = factor.shape[0]
+    rated = np.isfinite(np.asarray(candidates["pressure_rating_pa"], dtype=float))
     notes = join_clauses(n, [
         (~rated, lambda ix: np.full(ix.size, "no pressure rating: pressure not checked")),
         (rated & (factor < 1), lambda ix: [

@@ -449,4 +449,4 @@ def continuous_optimum(s: Scenario, candidates: pd.DataFrame, table: pd.DataFram
             "best_feasible_size": None if i_best is None else t_size[i_best],
             "best_feasible_eac": np.nan if i_best is None else t_eac[i_best],
             "note": "; ".join(notes)})
-    return pd.DataFrame(rows, columns=OPTIMUM_COLUMNS)
+    return pd.DataFrame({c: [row[c] for row in rows] for c in OPTIMUM_COLUMNS})

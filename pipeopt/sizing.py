@@ -346,20 +346,18 @@ class SizingStudy(FrozenStudy, StudyFileMixin):
         """
         if self.layout is not None and scenario is None:
             return self.layout.evaluate(variations, yearly)
-        c = self.candidates
+        c = self._columns
         s = scenario or self.scenario
-        co2 = c["embodied_co2_kg_per_m"].to_numpy() if (self.carbon and self.carbon.embodied) \
-            else 0.0
-        return evaluate(s, c["inner_diameter_m"].to_numpy(), c["roughness_m"].to_numpy(),
-                        c["aging_m_per_year"].to_numpy(), c["cost_per_metre"].to_numpy(), co2,
-                        variations=variations, yearly=yearly)
+        co2 = c["embodied_co2_kg_per_m"] if (self.carbon and self.carbon.embodied) else 0.0
+        return evaluate(s, c["inner_diameter_m"], c["roughness_m"], c["aging_m_per_year"],
+                        c["cost_per_metre"], co2, variations=variations, yearly=yearly)
 
     def check(self, lc: LifeCycle) -> dict[str, np.ndarray]:
         """The constraint checks of the candidates (:func:`pipeopt.feasibility.check`; a long
         line's designs: :meth:`pipeopt.longline.LongLine.check`)."""
         if self.layout is not None:
             return self.layout.check(lc)
-        checks = feasibility.check(self.candidates, lc, self.constraints, self.scenario.density,
+        checks = feasibility.check(self._columns, lc, self.constraints, self.scenario.density,
                                    float(self.line.suction_pressure))
         pmp = self.pumping
         if pmp.npsh_required is not None:
@@ -414,12 +412,9 @@ class SizingStudy(FrozenStudy, StudyFileMixin):
                             dict(inputs or {}))
 
     def _table(self, lc: LifeCycle) -> pd.DataFrame:
-        c = self.candidates
+        col = c = self._columns
         checks = self.check(lc)
         crf = float(np.asarray(lc.crf).reshape(-1)[0])
-        col = {k: c[k].array for k in (
-            "material", "size", "class", "inner_diameter_m", "roughness_m",
-            "temperature_factor", "mass_kg_per_m", "cost_per_metre")}
         cols = {
             "material": col["material"], "size": col["size"], "class": col["class"],
             "inner_diameter_m": col["inner_diameter_m"], "roughness_m": col["roughness_m"],
@@ -431,7 +426,7 @@ class SizingStudy(FrozenStudy, StudyFileMixin):
             "operating_pressure_bar": checks["operating_pressure"] / 1e5,
             "mdp_bar": checks["mdp"] / 1e5, "pfa_bar": checks["pfa"] / 1e5,
             "pma_bar": checks["pma"] / 1e5,
-            "pressure_rating_bar": c["pressure_rating_pa"].to_numpy() / 1e5,
+            "pressure_rating_bar": c["pressure_rating_pa"] / 1e5,
             "temperature_factor": col["temperature_factor"],
             "mass_kg_per_m": col["mass_kg_per_m"], "cost_per_metre": col["cost_per_metre"],
             "installed_power_kw": lc.installed_power, "capex_pipe": lc.capex_pipe,
@@ -452,7 +447,7 @@ class SizingStudy(FrozenStudy, StudyFileMixin):
         if self.layout is not None:
             reasons, notes = self.layout.reasons(lc, checks)
             for name in ("nominal", "boosters", "booster_chainages_km", "classes_along"):
-                cols[name] = c[name].array
+                cols[name] = c[name]
             cols["highest_pressure_bar"] = checks["highest_pressure"] / 1e5
         else:
             reasons, notes = feasibility.reasons(c, lc, checks, self.constraints,
@@ -465,7 +460,7 @@ class SizingStudy(FrozenStudy, StudyFileMixin):
         rank[order] = np.arange(1, order.size + 1)
         cols.update(feasible=feasible, reasons=reasons, notes=notes,
                     rank=pd.arrays.IntegerArray(rank, ~feasible))
-        return pd.DataFrame(cols, index=c.index)
+        return pd.DataFrame(cols, index=self.candidates.index)
 
     def continuous_optimum(self, table: pd.DataFrame | None = None,
                            variations: Variations | None = None) -> pd.DataFrame:
@@ -475,6 +470,25 @@ class SizingStudy(FrozenStudy, StudyFileMixin):
         return continuous_optimum(self.scenario, self.candidates, table, self.constraints,
                                   variations, bool(self.carbon and self.carbon.embodied),
                                   float(self.line.suction_pressure), self._class_curves)
+
+    @cached_property
+    def _columns(self) -> dict[str, Any]:
+        """The candidate table's columns, read once (numbers as read-only numpy arrays, text
+        and objects as pandas arrays): a study is evaluated again and again (the table, the
+        optimum, every what-if), and reading a column of a frame costs more than a small
+        evaluation's arithmetic. The candidate table is the study's; change a study with
+        :meth:`replace`, never its table in place."""
+        out: dict[str, Any] = {}
+        for name, series in self.candidates.items():
+            if series.dtype.kind in "biuf":
+                arr = series.to_numpy()
+                if arr.flags.writeable:  # a view of the frame's block: read-only here
+                    arr = arr.view()
+                    arr.flags.writeable = False
+                out[name] = arr
+            else:
+                out[name] = series.array
+        return out
 
     @cached_property
     def _class_curves(self):
