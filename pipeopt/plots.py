@@ -195,7 +195,12 @@ def cost_curves(result, materials: list[str] | None = None, parts: Any = "best",
     matplotlib.axes.Axes
     """
     ax = _axes(ax)
-    lay = _cost_curve_layers(result, materials, parts)
+    _draw_cost_curves(ax, result, _cost_curve_layers(result, materials, parts))
+    return ax
+
+
+def _draw_cost_curves(ax, result, lay: dict[str, Any]) -> None:
+    """Draw the layers of :func:`_cost_curve_layers` into ``ax`` (:func:`cost_curves`)."""
     for gid, (x, y, fmt, label, style) in lay["lines"].items():
         if gid.startswith("sizes:"):  # each material's optimum after its markers
             ax.plot(x, y, fmt, label=label, gid=gid, **style)
@@ -223,7 +228,6 @@ def cost_curves(result, materials: list[str] | None = None, parts: Any = "best",
     _money_ticks(ax.yaxis)
     _style(ax, "Life-cycle cost against diameter")
     _legend_outside(ax)
-    return ax
 
 
 def clear_data(ax) -> None:
@@ -242,15 +246,29 @@ def clear_data(ax) -> None:
     ax.relim()
 
 
-def update_cost_curves(ax, result, materials: list[str] | None = None) -> bool:
+def update_cost_curves(ax, result, materials: list[str] | None = None,
+                       redraw: bool = False) -> bool:
     """Move the points of a :func:`cost_curves` figure to another result of the same study, in
     place (no new lines, legend or ticks: what an explorer redraws while a slider moves).
 
-    Returns False, changing nothing, when the figure would differ in more than its points and
+    Returns True when it could. When the figure would differ in more than its points and
     limits (other materials, another class drawn in parts, other parts, another chosen size or
-    a zero line appearing or going): then draw it anew.
+    a zero line appearing or going) it returns False; without ``redraw`` it has then changed
+    nothing (draw it anew), with ``redraw`` it has emptied the axes (:func:`clear_data`) and
+    drawn the figure anew from the data it had worked out.
     """
     lay = _cost_curve_layers(result, materials, "best")
+    if _move_cost_curves(ax, lay):
+        return True
+    if redraw:
+        clear_data(ax)
+        _draw_cost_curves(ax, result, lay)
+    return False
+
+
+def _move_cost_curves(ax, lay: dict[str, Any]) -> bool:
+    """The in-place part of :func:`update_cost_curves`: False, changing nothing, when the
+    figure would differ in more than its points and limits."""
     drawn = {ln.get_gid(): ln for ln in ax.get_lines() if ln.get_gid()}
     want = (set(lay["lines"]) | set(lay["optima"]) | ({"chosen"} if lay["chosen"] else set())
             | ({"zero"} if lay["zero_line"] else set()))
@@ -484,7 +502,13 @@ def cumulative_cash_flow(upgrade_result, ax=None):
     matplotlib.axes.Axes
     """
     ax = _axes(ax)
-    for j, (opt, (x, y, payback)) in enumerate(_cash_flow_layers(upgrade_result).items()):
+    _draw_cash_flow(ax, upgrade_result, _cash_flow_layers(upgrade_result))
+    return ax
+
+
+def _draw_cash_flow(ax, upgrade_result, curves: dict[str, Any]) -> None:
+    """Draw the layers of :func:`_cash_flow_layers` into ``ax`` (:func:`cumulative_cash_flow`)."""
+    for j, (opt, (x, y, payback)) in enumerate(curves.items()):
         colour = PALETTE[j % len(PALETTE)]
         ax.plot(x, y, color=colour, linewidth=1.6, label=opt, gid=f"saving:{opt}")
         if payback is not None:
@@ -499,14 +523,28 @@ def cumulative_cash_flow(upgrade_result, ax=None):
     _money_ticks(ax.yaxis)
     _style(ax, "Upgrade options: cumulative discounted cash flow")
     _legend_outside(ax)
-    return ax
 
 
-def update_cumulative_cash_flow(ax, upgrade_result) -> bool:
+def update_cumulative_cash_flow(ax, upgrade_result, redraw: bool = False) -> bool:
     """Move the curves, payback points and notes of a :func:`cumulative_cash_flow` figure to
-    another result of the same study, in place; False, changing nothing, when the figure
-    would differ in more (other options, a payback appearing or going): then draw it anew."""
+    another result of the same study, in place; True when it could.
+
+    When the figure would differ in more (other options, a payback appearing or going) it
+    returns False; without ``redraw`` it has then changed nothing (draw it anew), with
+    ``redraw`` it has emptied the axes (:func:`clear_data`) and drawn the figure anew from the
+    data it had worked out.
+    """
     curves = _cash_flow_layers(upgrade_result)
+    if _move_cash_flow(ax, curves):
+        return True
+    if redraw:
+        clear_data(ax)
+        _draw_cash_flow(ax, upgrade_result, curves)
+    return False
+
+
+def _move_cash_flow(ax, curves: dict[str, Any]) -> bool:
+    """The in-place part of :func:`update_cumulative_cash_flow`."""
     lines = {ln.get_gid(): ln for ln in ax.get_lines() if ln.get_gid()}
     notes = {t.get_gid(): t for t in ax.texts if t.get_gid()}
     want = {f"saving:{o}" for o in curves} | {f"payback:{o}" for o, c in curves.items() if c[2]}

@@ -222,7 +222,9 @@ class SizingExplorer(_Explorer):
         self.best = sel.iloc[0] if not sel.empty else None
         # the same lines with new points where it can (no new legend, ticks or lines: half
         # the cost of an update), else drawn anew
-        if not (self.reuse and plots.update_cost_curves(self.ax, result, materials=chosen)):
+        if self.reuse:  # drawn anew from the same data when the points alone cannot say it
+            plots.update_cost_curves(self.ax, result, materials=chosen, redraw=True)
+        else:
             self._clear()
             plots.cost_curves(result, materials=chosen, ax=self.ax)
         money = self.study.currency or "currency"
@@ -275,7 +277,9 @@ class UpgradeExplorer(_Explorer):
         inputs = {k: float(v.value) for k, v in self.controls.items()}
         result = self.study.run(inputs=inputs)
         self.result = result
-        if not (self.reuse and plots.update_cumulative_cash_flow(self.ax, result)):
+        if self.reuse:  # drawn anew from the same data when the points alone cannot say it
+            plots.update_cumulative_cash_flow(self.ax, result, redraw=True)
+        else:
             self._clear()
             plots.cumulative_cash_flow(result, ax=self.ax)
         money = self.study.currency or "currency"

@@ -573,3 +573,39 @@ def test_cost_curve_at_the_chosen_pipe_is_its_eac_by_hand(demo):
     assert cx[0] == pytest.approx(440.6, abs=1e-9)
     assert cy[0] == pytest.approx(hand["eac"], rel=1e-7)
     plt.close(ax.figure)
+
+
+@pytest.mark.parametrize("kind", ["sizing", "upgrade"])
+def test_an_update_that_cannot_move_the_points_redraws_what_a_fresh_drawing_shows(kind):
+    # update_cost_curves / update_cumulative_cash_flow with redraw=True: where the figure
+    # changes in more than its points (here: fewer materials; paybacks that go), they say so
+    # (False), empty the axes and draw anew from the data they worked out; the picture is the
+    # one of the same figure cleared whole and drawn anew, byte for byte. Without redraw they
+    # change nothing.
+    if kind == "sizing":
+        study = SizingStudy.demo()
+        first, second = study.run(), study.run(inputs={"energy_price": 0.31})
+        draw_first = lambda ax: plots.cost_curves(first, ax=ax)  # noqa: E731
+        draw = lambda r, ax: plots.cost_curves(r, materials=["pe100"], ax=ax)  # noqa: E731
+        update = lambda r, ax, **k: plots.update_cost_curves(  # noqa: E731
+            ax, r, materials=["pe100"], **k)
+    else:
+        study = UpgradeStudy.demo()
+        first, second = study.run(inputs={"energy_price": 0.5}), study.run()
+        draw_first = lambda ax: plots.cumulative_cash_flow(first, ax=ax)  # noqa: E731
+        draw = lambda r, ax: plots.cumulative_cash_flow(r, ax=ax)  # noqa: E731
+        update = lambda r, ax, **k: plots.update_cumulative_cash_flow(ax, r, **k)  # noqa: E731
+    figs = []
+    for _ in range(2):  # the same figure twice, drawn and rendered once (margins fitted)
+        fig, ax = plt.subplots(figsize=(7.5, 4.3))
+        draw_first(ax)
+        figs.append((fig, ax, plots.figure_png(fig, dpi=100)))
+    (fig, ax, before), (fig_ref, ax_ref, _) = figs
+    assert update(second, ax) is False
+    assert plots.figure_png(fig, dpi=100) == before        # nothing changed
+    assert update(second, ax, redraw=True) is False
+    ax_ref.clear()
+    draw(second, ax_ref)
+    assert plots.figure_png(fig, dpi=100) == plots.figure_png(fig_ref, dpi=100)
+    plt.close(fig)
+    plt.close(fig_ref)
