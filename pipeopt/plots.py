@@ -116,24 +116,29 @@ EAC_PARTS = (("eac_capital", "capital charge"), ("eac_energy", "energy"),
 
 def _cost_curve_layers(result, materials: list[str] | None, parts: Any) -> dict[str, Any]:
     """What :func:`cost_curves` draws, as data: every line by its ``gid`` with its points,
-    label and style, the y limits and whether the zero line is drawn."""
+    label and style, the y limits and whether the zero line is drawn.
+
+    Worked out on the table's columns as arrays (an explorer does it on every update; boolean
+    indexing of the candidate frame cost ten times as much)."""
     c = result.candidates
-    mats = materials or list(dict.fromkeys(c["material"]))
+    mat, d_all = c["material"].to_numpy(), c["inner_diameter_m"].to_numpy()
+    eac_all, feas_all = c["eac"].to_numpy(), c["feasible"].to_numpy(dtype=bool)
+    mats = materials or list(dict.fromkeys(mat))
     if isinstance(parts, str) and parts == "best":
         b = result.best
         parts = None if b is None or b["material"] not in mats else (b["material"], b["class"])
     lines: dict[str, tuple] = {}   # gid -> (x, y, format (None: a line), label, style)
     lowest = 0.0
     if parts is not None:
-        rows = c[(c["material"] == parts[0]) & (c["class"] == parts[1])] \
-            .sort_values("inner_diameter_m")
-        d_mm = rows["inner_diameter_m"].to_numpy() * 1e3
+        rows = np.flatnonzero((mat == parts[0]) & (c["class"].to_numpy() == parts[1]))
+        rows = rows[np.argsort(d_all[rows], kind="quicksort")]   # as sort_values
+        d_mm = d_all[rows] * 1e3
         lines[f"total:{parts[0]}:{parts[1]}"] = (
-            d_mm, rows["eac"].to_numpy(), None, f"{parts[0]} {parts[1]}: total EAC",
+            d_mm, eac_all[rows], None, f"{parts[0]} {parts[1]}: total EAC",
             {"color": "#000000", "linewidth": 1.3, "alpha": 0.8})
         styles = ("-", "--", "-.", ":", (0, (5, 1, 1, 1)), (0, (1, 1)))
         for j, (col, name) in enumerate(EAC_PARTS):
-            y = rows[col].to_numpy()
+            y = c[col].to_numpy()[rows]
             if not np.any(y != 0):
                 continue
             lines[f"part:{col}"] = (d_mm, y, None, f"  {name}",
@@ -141,29 +146,30 @@ def _cost_curve_layers(result, materials: list[str] | None, parts: Any) -> dict[
                                      "linewidth": 0.9, "linestyle": styles[j]})
             lowest = min(lowest, float(y.min()))
     optima = {}
-    for j, mat in enumerate(mats):
+    opt_mat = (result.optimum["material"].to_numpy() if not result.optimum.empty
+               else np.array([], dtype=object))
+    for j, m in enumerate(mats):
         colour = PALETTE[j % len(PALETTE)]
-        rows = c[c["material"] == mat]
-        d_mm = rows["inner_diameter_m"].to_numpy() * 1e3
-        eac = rows["eac"].to_numpy()
-        feas = rows["feasible"].to_numpy()
-        lines[f"sizes:{mat}"] = (d_mm[feas], eac[feas], "o", f"{mat}: EAC of each size",
-                                 {"color": colour, "markersize": 4})
-        lines[f"infeasible:{mat}"] = (d_mm[~feas], eac[~feas], "o", None,
-                                      {"markerfacecolor": "none", "markeredgecolor": _GREY,
-                                       "markersize": 4, "linestyle": "none"})
-        opt = result.optimum[result.optimum["material"] == mat] if not result.optimum.empty \
-            else pd.DataFrame()
-        if not opt.empty:
-            optima[f"optimum:{mat}"] = (opt["inner_diameter_m"].iloc[0] * 1e3, colour)
+        rows = mat == m
+        d_mm = d_all[rows] * 1e3
+        eac = eac_all[rows]
+        feas = feas_all[rows]
+        lines[f"sizes:{m}"] = (d_mm[feas], eac[feas], "o", f"{m}: EAC of each size",
+                               {"color": colour, "markersize": 4})
+        lines[f"infeasible:{m}"] = (d_mm[~feas], eac[~feas], "o", None,
+                                    {"markerfacecolor": "none", "markeredgecolor": _GREY,
+                                     "markersize": 4, "linestyle": "none"})
+        at = np.flatnonzero(opt_mat == m)
+        if at.size:
+            optima[f"optimum:{m}"] = (
+                result.optimum["inner_diameter_m"].to_numpy()[at[0]] * 1e3, colour)
     chosen = None
     if result.best is not None:
         b = result.best
         chosen = (b["inner_diameter_m"] * 1e3, b["eac"], f"chosen: {b['material']} {b['size']}")
-    feasible_eac = c.loc[c["feasible"], "eac"]
     ylim = None
-    if not feasible_eac.empty:
-        top = float(feasible_eac.min()) * 3.0
+    if feas_all.any():
+        top = float(eac_all[feas_all].min()) * 3.0
         ylim = (min(0.0, 1.15 * lowest) if lowest < 0 else 0.0, top)
     return {"lines": lines, "optima": optima, "chosen": chosen, "ylim": ylim,
             "zero_line": lowest < 0}
@@ -475,18 +481,27 @@ def eac_distributions(mc_result, n: int = 5, ax=None):
 
 def _cash_flow_layers(upgrade_result) -> dict[str, Any]:
     """What :func:`cumulative_cash_flow` draws, as data: each option's curve and its
-    discounted payback point (None without one), by option."""
+    discounted payback point (None without one), by option (worked out on arrays: an
+    explorer does it on every update)."""
     cf = upgrade_result.cash_flows
-    keep = cf[cf["option"] == "keep"].set_index("year")["discounted"]
-    summary = upgrade_result.summary.set_index("option")
+    option, year = cf["option"].to_numpy(), cf["year"].to_numpy()
+    discounted = cf["discounted"].to_numpy(dtype=float)
+    keep = option == "keep"
+    keep_years, keep_flows = year[keep], discounted[keep]
+    summary = upgrade_result.summary
+    payback_of = dict(zip(summary["option"].to_numpy(),
+                          summary["discounted_payback_year"].to_numpy(), strict=True))
     curves = {}
-    for opt in (o for o in cf["option"].unique() if o != "keep"):
-        d = cf[cf["option"] == opt].set_index("year")["discounted"]
-        cum = (keep - d).cumsum()
-        pb = summary.loc[opt, "discounted_payback_year"]
-        payback = (None if pb is None or pd.isna(pb)
-                   else (pb, float(cum.loc[int(pb)]), f"discounted payback, year {int(pb)}"))
-        curves[opt] = (cum.index.to_numpy(), cum.to_numpy(), payback)
+    for opt in dict.fromkeys(option[~keep]):
+        rows = option == opt
+        if not np.array_equal(year[rows], keep_years):
+            raise ValueError(f"cash flows of option {opt!r} and of 'keep' cover other years")
+        cum = np.cumsum(keep_flows - discounted[rows])
+        pb = payback_of[opt]
+        payback = (None if pb is None or pd.isna(pb) else
+                   (pb, float(cum[np.flatnonzero(keep_years == int(pb))[0]]),
+                    f"discounted payback, year {int(pb)}"))
+        curves[opt] = (keep_years, cum, payback)
     return curves
 
 
