@@ -20,6 +20,7 @@ import numpy as np
 import pandas as pd
 from matplotlib import ticker
 from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg, get_hinting_flag
+from matplotlib.font_manager import fontManager, get_font
 from matplotlib.text import Text
 from PIL import Image
 
@@ -586,6 +587,26 @@ def _move_cash_flow(ax, curves: dict[str, Any]) -> bool:
 FIXED_MARGINS = {"left": 0.115, "right": 0.975, "bottom": 0.115, "top": 0.925}
 
 
+def _font_height_metrics(prop, dpi: float) -> tuple:
+    """Ascent, descent and line gap [px] of the font of ``prop`` at ``dpi`` from its 'OS/2'
+    (else 'hhea') table, scaled as matplotlib's text layout scales them (``Text._get_layout``
+    of matplotlib 3.11); (None, None, None) without either table or on any failure."""
+    try:
+        font = get_font(fontManager._find_fonts_by_props(prop))
+        for table_name, gap_key, ascent_key, descent_key in (
+                ("OS/2", "sTypoLineGap", "sTypoAscender", "sTypoDescender"),
+                ("hhea", "lineGap", "ascent", "descent")):
+            table = font.get_sfnt_table(table_name)
+            if table is None:
+                continue
+            scale = 1 / font.get_sfnt_table("head")["unitsPerEm"] * prop.get_size_in_points() \
+                * dpi / 72
+            return table[ascent_key] * scale, -table[descent_key] * scale, table[gap_key] * scale
+    except Exception:  # noqa: BLE001 - another matplotlib or font: matplotlib measures itself
+        pass
+    return None, None, None
+
+
 class _TextCachingRenderer(RendererAgg):
     """The Agg renderer, keeping the bitmap of every text it has rasterised.
 
@@ -600,6 +621,24 @@ class _TextCachingRenderer(RendererAgg):
     _bitmaps: OrderedDict = OrderedDict()   # shared by every figure of the process
     _max_bitmaps = 1024  # a few kB each
     _enabled = True
+    _font_heights: dict = {}   # (font properties, size, dpi) -> (ascent, descent, line gap)
+
+    def _get_font_height_metrics(self, prop):
+        """A font's ascent, descent and line gap at this resolution [px], read from its
+        tables as matplotlib's text layout reads them, and kept.
+
+        matplotlib (3.11) asks a renderer for these when it has this method and otherwise
+        finds the font and reads two of its tables for every text of every draw (about a
+        fifth of an explorer's draw: tick labels and a legend are measured several times).
+        The figures drawn here have this renderer's resolution. (None, None, None) makes
+        matplotlib measure the text itself, as without this method.
+        """
+        key = (hash(prop), prop.get_size_in_points(), self.dpi)
+        hit = self._font_heights.get(key)
+        if hit is None:
+            hit = _font_height_metrics(prop, self.dpi)
+            self._font_heights[key] = hit
+        return hit
 
     def draw_text(self, gc, x, y, s, prop, angle, ismath=False, mtext=None):
         if ismath or not _TextCachingRenderer._enabled:

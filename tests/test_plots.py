@@ -609,3 +609,25 @@ def test_an_update_that_cannot_move_the_points_redraws_what_a_fresh_drawing_show
     assert plots.figure_png(fig, dpi=100) == plots.figure_png(fig_ref, dpi=100)
     plt.close(fig)
     plt.close(fig_ref)
+
+
+@pytest.mark.parametrize("dpi", [72, 100, 110])
+def test_text_layout_with_kept_font_heights_equals_matplotlibs_own(dpi):
+    # The renderer of figure_png keeps each font's ascent, descent and line gap (read from the
+    # font's tables for every text of every draw otherwise); the layout of every text, one
+    # line or several, at every size and weight, is then exactly matplotlib's own.
+    from matplotlib.backends.backend_agg import RendererAgg
+
+    fig = plt.figure(figsize=(5, 3), dpi=dpi)
+    texts = [fig.text(0.1, 0.1 + 0.1 * i, words, fontsize=size, fontweight=weight,
+                      rotation=rotation)
+             for i, (words, size, weight, rotation) in enumerate([
+                 ("EAC [EUR/yr]", 10, "normal", 0), ("12,345,678", 8, "normal", 0),
+                 ("two\nlines of text", 9, "bold", 0), ("inner diameter [mm]", 11, "normal", 90),
+                 ("discounted payback, year 14", 7, "normal", 0), ("g_j p", 14, "light", 30)])]
+    ours = plots._TextCachingRenderer(500, 300, dpi)
+    theirs = RendererAgg(500, 300, dpi)
+    for text in texts:
+        assert repr(text._get_layout(ours)) == repr(text._get_layout(theirs)), text.get_text()
+    assert ours._get_font_height_metrics(texts[0].get_fontproperties())[0] is not None
+    plt.close(fig)
