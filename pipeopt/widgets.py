@@ -22,6 +22,7 @@ import time
 from typing import Any
 
 import ipywidgets as w
+import numpy as np
 from IPython.display import display
 from matplotlib.figure import Figure
 
@@ -165,9 +166,11 @@ def _shown(frame, columns) -> str:
         return html.escape(fmt(value))
 
     head = "".join(f"<th>{html.escape(h)}</th>" for _, h, _ in columns)
-    rows = "".join("<tr>" + "".join(f"<td style='white-space:nowrap'>{cell(f, rec[c])}</td>"
-                                    for c, _, f in columns)
-                   + "</tr>" for rec in frame.to_dict("records"))
+    # the shown columns only, as arrays (the records of the whole frame cost ten times more)
+    shown = [(frame[c].to_numpy(), f) for c, _, f in columns]
+    rows = "".join("<tr>" + "".join(f"<td style='white-space:nowrap'>{cell(f, values[i])}</td>"
+                                    for values, f in shown)
+                   + "</tr>" for i in range(len(frame)))
     return f"<table><thead><tr>{head}</tr></thead><tbody>{rows}</tbody></table>"
 
 
@@ -218,7 +221,12 @@ class SizingExplorer(_Explorer):
         self.result = result
         chosen = list(self.controls["materials"].value) or [m.name for m in self.study.materials]
         cand = result.candidates
-        sel = cand[cand["material"].isin(chosen) & cand["feasible"]].nsmallest(8, "eac")
+        # the 8 feasible candidates of the chosen materials with the least EAC, the first of
+        # equal EACs first (as nsmallest, on arrays: a tenth of the cost)
+        rows = np.flatnonzero(np.isin(cand["material"].to_numpy(), chosen)
+                              & cand["feasible"].to_numpy(dtype=bool))
+        rows = rows[np.argsort(cand["eac"].to_numpy()[rows], kind="stable")[:8]]
+        sel = cand.iloc[rows]
         self.best = sel.iloc[0] if not sel.empty else None
         # the same lines with new points where it can (no new legend, ticks or lines: half
         # the cost of an update), else drawn anew
