@@ -265,12 +265,17 @@ def update_cost_curves(ax, result, materials: list[str] | None = None,
     drawn the figure anew from the data it had worked out.
     """
     lay = _cost_curve_layers(result, materials, "best")
-    if _move_cost_curves(ax, lay):
-        return True
-    if redraw:
+    return _moved_or_redrawn(ax, _move_cost_curves(ax, lay), redraw,
+                             lambda: _draw_cost_curves(ax, result, lay))
+
+
+def _moved_or_redrawn(ax, moved: bool, redraw: bool, draw: Any) -> bool:
+    """The end of an in-place update: ``moved`` as it is, else, with ``redraw``, the axes
+    emptied (:func:`clear_data`) and ``draw()`` called with the data already worked out."""
+    if not moved and redraw:
         clear_data(ax)
-        _draw_cost_curves(ax, result, lay)
-    return False
+        draw()
+    return moved
 
 
 def _move_cost_curves(ax, lay: dict[str, Any]) -> bool:
@@ -551,12 +556,8 @@ def update_cumulative_cash_flow(ax, upgrade_result, redraw: bool = False) -> boo
     data it had worked out.
     """
     curves = _cash_flow_layers(upgrade_result)
-    if _move_cash_flow(ax, curves):
-        return True
-    if redraw:
-        clear_data(ax)
-        _draw_cash_flow(ax, upgrade_result, curves)
-    return False
+    return _moved_or_redrawn(ax, _move_cash_flow(ax, curves), redraw,
+                             lambda: _draw_cash_flow(ax, upgrade_result, curves))
 
 
 def _move_cash_flow(ax, curves: dict[str, Any]) -> bool:
