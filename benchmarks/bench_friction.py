@@ -16,6 +16,11 @@ Contenders, all reaching the same accuracy (<= 1e-13 relative):
 Then the figure of the speed issue: friction_factor against one ``np.log`` over the same array,
 and the fast kernel against the reference kernel kept beside it (Clamond's two steps), each as
 the median of pair-by-pair ratios of this thread's CPU time (robust on a shared machine).
+
+Where numba is installed (it is not a dependency of pipeopt), the same pairs also time (e) the
+same one-log algorithm as a compiled scalar loop, to answer whether compiling the kernel would
+reach the issue's ratio: on this machine it does not (numpy's float64 log is a vectorized
+routine; a compiled loop calls the scalar one).
 """
 
 from __future__ import annotations
@@ -114,6 +119,44 @@ def run(n: int = 1_000_000, repeat: int = 7) -> dict[str, float]:
     return rates
 
 
+def compiled_kernel():
+    """The fast kernel's algorithm as a numba-compiled scalar loop, or None without numba.
+
+    Same arithmetic as :func:`pipeopt.friction._colebrook_fast_kernel`, point by point: the
+    float32 first guess from the same Wright-omega table (its cell found with ``frexp``, as the
+    kernel's bit shift does), then the one float64 Halley step.
+    """
+    try:
+        import numba
+    except ImportError:
+        return None
+    x1c, x2c, outc = friction._CL_X1, friction._CL_X2, friction._CL_OUT
+    bits = friction._OMEGA_BITS
+    c0, c1 = friction._omega_table()
+
+    @numba.njit(error_model="numpy")
+    def loop(re, rr, out, c0, c1):  # pragma: no cover - benchmark only
+        for i in range(re.size):
+            r = re[i]
+            a = rr[i] * r * x1c
+            x2 = np.float32(math.log(np.float32(r)))
+            z = np.float32(a) + x2
+            mant, expo = math.frexp(z)
+            idx = ((expo + 126) << bits) + int((2.0 * mant - 1.0) * (1 << bits))
+            f = np.float64(x2 - (c1[idx] * z + c0[idx]))
+            a += f
+            g = math.log(a / r) + f + x2c
+            ap1 = a + 1.0
+            f -= g * a * ap1 / (ap1 * ap1 + 0.5 * g)
+            out[i] = outc * outc / (f * f)
+        return out
+
+    def kernel(re, rr, out):
+        return loop(re, rr, out, c0, c1)
+
+    return kernel
+
+
 def _cpu(fn) -> float:
     t0 = time.thread_time()
     fn()
@@ -123,7 +166,11 @@ def _cpu(fn) -> float:
 def against_log(re: np.ndarray, rr: np.ndarray, pairs: int = 15) -> dict[str, float]:
     """friction_factor / np.log and fast / reference kernel, medians of paired CPU times."""
     out, ref = np.empty(re.size), np.empty(re.size)
-    log_ratio, kernel_ratio, per_point = [], [], []
+    log_ratio, kernel_ratio, per_point, compiled_ratio = [], [], [], []
+    compiled = compiled_kernel()
+    if compiled is not None:
+        comp_out = np.empty(re.size)
+        compiled(re[:8], rr[:8], comp_out[:8])  # compile outside the timing
     for _ in range(pairs):
         t_log = _cpu(lambda: np.log(re))
         t_ff = _cpu(lambda: friction_factor(re, rr))
@@ -132,6 +179,8 @@ def against_log(re: np.ndarray, rr: np.ndarray, pairs: int = 15) -> dict[str, fl
         log_ratio.append(t_ff / t_log)
         kernel_ratio.append(t_ref / t_fast)
         per_point.append(t_ff / re.size)
+        if compiled is not None:
+            compiled_ratio.append(_cpu(lambda: compiled(re, rr, comp_out)) / t_log)
     result = {"x np.log": statistics.median(log_ratio),
               "reference kernel / fast kernel": statistics.median(kernel_ratio),
               "ns per point": statistics.median(per_point) * 1e9}
@@ -140,7 +189,20 @@ def against_log(re: np.ndarray, rr: np.ndarray, pairs: int = 15) -> dict[str, fl
           f"{pairs} pairs; target <= 3); fast kernel {result['reference kernel / fast kernel']:.2f}"
           f" x faster than the reference kernel (Clamond's two steps); max rel diff "
           f"{np.max(np.abs(out / ref - 1)):.1e}")
+    if compiled is not None:
+        result["compiled loop x np.log"] = statistics.median(compiled_ratio)
+        print(f"(e) the same algorithm compiled with numba {_numba_version()}: "
+              f"{result['compiled loop x np.log']:.2f} x one np.log (median of {pairs} pairs); "
+              f"max rel diff from friction_factor {np.max(np.abs(comp_out / out - 1)):.1e}")
+    else:
+        print("(e) compiled loop: numba is not installed here, not measured")
     return result
+
+
+def _numba_version() -> str:
+    import numba
+
+    return numba.__version__
 
 
 if __name__ == "__main__":

@@ -266,6 +266,14 @@ def _omega_table() -> tuple[np.ndarray, np.ndarray]:
     return table[0], table[1]
 
 
+@functools.cache
+def _omega_pairs() -> np.ndarray:
+    """:func:`_omega_table` as rows (intercept, slope), so that the kernel gathers a cell's
+    line in one pass (one 8-byte read per point instead of two 4-byte ones)."""
+    c0, c1 = _omega_table()
+    return np.ascontiguousarray(np.stack([c0, c1], axis=1))
+
+
 
 
 def _colebrook_fast_kernel(re: np.ndarray, rr: np.ndarray, out: np.ndarray) -> np.ndarray:
@@ -285,15 +293,16 @@ def _colebrook_fast_kernel(re: np.ndarray, rr: np.ndarray, out: np.ndarray) -> n
     w64 = np.empty((3, m0))
     w32 = np.empty((4, m0), dtype=np.float32)
     wi = np.empty(m0, dtype=np.int32)
+    w_pair = np.empty((m0, 2), dtype=np.float32)
     shift = np.int32(23 - _OMEGA_BITS)
-    c0, c1 = _omega_table()
+    pairs = _omega_pairs()
     for start in range(0, n, _CHUNK):
         stop = min(start + _CHUNK, n)
         m = stop - start
         r, k, o = re[start:stop], rr[start:stop], out[start:stop]
         f, a, g = w64[:, :m]
         r32, x2, z, t = w32[:, :m]
-        idx = wi[:m]
+        idx, pair = wi[:m], w_pair[:m]
         np.multiply(k, r, out=a)
         a *= _CL_X1                       # X1
         # first guess in float32: z' = X1 + ln Re, F0 = ln Re - (ln omega(z' + c) - c)
@@ -302,10 +311,9 @@ def _colebrook_fast_kernel(re: np.ndarray, rr: np.ndarray, out: np.ndarray) -> n
         np.copyto(z, a, casting="unsafe")
         z += x2
         np.right_shift(z.view(np.int32), shift, out=idx)
-        np.take(c1, idx, out=t, mode="clip")
-        t *= z
-        np.take(c0, idx, out=z, mode="clip")
-        t += z
+        np.take(pairs, idx, axis=0, out=pair, mode="clip")  # one gather: the cell's line
+        np.multiply(pair[:, 1], z, out=t)
+        t += pair[:, 0]
         x2 -= t
         np.copyto(f, x2)                  # F0 in float64
         # one Halley step on g(F) = F + ln(a / (Re ln10/5.02)), a = X1 + F:
