@@ -363,9 +363,10 @@ def _cmd_catalog(args: argparse.Namespace) -> int:
     return 0
 
 
-def _add_out(sub: argparse.ArgumentParser, pdf: bool = True) -> None:
-    sub.add_argument("--out", help="folder for the report (HTML, Markdown, workbook, figures, "
-                                   "CSV tables)")
+def _add_out(sub: argparse.ArgumentParser, pdf: bool = True, workbook: bool = True) -> None:
+    sub.add_argument("--out", help="folder for the report (HTML, Markdown, "
+                                   + ("workbook, " if workbook else "")
+                                   + "figures, CSV tables)")
     sub.add_argument("--force", action="store_true",
                      help="replace the result set in a non-empty --out folder (files pipeopt "
                           "did not write stay)")
@@ -416,7 +417,7 @@ def build_parser() -> argparse.ArgumentParser:
                                               "standard input")
     net.add_argument("--demo", action="store_true", help="run the bundled demonstration "
                                                         "network (invented)")
-    _add_out(net, pdf=False)
+    _add_out(net, pdf=False, workbook=False)
     net.add_argument("--quiet", action="store_true", help="no progress bar")
     net.set_defaults(func=_cmd_network)
 
@@ -581,7 +582,7 @@ def _add_programme(sub) -> None:
                            "ADDRESS (e.g. tcp://10.0.0.5:8786)")
     prog.add_argument("--partition-rows", type=int, default=50_000,
                       help="rows per Dask partition (default 50000)")
-    _add_out(prog)
+    _add_out(prog, pdf=False, workbook=False)
     prog.add_argument("--quiet", action="store_true", help="no progress bar")
     prog.add_argument("--progress", action="store_true",
                       help="a progress bar even when stderr is not a terminal")

@@ -503,6 +503,10 @@ class MaterialChoice(InputSection):
         if (self.min_diameter is not None and self.max_diameter is not None
                 and self.min_diameter > self.max_diameter):
             raise InputError(f"{path}: min_diameter is larger than max_diameter")
+        if (isinstance(self.aging, str) and self.aging != "typical"
+                and not any(ch.isdigit() for ch in self.aging)):
+            raise InputError(f"{path}.aging: expected \"typical\" (the catalog's rate) or a "
+                             f"rate with a unit such as '0.02 mm/yr'; got {self.aging!r}")
         if self.aging is not None and self.aging != "typical":
             object.__setattr__(self, "aging", to_quantity(self.aging, "aging_rate",
                                                           f"{path}.aging", low=0.0))

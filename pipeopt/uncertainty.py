@@ -811,12 +811,15 @@ class MonteCarloResult(StudyResult):
         top = self.candidates.head(6)
         lines = [f"Monte Carlo: {self.n} samples (seed {self.seed}); chosen at base: "
                  f"{self.chosen}; EAC and regret in {self.currency or 'currency'}/yr",
-                 f"{'candidate':<30}{'P(cheapest)':>12}{'EAC p05':>13}{'p50':>13}{'p95':>13}"
-                 f"{'regret':>11}"]
+                 f"{'candidate':<30}{'P(cheapest)':>12}{'P(infeasible)':>14}{'EAC p05':>13}"
+                 f"{'p50':>13}{'p95':>13}{'regret':>11}"]
         for _, r in top.iterrows():
             lines.append(f"{r['material'] + ' ' + r['size']:<30}{r['prob_cheapest']:>12.3f}"
+                         f"{r['prob_infeasible']:>14.3f}"
                          f"{r['eac_p05']:>13,.0f}{r['eac_p50']:>13,.0f}{r['eac_p95']:>13,.0f}"
                          f"{r['expected_regret']:>11,.0f}")
+        lines += ["regret: mean EAC above the cheapest feasible candidate, over the samples in "
+                  "which the", "candidate itself is feasible (read it with P(infeasible))"]
         lines.append("Rank correlation of the inputs with the chosen design's EAC:")
         lines += [f"  {r['input']:<30}{r['spearman']:+.3f}"
                   for _, r in self.correlation.iterrows()]

@@ -541,3 +541,16 @@ def test_run_with_growing_flow_prints_the_yearly_sum_by_hand(tmp_path):
     assert _number(r"velocity ([\d.]+) m/s, head", stdout) == pytest.approx(
         0.2 / (math.pi * d * d / 4), abs=0.005)
     assert _number(r"electrical power ([\d.]+) kW", stdout) == pytest.approx(power[1], abs=0.05)
+
+
+@pytest.mark.parametrize("command", ["programme", "network"])
+def test_commands_without_a_pdf_refuse_the_option_and_promise_no_workbook(command, capsys):
+    # their reports have no PDF: --pdf is refused (argparse's exit 2), never silently ignored
+    with pytest.raises(SystemExit) as stop:
+        main([command, "--demo", "--pdf"])
+    assert stop.value.code == 2
+    assert "unrecognized arguments: --pdf" in capsys.readouterr().err
+    with pytest.raises(SystemExit):
+        main([command, "--help"])
+    text = " ".join(capsys.readouterr().out.split())
+    assert "figures, CSV tables" in text and "workbook" not in text

@@ -331,3 +331,22 @@ def test_imperial_gallons_per_minute():
     assert _si("1 imperial_gallon/min", "flow") == pytest.approx(
         float(Fraction("4.54609") / 1000 / 60), rel=1e-15, abs=0)
     assert _si("1 gal/min", "flow") < _si("1 imperial_gallon/min", "flow")   # 231 in^3 < 4.546 L
+
+
+@pytest.mark.parametrize("word", ["Typical", "terrible"])
+def test_a_wrong_word_for_a_material_aging_names_the_choices(word):
+    # a word that is not "typical" gets the two forms the key takes, not a length example
+    import tomllib
+    from importlib import resources
+
+    from pipeopt import SizingStudy
+    from pipeopt.errors import InputError
+
+    data = tomllib.loads(resources.files("pipeopt").joinpath("data", "demo_sizing.toml")
+                         .read_text("utf-8"))
+    data["material"][0]["aging"] = word
+    with pytest.raises(InputError, match=r"material\[0\]\.aging: expected \"typical\".*"
+                                         r"'0\.02 mm/yr'; got '" + word + "'"):
+        SizingStudy.from_dict(data)
+    data["material"][0]["aging"] = "typical"
+    SizingStudy.from_dict(data)  # the word itself is accepted

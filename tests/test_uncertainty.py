@@ -162,6 +162,13 @@ def test_monte_carlo_result_contents():
     assert set(mc.correlation["input"]) == {"discount_rate", "pipe_cost_factor:pe100"}
     assert (mc.candidates["expected_regret"].dropna() >= 0).all()
     assert "Monte Carlo" in mc.text() and "<table" in mc._repr_html_()
+    # the printed table shows each candidate's share of infeasible samples beside its regret
+    # (regret counts only the samples in which the candidate is feasible)
+    top = mc.candidates.iloc[0]
+    row = next(line for line in mc.text().splitlines()
+               if line.startswith(f"{top['material']} {top['size']} "))
+    assert "P(infeasible)" in mc.text()
+    assert row[30:].split()[1] == f"{top['prob_infeasible']:.3f}"
     # the chosen design's EAC rises with the pipe cost factor of its material
     rho = mc.correlation.set_index("input").loc["pipe_cost_factor:pe100", "spearman"]
     assert rho > 0
