@@ -707,6 +707,11 @@ class SizingResult(StudyResult):
                f"km; governing stretch: operating {b['operating_pressure_bar']:.1f} bar within "
                f"PFA {b['pfa_bar']:.1f} bar, MDP {b['mdp_bar']:.1f} bar (surge "
                f"{b['surge_head_m']:.1f} m) within PMA {b['pma_bar']:.1f} bar"]
+        vacuum = [c for c in str(b.get("notes") or "").split("; ")
+                  if c.startswith("sub-atmospheric")]
+        if vacuum:  # an engineering caution, named where the reader looks
+            out.append(f"  caution: {vacuum[0]}; air valves, column separation and the pipe's "
+                       f"resistance to vacuum need an engineer's check")
         for _, r in st.iterrows():
             out.append(f"  {r['station']:<13} {r['chainage_m'] / 1000:6.1f} km  head up to "
                        f"{r['head_max_m']:6.1f} m  peak {r['peak_kw']:7.0f} kW  suction "

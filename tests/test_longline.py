@@ -50,6 +50,11 @@ def test_demo_result(demo):
                  "booster 1", "best with each number of boosters"):
         assert word in text
     assert "continuous optimum" not in text.lower() and res.optimum.empty
+    # the chosen design runs below atmospheric pressure on a stretch: the summary (and so every
+    # report) names that stretch as a caution, exactly as the candidate's notes give it
+    vacuum = [c for c in res.best["notes"].split("; ") if c.startswith("sub-atmospheric")]
+    assert vacuum and f"caution: {vacuum[0]}; air valves" in text
+    assert res.profile["pressure_min_bar"].min() < 0
 
 
 @pytest.mark.reference
