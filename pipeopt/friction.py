@@ -274,8 +274,6 @@ def _omega_pairs() -> np.ndarray:
     return np.ascontiguousarray(np.stack([c0, c1], axis=1))
 
 
-
-
 def _colebrook_fast_kernel(re: np.ndarray, rr: np.ndarray, out: np.ndarray) -> np.ndarray:
     """Colebrook-White with one float64 logarithm per point, in place, block by block.
 
