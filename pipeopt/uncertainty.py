@@ -818,8 +818,8 @@ class MonteCarloResult(StudyResult):
                          f"{r['prob_infeasible']:>14.3f}"
                          f"{r['eac_p05']:>13,.0f}{r['eac_p50']:>13,.0f}{r['eac_p95']:>13,.0f}"
                          f"{r['expected_regret']:>11,.0f}")
-        lines += ["regret: mean EAC above the cheapest feasible candidate, over the samples in "
-                  "which the", "candidate itself is feasible (read it with P(infeasible))"]
+        lines += ["regret: mean EAC above the cheapest feasible candidate, over the samples",
+                  "in which the candidate itself is feasible (read it with P(infeasible))"]
         lines.append("Rank correlation of the inputs with the chosen design's EAC:")
         lines += [f"  {r['input']:<30}{r['spearman']:+.3f}"
                   for _, r in self.correlation.iterrows()]

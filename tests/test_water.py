@@ -80,10 +80,10 @@ def test_random_states_agree_with_coolprop(t, p_bar):
     props = water.liquid_water_properties(t, p)
     assert props["density"] == pytest.approx(CP.PropsSI("D", "T", t, "P", p, "Water"),
                                              rel=1e-12, abs=0)
-    # the IAPWS 2008 viscosity correlation evaluated by two double-precision codes (a sum of
-    # 27 terms times exponentials, at a density that each solved itself): 1.01e-12 was seen at
-    # 385 K, 449 bar, so the bound is 5e-12 (still four orders below the correlation's own
-    # uncertainty)
+    # the IAPWS 2008 viscosity correlation evaluated by two double-precision codes (the exponential
+    # of a 21-term double sum times the 4-term dilute part, at a density each solved itself):
+    # 1.01e-12 was seen at 385 K, 449 bar, so the bound is 5e-12, still some nine orders below the
+    # correlation's own uncertainty (of order 1 % in the liquid, from memory)
     assert props["viscosity"] == pytest.approx(CP.PropsSI("V", "T", t, "P", p, "Water"),
                                                rel=5e-12, abs=0)
 
